@@ -2,13 +2,13 @@
 
 namespace plumb {
 
-std::string Diagnostic::Format() const {
+std::string Diagnostic::Format(const char* severity) const {
   std::string out = pos.file.empty() ? std::string("<input>") : pos.file;
   if (pos.line > 0) {
     out += ":" + std::to_string(pos.line);
     if (pos.column > 0) out += ":" + std::to_string(pos.column);
   }
-  out += ": error: " + message;
+  out += std::string(": ") + severity + ": " + message;
   if (!hint.empty()) out += "; " + hint;
   return out;
 }

@@ -22,8 +22,9 @@ struct Diagnostic {
   std::string message;  // what is wrong, e.g. "unknown key 'anwsers'"
   std::string hint;     // what to do, e.g. "did you mean 'answers'?"; may be empty
 
-  /// "file:line:column: error: message; hint" (the gcc convention editors understand).
-  std::string Format() const;
+  /// "file:line:column: error: message; hint" (the gcc convention editors understand);
+  /// `severity` replaces "error" for warnings.
+  std::string Format(const char* severity = "error") const;
 };
 
 using Diagnostics = std::vector<Diagnostic>;

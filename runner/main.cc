@@ -1,1 +1,103 @@
-int main() { return 0; }
+// plumb: the command-line entry point. Parses arguments with CLI11 and hands each command its
+// plain options struct; every command returns the process exit code (SPEC §8).
+
+#include <cstdio>
+#include <string>
+#include <vector>
+
+#include <CLI/CLI.hpp>
+
+#include "runner/check_command.h"
+#include "runner/exit_code.h"
+#include "runner/run_command.h"
+#include "runner/run_record.h"
+#include "runner/score_command.h"
+
+namespace {
+
+bool ParseLabels(const std::vector<std::string>& raw, std::map<std::string, std::string>* out) {
+  for (const std::string& text : raw) {
+    std::string key, value, error;
+    if (!plumb::ParseLabel(text, &key, &value, &error)) {
+      std::fprintf(stderr, "plumb: %s\n", error.c_str());
+      return false;
+    }
+    (*out)[key] = value;
+  }
+  return true;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  CLI::App app{"plumb: offline evaluation and regression runner for document-grounded QA"};
+  app.set_version_flag("--version", std::string("plumb ") + PLUMB_VERSION);
+  app.require_subcommand(1);
+
+  plumb::RunOptions run;
+  std::vector<std::string> run_labels;
+  std::string shard;
+  CLI::App* run_cmd = app.add_subcommand("run", "Run a suite against one or more pipelines");
+  run_cmd->add_option("SUITE", run.suite_path, "Suite file (YAML)")->required();
+  run_cmd->add_option("--pipeline", run.pipelines,
+                      "Pipeline to run (repeatable; default: the suite's first)");
+  run_cmd->add_option("--pipelines", run.pipelines_file,
+                      "YAML file whose `pipelines:` replace the suite's");
+  run_cmd->add_option("--out", run.out_dir,
+                      "Run directory (with several pipelines: one subdirectory each)");
+  run_cmd->add_option("--jobs", run.jobs, "Concurrent calls (default: the pipeline's jobs, or 1)")
+      ->check(CLI::PositiveNumber);
+  run_cmd->add_option("--repeat", run.repeat, "Send each case K times")->check(CLI::PositiveNumber);
+  run_cmd->add_flag("--resume", run.resume, "Continue an interrupted run in the same directory");
+  run_cmd->add_option("--tag", run.selection.tags, "Only cases with this tag (repeatable)");
+  run_cmd->add_option("--case", run.selection.id_globs, "Only cases whose id matches (glob)");
+  run_cmd->add_option("--limit", run.selection.limit, "At most N cases")
+      ->check(CLI::NonNegativeNumber);
+  run_cmd->add_option("--shard", shard, "Shard I of N (I/N), by a stable hash of the case id");
+  run_cmd->add_option("--label", run_labels, "Label the run, KEY=VALUE (repeatable)");
+  run_cmd->add_flag("--json", run.json, "Print the run record as JSON on stdout");
+
+  plumb::ScoreOptions score;
+  std::vector<std::string> score_labels;
+  CLI::App* score_cmd =
+      app.add_subcommand("score", "Score recorded replies (JSON lines) without a pipeline");
+  score_cmd->add_option("SUITE", score.suite_path, "Suite file (YAML)")->required();
+  score_cmd->add_option("PREDICTIONS", score.predictions_path, "Replies, one JSON object a line")
+      ->required();
+  score_cmd->add_option("--out", score.out_dir, "Write cases.jsonl and run.json here");
+  score_cmd->add_option("--label", score_labels, "Label the run, KEY=VALUE (repeatable)");
+  score_cmd->add_flag("--json", score.json, "Print the run record as JSON on stdout");
+
+  plumb::CheckOptions check;
+  CLI::App* check_cmd =
+      app.add_subcommand("check", "Validate a suite: keys, quotes, offsets; runs nothing");
+  check_cmd->add_option("SUITE", check.suite_path, "Suite file (YAML)")->required();
+  check_cmd->add_option("--pipelines", check.pipelines_file,
+                        "YAML file whose `pipelines:` replace the suite's");
+  check_cmd->add_flag("--json", check.json, "Print the result as JSON on stdout");
+
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::ParseError& e) {
+    const int code = app.exit(e);
+    return code == 0 ? 0 : plumb::kExitUsage;
+  }
+
+  if (*run_cmd) {
+    if (!shard.empty()) {
+      std::string error;
+      if (!plumb::ParseShard(shard, &run.selection.shard, &error)) {
+        std::fprintf(stderr, "plumb: %s\n", error.c_str());
+        return plumb::kExitUsage;
+      }
+    }
+    if (!ParseLabels(run_labels, &run.labels)) return plumb::kExitUsage;
+    return plumb::RunCommand(run);
+  }
+  if (*score_cmd) {
+    if (!ParseLabels(score_labels, &score.labels)) return plumb::kExitUsage;
+    return plumb::ScoreCommand(score);
+  }
+  if (*check_cmd) return plumb::CheckCommand(check);
+  return plumb::kExitUsage;
+}

@@ -1,0 +1,46 @@
+#ifndef PLUMB_RUNNER_CASE_RECORD_H_
+#define PLUMB_RUNNER_CASE_RECORD_H_
+
+/// CaseRecord is one finished (case, repeat): what was sent, what came back, and its scores. It
+/// is the unit of the run journal (cases.jsonl, SPEC §9); reports and drift read records back.
+/// The reply is kept bounded: the raw body only up to kMaxRecordedBody bytes, an excerpt beyond.
+
+#include <cstdint>
+#include <string>
+
+#include <nlohmann/json.hpp>
+
+#include "runner/adapter.h"
+#include "runner/case_scores.h"
+#include "runner/response.h"
+
+namespace plumb {
+
+/// Raw reply bodies larger than this are journaled as an excerpt (the parsed answer, citations
+/// and retrieved list are journaled in full either way).
+inline constexpr size_t kMaxRecordedBody = 64 * 1024;
+
+struct CaseRecord {
+  std::string id;
+  int repeat = 0;
+  nlohmann::json request;
+  nlohmann::json response;  // the parsed reply, or {"excerpt", "bytes"} when large or invalid
+  Response parsed;          // empty when the call errored
+  double latency_ms = 0;
+  int attempts = 1;
+  std::string error;  // empty when the reply was valid
+  std::string stdout_excerpt;
+  std::string stderr_excerpt;
+  CaseScores scores;
+};
+
+nlohmann::json CaseRecordToJson(const CaseRecord& record);
+/// Reads a record written by CaseRecordToJson; false with a reason when fields are missing.
+bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* record, std::string* error);
+
+/// The journal's "response" value for a raw reply body (bounded, see kMaxRecordedBody).
+nlohmann::json RecordedBody(const std::string& body, const nlohmann::json* parsed);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_CASE_RECORD_H_

@@ -1,0 +1,140 @@
+#include "runner/case_scorer.h"
+
+#include "metrics/citation_metrics.h"
+#include "metrics/number_match.h"
+#include "metrics/retrieval_metrics.h"
+
+namespace plumb {
+namespace {
+
+std::vector<metrics::GoldSpanRef> GoldRefs(const Case& c) {
+  std::vector<metrics::GoldSpanRef> gold;
+  gold.reserve(c.sources.size());
+  for (const GoldSpan& span : c.sources) gold.push_back({span.doc, span.start, span.end});
+  return gold;
+}
+
+std::vector<metrics::CitedRef> CitedRefs(const std::vector<SourceRef>& refs) {
+  std::vector<metrics::CitedRef> out;
+  out.reserve(refs.size());
+  for (const SourceRef& ref : refs) out.push_back({ref.doc, ref.start, ref.end, ref.quote});
+  return out;
+}
+
+void ScoreErroredCase(const Case& c, CaseScores* scores) {
+  scores->errored = true;
+  scores->values["exact_match"] = 0;
+  scores->values["token_f1"] = 0;
+  scores->values["correct"] = 0;
+  if (!c.patterns.empty()) scores->values["pattern_match"] = 0;
+  if (c.number) scores->values["number_match"] = 0;
+  if (!c.sources.empty()) {
+    scores->values["citation_recall"] = 0;
+    scores->values["citation_f1"] = 0;
+  }
+  // Retrieval metrics stay undefined: whether the pipeline retrieves at all is unknown here.
+}
+
+}  // namespace
+
+std::unique_ptr<CaseScorer> CaseScorer::Create(const Suite& suite, Corpus* corpus,
+                                               std::string* error) {
+  std::unique_ptr<CaseScorer> scorer(new CaseScorer(suite, corpus));
+  scorer->prepared_.resize(suite.cases.size());
+  for (size_t i = 0; i < suite.cases.size(); ++i) {
+    const Case& c = suite.cases[i];
+    PreparedCase& prepared = scorer->prepared_[i];
+    prepared.gold = metrics::NormalizeGold(c.answers, suite.normalize, suite.lang);
+    if (!c.patterns.empty()) {
+      std::string pattern_error;
+      if (!metrics::PatternSet::Compile(c.patterns, &prepared.patterns, &pattern_error)) {
+        *error = "case '" + c.id + "': " + pattern_error;
+        return nullptr;
+      }
+      prepared.has_patterns = true;
+    }
+  }
+  return scorer;
+}
+
+const std::string* CaseScorer::DocumentText(const std::string& doc) const {
+  if (corpus_ == nullptr) return nullptr;
+  std::lock_guard<std::mutex> lock(corpus_mutex_);
+  std::string error;
+  const Document* document = corpus_->Get(doc, &error);
+  return document == nullptr ? nullptr : &document->text;
+}
+
+bool CaseScorer::Passes(const CaseScores& scores) const {
+  if (scores.errored) return false;
+  for (const auto& [metric, minimum] : suite_.case_pass) {
+    auto it = scores.values.find(metric);
+    // A minimum on a metric the case does not define (citation_recall on a case without gold
+    // spans) does not apply to it.
+    if (it != scores.values.end() && it->second < minimum) return false;
+  }
+  return true;
+}
+
+CaseScores CaseScorer::Score(size_t case_index, const Response* response) const {
+  const Case& c = suite_.cases[case_index];
+  const PreparedCase& prepared = prepared_[case_index];
+  CaseScores scores;
+  scores.abstention_case = c.answers.empty();
+  if (response == nullptr) {
+    ScoreErroredCase(c, &scores);
+    return scores;
+  }
+
+  const metrics::AnswerScores answer =
+      metrics::ScoreAnswer(response->answer, prepared.gold, suite_.normalize, suite_.lang);
+  scores.values["exact_match"] = answer.exact_match;
+  scores.values["token_f1"] = answer.token_f1;
+  scores.abstained = response->abstained ||
+                     metrics::NormalizeTokens(response->answer.value_or(std::string()),
+                                              suite_.normalize, suite_.lang)
+                         .empty();
+
+  double correct = answer.exact_match;
+  const std::string raw_answer = response->answer.value_or(std::string());
+  if (prepared.has_patterns) {
+    const double pattern = !response->abstained && prepared.patterns.AnyMatch(raw_answer) ? 1 : 0;
+    scores.values["pattern_match"] = pattern;
+    correct = std::max(correct, pattern);
+  }
+  if (c.number) {
+    const double number =
+        !response->abstained &&
+                metrics::NumberMatches(raw_answer, c.number->value, c.number->tolerance)
+            ? 1
+            : 0;
+    scores.values["number_match"] = number;
+    correct = std::max(correct, number);
+  }
+  scores.values["correct"] = correct;
+
+  const metrics::DocumentLookup lookup = [this](const std::string& doc) {
+    return DocumentText(doc);
+  };
+  const std::vector<metrics::GoldSpanRef> gold = GoldRefs(c);
+  const metrics::CitationScores citations =
+      metrics::ScoreCitations(CitedRefs(response->citations), gold, suite_.min_overlap, lookup);
+  if (citations.precision) scores.values["citation_precision"] = *citations.precision;
+  if (citations.recall) scores.values["citation_recall"] = *citations.recall;
+  if (citations.f1) scores.values["citation_f1"] = *citations.f1;
+  scores.warnings = citations.warnings;
+
+  if (response->has_retrieved && !gold.empty()) {
+    const metrics::RetrievalScores retrieval =
+        metrics::ScoreRetrieval(CitedRefs(response->retrieved), gold, suite_.retrieval_k,
+                                suite_.min_overlap, lookup);
+    for (const auto& [k, recall] : retrieval.recall_at) {
+      scores.values["recall@" + std::to_string(k)] = recall;
+    }
+    if (retrieval.mrr) scores.values["mrr"] = *retrieval.mrr;
+  }
+  scores.pass = Passes(scores);
+  return scores;
+}
+
+}  // namespace plumb

@@ -1,0 +1,244 @@
+#include "runner/run_aggregates.h"
+
+#include <algorithm>
+#include <map>
+#include <set>
+
+namespace plumb {
+namespace {
+
+// 0/1 per case (before averaging over repeats): summarized with a Wilson interval.
+bool IsBinaryMetric(const std::string& metric) {
+  static const std::set<std::string> kBinary = {"exact_match", "correct", "pattern_match",
+                                                "number_match", "pass_rate", "error_rate"};
+  return kBinary.count(metric) > 0;
+}
+
+std::vector<std::string> DisplayOrder(const Suite& suite) {
+  std::vector<std::string> order = {"correct",           "exact_match",     "token_f1",
+                                    "pattern_match",     "number_match",    "citation_precision",
+                                    "citation_recall",   "citation_f1"};
+  for (int k : suite.retrieval_k) order.push_back("recall@" + std::to_string(k));
+  order.insert(order.end(),
+               {"mrr", "pass_rate", "abstain_precision", "abstain_recall", "error_rate"});
+  return order;
+}
+
+/// Per-case values of every metric, averaged over the case's repeats.
+struct CaseValues {
+  std::map<std::string, double> sum;
+  std::map<std::string, int> count;
+  int repeats = 0;
+  int passes = 0;
+  int errors = 0;
+  int abstentions = 0;  // repeats on which the reply abstained
+};
+
+void Add(CaseValues* v, const std::string& metric, double value) {
+  v->sum[metric] += value;
+  v->count[metric] += 1;
+}
+
+std::vector<MetricAggregate> Summarize(const Suite& suite,
+                                       const std::vector<const CaseValues*>& cases,
+                                       const std::vector<bool>& abstention_case) {
+  std::map<std::string, std::vector<double>> values;
+  int64_t abstained = 0, abstained_right = 0, abstention_cases = 0, abstention_cases_hit = 0;
+  for (size_t i = 0; i < cases.size(); ++i) {
+    const CaseValues& v = *cases[i];
+    for (const auto& [metric, sum] : v.sum) values[metric].push_back(sum / v.count.at(metric));
+    values["pass_rate"].push_back(static_cast<double>(v.passes) / v.repeats);
+    values["error_rate"].push_back(static_cast<double>(v.errors) / v.repeats);
+    // Abstention rates count every (case, repeat): each repeat is one decision to abstain.
+    abstained += v.abstentions;
+    if (abstention_case[i]) {
+      abstained_right += v.abstentions;
+      abstention_cases += v.repeats;
+      abstention_cases_hit += v.abstentions;
+    }
+  }
+  std::vector<MetricAggregate> out;
+  for (const std::string& metric : DisplayOrder(suite)) {
+    if (metric == "abstain_precision" || metric == "abstain_recall") {
+      const int64_t hits = metric == "abstain_precision" ? abstained_right : abstention_cases_hit;
+      const int64_t n = metric == "abstain_precision" ? abstained : abstention_cases;
+      if (n == 0) continue;
+      metrics::MetricSummary s;
+      s.mean = static_cast<double>(hits) / n;
+      s.n = n;
+      s.interval = metrics::WilsonInterval(hits, n);
+      s.wilson = true;
+      out.push_back({metric, s});
+      continue;
+    }
+    auto it = values.find(metric);
+    if (it == values.end() || it->second.empty()) continue;
+    out.push_back({metric, metrics::SummarizeMetric(it->second, IsBinaryMetric(metric))});
+  }
+  return out;
+}
+
+}  // namespace
+
+const metrics::MetricSummary* RunAggregates::Find(const std::string& metric,
+                                                  const std::string& tag) const {
+  const std::vector<MetricAggregate>* list = &metrics;
+  if (!tag.empty()) {
+    auto it = std::find_if(tags.begin(), tags.end(),
+                           [&](const TagAggregate& t) { return t.tag == tag; });
+    if (it == tags.end()) return nullptr;
+    list = &it->metrics;
+  }
+  for (const MetricAggregate& m : *list) {
+    if (m.metric == metric) return &m.summary;
+  }
+  return nullptr;
+}
+
+RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& outcomes) {
+  RunAggregates run;
+  std::map<size_t, CaseValues> per_case;
+  std::map<size_t, std::set<bool>> pass_outcomes;
+  std::vector<double> latencies;
+  for (const CaseOutcome& o : outcomes) {
+    CaseValues& v = per_case[o.case_index];
+    for (const auto& [metric, value] : o.scores.values) Add(&v, metric, value);
+    v.repeats += 1;
+    v.passes += o.scores.pass ? 1 : 0;
+    v.errors += o.scores.errored ? 1 : 0;
+    v.abstentions += o.scores.abstained && !o.scores.errored ? 1 : 0;
+    pass_outcomes[o.case_index].insert(o.scores.pass);
+    run.items += 1;
+    run.errored += o.scores.errored ? 1 : 0;
+    // Latency of a failed call measures the failure (often the timeout), not the pipeline.
+    if (!o.scores.errored) latencies.push_back(o.latency_ms);
+    run.input_tokens += o.input_tokens;
+    run.output_tokens += o.output_tokens;
+  }
+  run.cases = static_cast<int64_t>(per_case.size());
+  run.latency = metrics::SummarizeLatency(latencies);
+
+  std::vector<const CaseValues*> all;
+  std::vector<bool> all_abstention;
+  std::map<std::string, std::pair<std::vector<const CaseValues*>, std::vector<bool>>> by_tag;
+  for (const auto& [index, values] : per_case) {
+    const Case& c = suite.cases[index];
+    all.push_back(&values);
+    all_abstention.push_back(c.answers.empty());
+    if (values.passes == values.repeats) run.passed += 1;
+    if (pass_outcomes[index].size() > 1) run.unstable_cases.push_back(c.id);
+    for (const std::string& tag : c.tags) {
+      by_tag[tag].first.push_back(&values);
+      by_tag[tag].second.push_back(c.answers.empty());
+    }
+  }
+  run.metrics = Summarize(suite, all, all_abstention);
+  for (const auto& [tag, members] : by_tag) {
+    TagAggregate t;
+    t.tag = tag;
+    t.cases = static_cast<int64_t>(members.first.size());
+    t.metrics = Summarize(suite, members.first, members.second);
+    run.tags.push_back(std::move(t));
+  }
+  return run;
+}
+
+bool IsCeilingMetric(const std::string& metric) {
+  return metric == "error_rate" || metric == "latency_p50_ms" || metric == "latency_p95_ms";
+}
+
+namespace {
+
+std::optional<double> ThresholdValue(const RunAggregates& run, const std::string& metric,
+                                     const std::string& tag) {
+  if (tag.empty() && metric == "latency_p50_ms") {
+    if (run.latency.n == 0) return std::nullopt;
+    return run.latency.p50;
+  }
+  if (tag.empty() && metric == "latency_p95_ms") {
+    if (run.latency.n == 0) return std::nullopt;
+    return run.latency.p95;
+  }
+  const metrics::MetricSummary* s = run.Find(metric, tag);
+  if (s == nullptr) return std::nullopt;
+  return s->mean;
+}
+
+}  // namespace
+
+std::vector<ThresholdOutcome> EvaluateThresholds(const Thresholds& thresholds,
+                                                 const RunAggregates& run) {
+  std::vector<ThresholdOutcome> out;
+  auto evaluate = [&](const std::string& tag, const std::string& metric, double limit) {
+    ThresholdOutcome t;
+    t.tag = tag;
+    t.metric = metric;
+    t.limit = limit;
+    t.ceiling = IsCeilingMetric(metric);
+    t.value = ThresholdValue(run, metric, tag);
+    // A floor nothing measured cannot be said to hold.
+    t.held = t.value.has_value() && (t.ceiling ? *t.value <= limit : *t.value >= limit);
+    out.push_back(t);
+  };
+  for (const auto& [metric, limit] : thresholds.metrics) evaluate("", metric, limit);
+  for (const auto& [tag, floors] : thresholds.tags) {
+    for (const auto& [metric, limit] : floors) evaluate(tag, metric, limit);
+  }
+  return out;
+}
+
+namespace {
+
+nlohmann::json SummaryToJson(const metrics::MetricSummary& s) {
+  return {{"mean", s.mean},
+          {"n", s.n},
+          {"interval", {s.interval.low, s.interval.high}},
+          {"interval_method", s.wilson ? "wilson" : "bootstrap"}};
+}
+
+nlohmann::json MetricsToJson(const std::vector<MetricAggregate>& list) {
+  nlohmann::json out = nlohmann::json::object();
+  for (const MetricAggregate& m : list) out[m.metric] = SummaryToJson(m.summary);
+  return out;
+}
+
+}  // namespace
+
+nlohmann::json AggregatesToJson(const RunAggregates& run) {
+  nlohmann::json tags = nlohmann::json::object();
+  for (const TagAggregate& t : run.tags) {
+    tags[t.tag] = {{"cases", t.cases}, {"metrics", MetricsToJson(t.metrics)}};
+  }
+  const metrics::LatencySummary& l = run.latency;
+  return {{"cases", run.cases},
+          {"items", run.items},
+          {"errored", run.errored},
+          {"passed", run.passed},
+          {"metrics", MetricsToJson(run.metrics)},
+          {"tags", tags},
+          {"latency_ms",
+           {{"n", l.n},
+            {"p50", l.p50},
+            {"p90", l.p90},
+            {"p95", l.p95},
+            {"p99", l.p99},
+            {"mean", l.mean},
+            {"max", l.max}}},
+          {"usage", {{"input_tokens", run.input_tokens}, {"output_tokens", run.output_tokens}}},
+          {"unstable_cases", run.unstable_cases}};
+}
+
+nlohmann::json ThresholdsToJson(const std::vector<ThresholdOutcome>& outcomes) {
+  nlohmann::json out = nlohmann::json::array();
+  for (const ThresholdOutcome& t : outcomes) {
+    out.push_back({{"tag", t.tag.empty() ? nlohmann::json(nullptr) : nlohmann::json(t.tag)},
+                   {"metric", t.metric},
+                   {"limit", t.limit},
+                   {"kind", t.ceiling ? "ceiling" : "floor"},
+                   {"value", t.value ? nlohmann::json(*t.value) : nlohmann::json(nullptr)},
+                   {"held", t.held}});
+  }
+  return out;
+}
+
+}  // namespace plumb

@@ -1,0 +1,55 @@
+#ifndef PLUMB_RUNNER_RUN_RECORD_H_
+#define PLUMB_RUNNER_RUN_RECORD_H_
+
+/// The run record, DIR/run.json (SPEC §9): everything needed to read, compare and trust a run
+/// later without the pipeline: tool version, suite name and hash, per-case gold hashes and gold
+/// span fingerprints, corpus fingerprint, pipeline config with secrets as "***", labels, times,
+/// shard, aggregates, thresholds and the verdict. It is also what `--json` prints.
+
+#include <map>
+#include <string>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "runner/case_selection.h"
+#include "runner/exit_code.h"
+#include "runner/run_aggregates.h"
+#include "runner/suite.h"
+
+namespace plumb {
+
+struct RunContext {
+  const Suite* suite = nullptr;
+  std::vector<size_t> selected;  // indices into suite->cases
+  std::string pipeline_name;     // "predictions" for `plumb score`
+  nlohmann::json pipeline_config;
+  std::string corpus_fingerprint;  // empty without a corpus
+  std::map<std::string, std::string> labels;
+  std::string started_at;  // ISO 8601 UTC
+  std::string finished_at;
+  Shard shard;
+  int repeat = 1;
+  int jobs = 1;
+  bool resumed = false;
+};
+
+nlohmann::json BuildRunRecord(const RunContext& context, const RunAggregates& aggregates,
+                              const std::vector<ThresholdOutcome>& thresholds,
+                              const RunVerdict& verdict);
+
+/// Writes `contents` to `path` through a temporary file in the same directory and rename(2),
+/// so readers see the old file or the new one, never half of one.
+bool WriteFileAtomically(const std::string& path, const std::string& contents,
+                         std::string* error);
+
+/// The current time as "2026-12-01T22:03:56Z".
+std::string NowIso8601();
+
+/// Parses "key=value" (the key non-empty); false with a sentence otherwise.
+bool ParseLabel(const std::string& text, std::string* key, std::string* value,
+                std::string* error);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_RUN_RECORD_H_

@@ -1,0 +1,31 @@
+#ifndef PLUMB_RUNNER_RUN_SUMMARY_H_
+#define PLUMB_RUNNER_RUN_SUMMARY_H_
+
+/// The last stage of `plumb run` and `plumb score`: outcomes -> aggregates -> thresholds ->
+/// verdict, then run.json (when the run has a directory) and the summary on stdout (the table,
+/// or with --json nothing: the caller prints the record). Returns the run's verdict.
+
+#include <string>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "runner/exit_code.h"
+#include "runner/run_record.h"
+#include "runner/scheduler.h"
+
+namespace plumb {
+
+struct FinishedRun {
+  RunVerdict verdict;
+  nlohmann::json record;  // the run.json contents
+};
+
+/// `run_dir` empty: no run.json is written. `seconds` is the wall time shown in the table.
+bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, bool interrupted,
+               const std::string& run_dir, bool json, double seconds, FinishedRun* finished,
+               std::string* error);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_RUN_SUMMARY_H_

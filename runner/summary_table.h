@@ -1,0 +1,34 @@
+#ifndef PLUMB_RUNNER_SUMMARY_TABLE_H_
+#define PLUMB_RUNNER_SUMMARY_TABLE_H_
+
+/// The terminal summary a person reads after `plumb run` / `plumb score`: one row per metric
+/// (mean, 95% interval, n, threshold and whether it held), latency percentiles, a compact
+/// per-tag table, and, last, the verdict line with the exit code and its reason. Colour only
+/// when writing to a terminal and NO_COLOR is unset (https://no-color.org convention).
+
+#include <cstdio>
+#include <string>
+#include <vector>
+
+#include "runner/exit_code.h"
+#include "runner/run_aggregates.h"
+
+namespace plumb {
+
+struct SummaryHeader {
+  std::string suite;
+  std::string pipeline;
+  double seconds = 0;
+  int repeat = 1;
+};
+
+std::string FormatSummary(const SummaryHeader& header, const RunAggregates& aggregates,
+                          const std::vector<ThresholdOutcome>& thresholds,
+                          const RunVerdict& verdict, bool colour);
+
+/// True when `stream` is a terminal and NO_COLOR is unset or empty.
+bool UseColour(std::FILE* stream);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_SUMMARY_TABLE_H_
