@@ -1,0 +1,160 @@
+// Prints plumb_metrics' statistics for inputs read from stdin, one command per line, so
+// statistics_reference.py can recompute each value with numpy, scipy and statsmodels. Numbers
+// travel as shortest round-trip decimal text on the way in (Python's repr) and as %.17g on the
+// way out, so no value changes in transit. Commands (counts precede the lists they size):
+//   quantile P                               -> NormalQuantile(P)
+//   wilson SUCCESSES N CONFIDENCE            -> low high
+//   percentile P N V...                      -> PercentileSorted(sorted V, P)
+//   latency N V...                           -> n p50 p90 p95 p99 mean max
+//   metric BINARY RESAMPLES SEED N V...      -> mean n low high wilson
+//   bootstrap RESAMPLES SEED CONFIDENCE N V...  -> low high
+//   draw SEED BOUND COUNT                    -> COUNT values of
+//   SeededRandom(SEED).UniformIndex(BOUND) next SEED COUNT                          -> COUNT values
+//   of SeededRandom(SEED).Next() mcnemar B C                              -> p wilcoxon N D... -> p
+//   holm N P...                              -> adjusted p-values
+//   delta RESAMPLES SEED CONFIDENCE N BASE... CAND...       -> delta low high
+//   ratio P RESAMPLES SEED CONFIDENCE N BASE... CAND...     -> ratio low high
+//   mde BINARY ALPHA POWER N D...            -> minimum detectable effect
+#include <algorithm>
+#include <cinttypes>
+#include <cstdio>
+#include <cstdlib>
+#include <iostream>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include "metrics/detectable_effect.h"
+#include "metrics/interval.h"
+#include "metrics/metric_summary.h"
+#include "metrics/paired_bootstrap.h"
+#include "metrics/paired_tests.h"
+#include "metrics/percentile.h"
+#include "metrics/seeded_random.h"
+
+namespace {
+
+using namespace plumb::metrics;
+
+double ReadDouble(std::istream& in) {
+  std::string text;
+  in >> text;
+  return std::strtod(text.c_str(), nullptr);
+}
+
+std::vector<double> ReadCount(std::istream& in, size_t n) {
+  std::vector<double> values(n);
+  for (double& v : values) v = ReadDouble(in);
+  return values;
+}
+
+// A count followed by that many values.
+std::vector<double> ReadValues(std::istream& in) {
+  size_t n = 0;
+  in >> n;
+  return ReadCount(in, n);
+}
+
+void Print(const std::vector<double>& values) {
+  for (size_t i = 0; i < values.size(); ++i) std::printf(i ? " %.17g" : "%.17g", values[i]);
+  std::printf("\n");
+}
+
+bool Run(const std::string& line) {
+  std::istringstream in(line);
+  std::string command;
+  in >> command;
+  if (command == "quantile") {
+    Print({NormalQuantile(ReadDouble(in))});
+  } else if (command == "wilson") {
+    int64_t successes = 0, n = 0;
+    in >> successes >> n;
+    const Interval interval = WilsonInterval(successes, n, ReadDouble(in));
+    Print({interval.low, interval.high});
+  } else if (command == "percentile") {
+    const double p = ReadDouble(in);
+    std::vector<double> values = ReadValues(in);
+    std::sort(values.begin(), values.end());
+    Print({PercentileSorted(values, p)});
+  } else if (command == "latency") {
+    const LatencySummary s = SummarizeLatency(ReadValues(in));
+    Print({static_cast<double>(s.n), s.p50, s.p90, s.p95, s.p99, s.mean, s.max});
+  } else if (command == "metric") {
+    int binary = 0, resamples = 0;
+    uint64_t seed = 0;
+    in >> binary >> resamples >> seed;
+    const MetricSummary s = SummarizeMetric(ReadValues(in), binary != 0, resamples, seed);
+    Print(
+        {s.mean, static_cast<double>(s.n), s.interval.low, s.interval.high, s.wilson ? 1.0 : 0.0});
+  } else if (command == "bootstrap") {
+    int resamples = 0;
+    uint64_t seed = 0;
+    in >> resamples >> seed;
+    const double confidence = ReadDouble(in);
+    const Interval interval = PercentileBootstrapMean(ReadValues(in), resamples, seed, confidence);
+    Print({interval.low, interval.high});
+  } else if (command == "draw" || command == "next") {
+    uint64_t seed = 0, bound = 0, count = 0;
+    in >> seed;
+    if (command == "draw") in >> bound;
+    in >> count;
+    SeededRandom random(seed);
+    for (uint64_t i = 0; i < count; ++i) {
+      const uint64_t value = command == "draw" ? random.UniformIndex(bound) : random.Next();
+      std::printf(i ? " %" PRIu64 : "%" PRIu64, value);
+    }
+    std::printf("\n");
+  } else if (command == "mcnemar") {
+    int64_t b = 0, c = 0;
+    in >> b >> c;
+    Print({McNemarExactP(b, c)});
+  } else if (command == "wilcoxon") {
+    Print({WilcoxonSignedRankP(ReadValues(in))});
+  } else if (command == "holm") {
+    Print(HolmAdjust(ReadValues(in)));
+  } else if (command == "delta" || command == "ratio") {
+    const double p = command == "ratio" ? ReadDouble(in) : 0;
+    int resamples = 0;
+    uint64_t seed = 0;
+    size_t n = 0;
+    in >> resamples >> seed;
+    const double confidence = ReadDouble(in);
+    in >> n;
+    const std::vector<double> base = ReadCount(in, n);
+    const std::vector<double> cand = ReadCount(in, n);
+    if (command == "delta") {
+      const PairedBootstrapResult r =
+          PairedBootstrapMeanDelta(base, cand, resamples, seed, confidence);
+      Print({r.delta, r.interval.low, r.interval.high});
+    } else {
+      const RatioResult r =
+          PairedBootstrapQuantileRatio(base, cand, p, resamples, seed, confidence);
+      Print({r.ratio, r.interval.low, r.interval.high});
+    }
+  } else if (command == "mde") {
+    int binary = 0;
+    in >> binary;
+    const double alpha = ReadDouble(in);
+    const double power = ReadDouble(in);
+    Print({MinimumDetectableEffect(ReadValues(in), binary != 0, alpha, power)});
+  } else {
+    std::fprintf(stderr, "statistics_driver: unknown command '%s'\n", command.c_str());
+    return false;
+  }
+  return !in.fail();
+}
+
+}  // namespace
+
+int main() {
+  std::string line;
+  while (std::getline(std::cin, line)) {
+    if (line.empty()) continue;
+    if (!Run(line)) {
+      std::fprintf(stderr, "statistics_driver: cannot read the command: %s\n", line.c_str());
+      return 2;
+    }
+    std::fflush(stdout);
+  }
+  return 0;
+}
