@@ -96,8 +96,7 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
   const int jobs = options.jobs > 0 ? options.jobs : (pipeline.jobs > 0 ? pipeline.jobs : 1);
   std::unique_ptr<Adapter> adapter = CreateAdapter(pipeline, jobs, &error);
   if (adapter == nullptr) {
-    std::fprintf(stderr, "%s: error: pipeline '%s': %s\n", suite.path.c_str(),
-                 pipeline.name.c_str(), error.c_str());
+    std::fprintf(stderr, "%s: error: %s\n", suite.path.c_str(), error.c_str());
     return kExitUsage;
   }
   std::unique_ptr<RunJournal> journal = RunJournal::Open(journal_path, resume.keep_bytes, &error);

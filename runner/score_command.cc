@@ -15,13 +15,17 @@
 namespace plumb {
 namespace {
 
+/// Where a prediction's line is in the file: replies are read back one at a time while
+/// scoring, so memory grows with the number of cases, not with the size of the replies.
 struct Prediction {
-  std::string line;
+  std::streamoff offset = 0;
+  size_t length = 0;
   double latency_ms = 0;
 };
 
 /// Reads every prediction, keyed by (id, repeat). False after printing every bad line.
-bool ReadPredictions(const std::string& path, std::map<std::pair<std::string, int>, Prediction>* out) {
+bool ReadPredictions(const std::string& path,
+                     std::map<std::pair<std::string, int>, Prediction>* out) {
   std::ifstream in(path, std::ios::binary);
   if (!in) {
     std::fprintf(stderr, "plumb: cannot read predictions file %s\n", path.c_str());
@@ -30,6 +34,7 @@ bool ReadPredictions(const std::string& path, std::map<std::pair<std::string, in
   std::string line;
   int line_number = 0;
   int problems = 0;
+  std::streamoff offset = 0;
   auto problem = [&](int column, const std::string& message) {
     std::fprintf(stderr, "%s:%d:%d: error: %s\n", path.c_str(), line_number, column,
                  message.c_str());
@@ -37,6 +42,8 @@ bool ReadPredictions(const std::string& path, std::map<std::pair<std::string, in
   };
   while (std::getline(in, line)) {
     ++line_number;
+    const std::streamoff line_offset = offset;
+    offset += static_cast<std::streamoff>(line.size()) + 1;
     if (line.find_first_not_of(" \t\r") == std::string::npos) continue;
     nlohmann::json json;
     try {
@@ -62,7 +69,8 @@ bool ReadPredictions(const std::string& path, std::map<std::pair<std::string, in
     if (json.contains("latency_ms") && json["latency_ms"].is_number()) {
       p.latency_ms = json["latency_ms"].get<double>();
     }
-    p.line = std::move(line);
+    p.offset = line_offset;
+    p.length = line.size();
     const std::string id = json["id"].get<std::string>();
     if (!out->emplace(std::make_pair(id, repeat), std::move(p)).second) {
       problem(1, "a second prediction for case '" + id + "' repeat " + std::to_string(repeat) +
@@ -110,13 +118,15 @@ int ScoreCommand(const ScoreOptions& options) {
   int max_repeat = 0;
   for (const auto& [key, p] : predictions) {
     if (!index_of.count(key.first)) {
-      std::fprintf(stderr, "%s: warning: prediction for '%s', which the suite does not have; "
-                           "ignored\n",
+      std::fprintf(stderr,
+                   "%s: warning: prediction for '%s', which the suite does not have; "
+                   "ignored\n",
                    options.predictions_path.c_str(), key.first.c_str());
     }
     max_repeat = std::max(max_repeat, key.second);
   }
 
+  std::ifstream replies(options.predictions_path, std::ios::binary);
   const ResponseMap map;
   std::vector<CaseOutcome> outcomes;
   outcomes.reserve(suite.cases.size());
@@ -129,7 +139,9 @@ int ScoreCommand(const ScoreOptions& options) {
       if (it == predictions.end()) {
         call.error = "no prediction for this case in " + options.predictions_path;
       } else {
-        call.body = it->second.line;
+        call.body.resize(it->second.length);
+        replies.seekg(it->second.offset);
+        replies.read(call.body.data(), static_cast<std::streamsize>(call.body.size()));
         call.latency_ms = it->second.latency_ms;
       }
       CaseRecord record = MakeCaseRecord(c, repeat, call, map, *prepared.scorer, i, {});

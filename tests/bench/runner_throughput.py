@@ -1,0 +1,158 @@
+#!/usr/bin/env python3
+"""Throughput and memory of `plumb run` and `plumb score` on generated suites.
+
+Prints figures, asserts nothing (the machine is shared and noisy; compare medians across
+changes). Targets from the runner issue:
+  - run: a persistent pipeline that answers at once passes >= 10,000 cases/s with --jobs 2,
+    journal included;
+  - score: well over 10x faster than a Python implementation of the published SQuAD evaluation
+    (normalize_answer + f1/EM, transcribed in squad_eval_python() below, from memory);
+  - memory grows with the number of cases, not with reply sizes (peak RSS with 1 KiB vs 256 KiB
+    answers).
+
+Usage: tests/bench/runner_throughput.py [--build build] [--cases 20000] [--repeats 3]
+"""
+import argparse
+import collections
+import json
+import os
+import re
+import resource
+import statistics
+import string
+import subprocess
+import sys
+import tempfile
+import time
+
+WORDS = ("ferry boarding closes ten minutes before departure the a an vehicle deck fare "
+         "return ticket island pier harbour crossing weather cancelled refund").split()
+
+
+def make_suite(directory, cases, pipeline_cmd):
+    cases_path = os.path.join(directory, "cases.jsonl")
+    with open(cases_path, "w") as f:
+        for i in range(cases):
+            words = [WORDS[(i * 7 + k) % len(WORDS)] for k in range(8)]
+            f.write(json.dumps({"id": f"c{i}", "question": " ".join(words),
+                                "answers": [" ".join(words[:4]), " ".join(words[2:6])],
+                                "tags": [f"t{i % 5}"]}) + "\n")
+    suite_path = os.path.join(directory, "bench.yaml")
+    with open(suite_path, "w") as f:
+        f.write("plumb: 1\nname: bench\ninclude: [cases.jsonl]\npipelines:\n  echo:\n")
+        f.write("    command: [" + ", ".join(json.dumps(c) for c in pipeline_cmd) + "]\n")
+        f.write("    mode: persistent\n    timeout: 30s\ncases: []\n")
+    return suite_path
+
+
+def make_predictions(directory, cases, answer_bytes):
+    path = os.path.join(directory, f"pred-{answer_bytes}.jsonl")
+    with open(path, "w") as f:
+        for i in range(cases):
+            words = [WORDS[(i * 7 + k) % len(WORDS)] for k in range(8)]
+            answer = " ".join(words[1:5])
+            if answer_bytes > len(answer):
+                answer += " " + "x" * (answer_bytes - len(answer) - 1)
+            f.write(json.dumps({"id": f"c{i}", "answer": answer}) + "\n")
+    return path
+
+
+def timed(cmd):
+    start = time.perf_counter()
+    before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+    subprocess.run(cmd, check=False, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    after = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+    return time.perf_counter() - start, max(before, after)
+
+
+def peak_rss_kib(cmd):
+    # A fresh interpreter per measurement, so ru_maxrss is this command's alone.
+    probe = ("import resource,subprocess,sys;"
+             "subprocess.run(sys.argv[1:],stdout=subprocess.DEVNULL,stderr=subprocess.DEVNULL);"
+             "print(resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss)")
+    out = subprocess.run([sys.executable, "-c", probe] + cmd, capture_output=True, text=True)
+    return int(out.stdout.strip())
+
+
+def squad_eval_python(suite_cases, predictions_path):
+    """The published SQuAD v1.1 evaluation's normalize_answer, f1_score and exact_match
+    (Rajpurkar et al. 2016), transcribed from memory, plus the loop that reads predictions."""
+    def normalize_answer(s):
+        def remove_articles(text):
+            return re.sub(r'\b(a|an|the)\b', ' ', text)
+
+        def white_space_fix(text):
+            return ' '.join(text.split())
+
+        def remove_punc(text):
+            exclude = set(string.punctuation)
+            return ''.join(ch for ch in text if ch not in exclude)
+        return white_space_fix(remove_articles(remove_punc(s.lower())))
+
+    def f1_score(prediction, ground_truth):
+        p = normalize_answer(prediction).split()
+        g = normalize_answer(ground_truth).split()
+        common = collections.Counter(p) & collections.Counter(g)
+        num_same = sum(common.values())
+        if num_same == 0:
+            return 0
+        precision = num_same / len(p)
+        recall = num_same / len(g)
+        return 2 * precision * recall / (precision + recall)
+
+    preds = {}
+    with open(predictions_path) as f:
+        for line in f:
+            obj = json.loads(line)
+            preds[obj["id"]] = obj["answer"]
+    em = f1 = 0.0
+    for case in suite_cases:
+        pred = preds.get(case["id"], "")
+        em += max(float(normalize_answer(pred) == normalize_answer(a)) for a in case["answers"])
+        f1 += max(f1_score(pred, a) for a in case["answers"])
+    return em / len(suite_cases), f1 / len(suite_cases)
+
+
+def main():
+    parser = argparse.ArgumentParser()
+    parser.add_argument("--build", default="build")
+    parser.add_argument("--cases", type=int, default=20000)
+    parser.add_argument("--repeats", type=int, default=3)
+    args = parser.parse_args()
+    plumb = os.path.abspath(os.path.join(args.build, "plumb"))
+    echo = os.path.abspath(os.path.join(args.build, "fixtures", "echo-pipeline"))
+    with tempfile.TemporaryDirectory() as tmp:
+        suite = make_suite(tmp, args.cases, [echo])
+        out = os.path.join(tmp, "out")
+        walls = [timed([plumb, "run", suite, "--jobs", "2", "--out", out])[0]
+                 for _ in range(args.repeats)]
+        lines = sum(1 for _ in open(os.path.join(out, "cases.jsonl")))
+        median = statistics.median(walls)
+        print(f"run   {args.cases} cases, echo pipeline, --jobs 2: median {median:.2f}s "
+              f"({args.cases / median:,.0f} cases/s, whole process incl. suite load), "
+              f"journal lines {lines}; runs {', '.join(f'{w:.2f}' for w in walls)}")
+
+        pred = make_predictions(tmp, args.cases, 0)
+        walls = [timed([plumb, "score", suite, pred])[0] for _ in range(args.repeats)]
+        plumb_median = statistics.median(walls)
+        cases = [json.loads(l) for l in open(os.path.join(tmp, "cases.jsonl"))]
+        py = []
+        for _ in range(args.repeats):
+            start = time.perf_counter()
+            squad_eval_python(cases, pred)
+            py.append(time.perf_counter() - start)
+        py_median = statistics.median(py)
+        print(f"score {args.cases} cases: plumb median {plumb_median:.3f}s (whole process), "
+              f"Python SQuAD evaluation median {py_median:.3f}s (scoring loop only): "
+              f"{py_median / plumb_median:.1f}x")
+
+        small = peak_rss_kib([plumb, "score", suite, make_predictions(tmp, args.cases, 1024),
+                              "--out", os.path.join(tmp, "s1")])
+        big = peak_rss_kib([plumb, "score", suite, make_predictions(tmp, args.cases // 4, 262144),
+                            "--out", os.path.join(tmp, "s2")])
+        print(f"memory: plumb score peak RSS {small / 1024:.1f} MiB with 1 KiB answers x "
+              f"{args.cases}, {big / 1024:.1f} MiB with 256 KiB answers x {args.cases // 4}")
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,86 @@
+// The reply format of SPEC §5: which replies are answers, abstentions or case errors.
+#include "runner/response.h"
+
+#include <catch2/catch.hpp>
+
+using plumb::ParseResponse;
+using plumb::Response;
+using plumb::ResponseMap;
+
+TEST_CASE("the reply of SPEC §5 parses into answer, citations, retrieved and usage") {
+  // The example reply printed in SPEC §5.
+  const char* body = R"({"answer": "Ten minutes before departure.", "abstained": false,
+    "citations": [{"doc": "boarding.md", "start": 120, "end": 168},
+                  {"doc": "boarding.md", "quote": "Boarding closes ten minutes before"},
+                  {"doc": "fares.md"}],
+    "retrieved": [{"doc": "boarding.md", "start": 0, "end": 400}],
+    "usage": {"input_tokens": 812, "output_tokens": 24}})";
+  Response r;
+  std::string error;
+  REQUIRE(ParseResponse(body, ResponseMap(), &r, &error));
+  CHECK(*r.answer == "Ten minutes before departure.");
+  CHECK_FALSE(r.abstained);
+  REQUIRE(r.citations.size() == 3);
+  CHECK(*r.citations[0].start == 120);
+  CHECK(*r.citations[0].end == 168);
+  CHECK(*r.citations[1].quote == "Boarding closes ten minutes before");
+  CHECK_FALSE(r.citations[2].start.has_value());
+  CHECK(r.has_retrieved);
+  CHECK(r.retrieved.size() == 1);
+  CHECK(*r.input_tokens == 812);
+  CHECK(*r.output_tokens == 24);
+}
+
+TEST_CASE("answer null and abstained true are abstentions; a missing answer is an error") {
+  Response r;
+  std::string error;
+  REQUIRE(ParseResponse(R"({"answer": null})", ResponseMap(), &r, &error));
+  CHECK(r.abstained);
+  CHECK_FALSE(r.answer.has_value());
+  REQUIRE(ParseResponse(R"({"answer": "maybe", "abstained": true})", ResponseMap(), &r, &error));
+  CHECK(r.abstained);
+  CHECK_FALSE(r.answer.has_value());
+  CHECK_FALSE(r.has_retrieved);
+
+  CHECK_FALSE(ParseResponse(R"({"text": "x"})", ResponseMap(), &r, &error));
+  CHECK(error == "response has no answer at '/answer'");
+  CHECK_FALSE(ParseResponse("Ten minutes.", ResponseMap(), &r, &error));
+  CHECK(error == "response is not valid JSON");
+  CHECK_FALSE(ParseResponse("[1, 2]", ResponseMap(), &r, &error));
+  CHECK(error == "response is not a JSON object");
+  CHECK_FALSE(ParseResponse(R"({"answer": 10})", ResponseMap(), &r, &error));
+  CHECK(error == "answer at '/answer' must be a string or null, got number");
+}
+
+TEST_CASE("malformed citations are errors that name the item") {
+  Response r;
+  std::string error;
+  CHECK_FALSE(ParseResponse(R"({"answer": "a", "citations": [{"doc": "a.md", "start": 3}]})",
+                            ResponseMap(), &r, &error));
+  CHECK(error == "citations[0]: a span needs both 'start' and 'end'");
+  CHECK_FALSE(ParseResponse(R"({"answer": "a", "citations": [{"doc": "a.md"}, {"start": 1}]})",
+                            ResponseMap(), &r, &error));
+  CHECK(error == "citations[1]: missing string field 'doc'");
+  CHECK_FALSE(ParseResponse(R"({"answer": "a", "citations": {"doc": "a.md"}})", ResponseMap(), &r,
+                            &error));
+  CHECK(error == "citations at '/citations' must be a list");
+}
+
+TEST_CASE("JSON Pointers and renamed citation fields map a service's own reply shape") {
+  // RFC 6901 pointers: "/data/text" is member "text" of member "data".
+  ResponseMap map = ResponseMap::FromConfig({{"answer", "/data/text"},
+                                             {"citations", "/data/refs"},
+                                             {"fields.doc", "source"},
+                                             {"fields.start", "from"},
+                                             {"fields.end", "to"}});
+  Response r;
+  std::string error;
+  REQUIRE(ParseResponse(
+      R"({"data": {"text": "Ten.", "refs": [{"source": "b.md", "from": 4, "to": 9}]}})", map, &r,
+      &error));
+  CHECK(*r.answer == "Ten.");
+  REQUIRE(r.citations.size() == 1);
+  CHECK(r.citations[0].doc == "b.md");
+  CHECK(*r.citations[0].start == 4);
+  CHECK(*r.citations[0].end == 9);
+}

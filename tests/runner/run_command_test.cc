@@ -1,0 +1,284 @@
+// `plumb run` and `plumb score` end to end, as a user runs them: the real executable, real
+// pipeline processes (fixtures/test-pipelines) and the exit codes of SPEC §8. A pipeline that
+// crashes, hangs, prints garbage or floods its output costs one case each, never the run.
+#include <fcntl.h>
+#include <signal.h>
+#include <spawn.h>
+#include <sys/stat.h>
+#include <sys/wait.h>
+#include <unistd.h>
+
+#include <catch2/catch.hpp>
+#include <chrono>
+#include <fstream>
+#include <nlohmann/json.hpp>
+#include <set>
+#include <sstream>
+#include <string>
+#include <thread>
+#include <vector>
+
+extern char** environ;
+
+namespace {
+
+const std::string kPlumb = PLUMB_BINARY_DIR "/plumb";
+const std::string kFixtures = PLUMB_BINARY_DIR "/fixtures/";
+
+std::string MakeTempDir() {
+  char pattern[] = "/tmp/plumb_run_test_XXXXXX";
+  REQUIRE(mkdtemp(pattern) != nullptr);
+  return pattern;
+}
+
+void WriteFile(const std::string& path, const std::string& text) {
+  std::ofstream out(path, std::ios::binary);
+  out << text;
+}
+
+std::string ReadFile(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  std::stringstream s;
+  s << in.rdbuf();
+  return s.str();
+}
+
+std::vector<nlohmann::json> ReadJournal(const std::string& path) {
+  std::vector<nlohmann::json> records;
+  std::ifstream in(path);
+  std::string line;
+  while (std::getline(in, line)) records.push_back(nlohmann::json::parse(line));
+  return records;
+}
+
+struct Process {
+  pid_t pid = -1;
+  std::string out_path;
+  std::string err_path;
+};
+
+Process Start(const std::vector<std::string>& args, const std::string& dir) {
+  Process p;
+  p.out_path = dir + "/stdout.txt";
+  p.err_path = dir + "/stderr.txt";
+  posix_spawn_file_actions_t actions;
+  posix_spawn_file_actions_init(&actions);
+  posix_spawn_file_actions_addopen(&actions, 0, "/dev/null", O_RDONLY, 0);
+  posix_spawn_file_actions_addopen(&actions, 1, p.out_path.c_str(), O_WRONLY | O_CREAT | O_TRUNC,
+                                   0644);
+  posix_spawn_file_actions_addopen(&actions, 2, p.err_path.c_str(), O_WRONLY | O_CREAT | O_TRUNC,
+                                   0644);
+  std::vector<char*> argv;
+  argv.push_back(const_cast<char*>(kPlumb.c_str()));
+  for (const std::string& a : args) argv.push_back(const_cast<char*>(a.c_str()));
+  argv.push_back(nullptr);
+  REQUIRE(posix_spawn(&p.pid, kPlumb.c_str(), &actions, nullptr, argv.data(), environ) == 0);
+  posix_spawn_file_actions_destroy(&actions);
+  return p;
+}
+
+int Wait(const Process& p) {
+  int status = 0;
+  REQUIRE(waitpid(p.pid, &status, 0) == p.pid);
+  REQUIRE(WIFEXITED(status));
+  return WEXITSTATUS(status);
+}
+
+struct Result {
+  int code = -1;
+  std::string out;
+  std::string err;
+};
+
+Result Plumb(const std::vector<std::string>& args, const std::string& dir) {
+  Process p = Start(args, dir);
+  Result r;
+  r.code = Wait(p);
+  r.out = ReadFile(p.out_path);
+  r.err = ReadFile(p.err_path);
+  return r;
+}
+
+/// 20 cases whose gold answer is the question itself (the fixtures echo it back), four of which
+/// carry the word that makes one fault pipeline misbehave.
+std::string EchoCases(int n, const std::vector<std::string>& special) {
+  std::string yaml = "cases:\n";
+  for (int i = 0; i < n; ++i) {
+    const std::string q = i < static_cast<int>(special.size()) ? special[static_cast<size_t>(i)]
+                                                               : "question " + std::to_string(i);
+    yaml += "  - {id: c" + std::to_string(i) + ", question: \"" + q + "\", answers: [\"" + q +
+            "\"]}\n";
+  }
+  return yaml;
+}
+
+}  // namespace
+
+TEST_CASE("each misbehaving pipeline costs exactly one case and the run goes on") {
+  const std::string dir = MakeTempDir();
+  const std::vector<std::string> special = {"please crash", "please hang", "garbage please",
+                                            "flood-stdout now"};
+  WriteFile(dir + "/faults.yaml",
+            "plumb: 1\nname: faults\nmax_error_rate: 0.1\npipelines:\n"
+            "  crash: {command: [" + kFixtures + "crash-pipeline], timeout: 5s}\n"
+            "  hang: {command: [" + kFixtures + "hang-pipeline], timeout: 500ms}\n"
+            "  garbage: {command: [" + kFixtures + "garbage-pipeline], timeout: 5s}\n"
+            "  flood: {command: [" + kFixtures + "flood-pipeline], timeout: 20s,"
+            " max_response_bytes: 1MiB}\n" +
+                EchoCases(20, special));
+  const Result r = Plumb({"run", dir + "/faults.yaml", "--pipeline", "crash", "--pipeline", "hang",
+                          "--pipeline", "garbage", "--pipeline", "flood", "--out", dir + "/out",
+                          "--json"},
+                         dir);
+  INFO(r.err);
+  // 1 error in 20 is 5%, within max_error_rate 0.1, and no thresholds: exit 0 (SPEC §8).
+  CHECK(r.code == 0);
+  const nlohmann::json summary = nlohmann::json::parse(r.out);
+  REQUIRE(summary["runs"].size() == 4);
+
+  const std::vector<std::pair<std::string, std::string>> expected = {
+      {"crash", "exited with status 3"},
+      {"hang", "timed out after"},
+      {"garbage", "response is not valid JSON"},
+      {"flood", "exceeded"}};
+  for (size_t i = 0; i < expected.size(); ++i) {
+    const auto& [name, reason] = expected[i];
+    INFO(name);
+    const std::vector<nlohmann::json> records = ReadJournal(dir + "/out/" + name + "/cases.jsonl");
+    REQUIRE(records.size() == 20);
+    int errors = 0;
+    for (const nlohmann::json& rec : records) {
+      if (rec["error"].is_null()) {
+        CHECK(rec["scores"]["exact_match"] == 1.0);
+        continue;
+      }
+      ++errors;
+      CHECK(rec["id"] == "c" + std::to_string(i));
+      CHECK(rec["error"]["reason"].get<std::string>().find(reason) != std::string::npos);
+      CHECK(rec["scores"]["correct"] == 0.0);
+    }
+    CHECK(errors == 1);
+    const nlohmann::json run = nlohmann::json::parse(ReadFile(dir + "/out/" + name + "/run.json"));
+    CHECK(run["aggregates"]["errored"] == 1);
+    CHECK(run["aggregates"]["metrics"]["correct"]["mean"] == Approx(19.0 / 20));
+  }
+}
+
+TEST_CASE("exit codes follow SPEC §8") {
+  const std::string dir = MakeTempDir();
+  const std::string header = "plumb: 1\nname: codes\n";
+  const std::string crash = "  crash: {command: [" + kFixtures + "crash-pipeline], timeout: 5s}\n";
+
+  SECTION("3 when case errors exceed max_error_rate") {
+    WriteFile(dir + "/s.yaml", header + "max_error_rate: 0.01\npipelines:\n" + crash +
+                                   EchoCases(20, {"please crash"}));
+    const Result r = Plumb({"run", dir + "/s.yaml", "--out", dir + "/out"}, dir);
+    CHECK(r.code == 3);
+    CHECK(r.out.find("exit 3: 1 of 20 items errored (5.0%), above max_error_rate 1.0%") !=
+          std::string::npos);
+  }
+  SECTION("3 when every case errored") {
+    WriteFile(dir + "/s.yaml", header + "pipelines:\n  f: {command: [false], mode: per-case}\n" +
+                                   EchoCases(5, {}));
+    const Result r = Plumb({"run", dir + "/s.yaml", "--out", dir + "/out"}, dir);
+    CHECK(r.code == 3);
+    const std::vector<nlohmann::json> records = ReadJournal(dir + "/out/cases.jsonl");
+    REQUIRE(records.size() == 5);
+    CHECK(records[0]["error"]["reason"] == "process exited with status 1");
+  }
+  SECTION("1 when a floor breaks and 0 when it holds") {
+    // 19 of 20 cases are answered right: correct = 0.95.
+    WriteFile(dir + "/hi.yaml", header + "max_error_rate: 0.1\nthresholds: {correct: 0.96}\n" +
+                                    "pipelines:\n" + crash + EchoCases(20, {"please crash"}));
+    Result r = Plumb({"run", dir + "/hi.yaml", "--out", dir + "/hi"}, dir);
+    CHECK(r.code == 1);
+    CHECK(r.out.find("exit 1: 1 threshold broken: correct 0.95 < 0.96") != std::string::npos);
+    WriteFile(dir + "/lo.yaml", header + "max_error_rate: 0.1\nthresholds: {correct: 0.95}\n" +
+                                    "pipelines:\n" + crash + EchoCases(20, {"please crash"}));
+    r = Plumb({"run", dir + "/lo.yaml", "--out", dir + "/lo"}, dir);
+    CHECK(r.code == 0);
+  }
+  SECTION("2 for a suite error or an unknown pipeline, with nothing run") {
+    WriteFile(dir + "/bad.yaml", header + "anwsers: 1\n" + EchoCases(1, {}));
+    Result r = Plumb({"run", dir + "/bad.yaml", "--out", dir + "/bad"}, dir);
+    CHECK(r.code == 2);
+    CHECK(r.err.find("bad.yaml:3:1: error: unknown key 'anwsers'") != std::string::npos);
+    WriteFile(dir + "/ok.yaml", header + "pipelines:\n" + crash + EchoCases(1, {}));
+    r = Plumb({"run", dir + "/ok.yaml", "--pipeline", "nope", "--out", dir + "/ok"}, dir);
+    CHECK(r.code == 2);
+    CHECK(r.err.find("no such pipeline") != std::string::npos);
+    struct stat st {};
+    CHECK(stat((dir + "/ok").c_str(), &st) != 0);  // nothing was run, nothing was written
+  }
+}
+
+TEST_CASE("SIGINT exits 130 with the journal intact and --resume finishes the run") {
+  const std::string dir = MakeTempDir();
+  // Case c5 hangs for a minute: the run is stuck there when the interrupt comes.
+  std::vector<std::string> special = {"q0", "q1", "q2", "q3", "q4", "please hang"};
+  WriteFile(dir + "/s.yaml", "plumb: 1\nname: resume\npipelines:\n  p: {command: [" + kFixtures +
+                                 "hang-pipeline], timeout: 60s}\n" + EchoCases(30, special));
+  Process p = Start({"run", dir + "/s.yaml", "--out", dir + "/out", "--jobs", "1"}, dir);
+  const std::string journal = dir + "/out/cases.jsonl";
+  for (int i = 0; i < 200 && ReadJournal(journal).size() < 5; ++i) {
+    std::this_thread::sleep_for(std::chrono::milliseconds(50));
+  }
+  std::this_thread::sleep_for(std::chrono::milliseconds(200));
+  REQUIRE(kill(p.pid, SIGINT) == 0);
+  CHECK(Wait(p) == 130);
+  CHECK(ReadJournal(journal).size() == 5);  // c0..c4; the interrupted c5 is not journaled
+  struct stat st {};
+  CHECK(stat((dir + "/out/run.json").c_str(), &st) != 0);
+
+  // Resume with a pipeline that answers everything: only c5..c29 are sent.
+  WriteFile(dir + "/echo.yaml",
+            "pipelines:\n  p: {command: [" + kFixtures + "echo-pipeline], timeout: 5s}\n");
+  const Result r = Plumb({"run", dir + "/s.yaml", "--pipelines", dir + "/echo.yaml", "--out",
+                          dir + "/out", "--resume"},
+                         dir);
+  INFO(r.err);
+  CHECK(r.code == 0);
+  const std::vector<nlohmann::json> records = ReadJournal(journal);
+  REQUIRE(records.size() == 30);
+  std::set<std::string> ids;
+  for (const nlohmann::json& rec : records) ids.insert(rec["id"].get<std::string>());
+  CHECK(ids.size() == 30);
+  const nlohmann::json run = nlohmann::json::parse(ReadFile(dir + "/out/run.json"));
+  CHECK(run["aggregates"]["cases"] == 30);
+  CHECK(run["resumed"] == true);
+}
+
+TEST_CASE("plumb score scores recorded replies with SQuAD EM and F1") {
+  const std::string dir = MakeTempDir();
+  WriteFile(dir + "/s.yaml",
+            "plumb: 1\nname: recorded\ncases:\n"
+            "  - {id: a, question: 'How long?', answers: [ten minutes]}\n"
+            "  - {id: b, question: 'Which car?', answers: [the blue car]}\n"
+            "  - {id: c, question: 'Who is the captain?', answers: []}\n");
+  WriteFile(dir + "/pred.jsonl",
+            "{\"id\": \"a\", \"answer\": \"Ten minutes.\"}\n"
+            "{\"id\": \"b\", \"answer\": \"blue car park\"}\n"
+            "{\"id\": \"c\", \"answer\": null}\n");
+  const Result r = Plumb({"score", dir + "/s.yaml", dir + "/pred.jsonl", "--json"}, dir);
+  INFO(r.err);
+  REQUIRE(r.code == 0);
+  const nlohmann::json m = nlohmann::json::parse(r.out)["aggregates"]["metrics"];
+  // Worked by hand with SQuAD's normalize_answer and f1_score (Rajpurkar et al. 2016):
+  //   a: "ten minutes" == "ten minutes": EM 1, F1 1.
+  //   b: [blue car park] vs [blue car] ("the" removed): EM 0; P = 2/3, R = 1, F1 = 0.8.
+  //   c: abstention case, the reply abstained: EM 1, F1 1 (SPEC §6.2).
+  CHECK(m["exact_match"]["mean"] == Approx(2.0 / 3));
+  CHECK(m["token_f1"]["mean"] == Approx((1 + 0.8 + 1) / 3));
+  CHECK(m["abstain_recall"]["mean"] == 1.0);
+}
+
+TEST_CASE("plumb score names the file line and column of a bad prediction") {
+  const std::string dir = MakeTempDir();
+  WriteFile(dir + "/s.yaml", "plumb: 1\nname: recorded\ncases:\n"
+                             "  - {id: a, question: 'How long?', answers: [ten minutes]}\n");
+  WriteFile(dir + "/pred.jsonl", "{\"id\": \"a\", \"answer\": \"x\"}\n{\"id\": \"b\", oops}\n");
+  const Result r = Plumb({"score", dir + "/s.yaml", dir + "/pred.jsonl"}, dir);
+  CHECK(r.code == 2);
+  CHECK(r.err.find("pred.jsonl:2:13: error: not valid JSON") != std::string::npos);
+  CHECK(r.err.find("nothing was scored") != std::string::npos);
+}
