@@ -14,13 +14,6 @@ std::vector<metrics::GoldSpanRef> GoldRefs(const Case& c) {
   return gold;
 }
 
-std::vector<metrics::CitedRef> CitedRefs(const std::vector<SourceRef>& refs) {
-  std::vector<metrics::CitedRef> out;
-  out.reserve(refs.size());
-  for (const SourceRef& ref : refs) out.push_back({ref.doc, ref.start, ref.end, ref.quote});
-  return out;
-}
-
 void ScoreErroredCase(const Case& c, CaseScores* scores) {
   scores->errored = true;
   scores->values["exact_match"] = 0;
@@ -59,10 +52,48 @@ std::unique_ptr<CaseScorer> CaseScorer::Create(const Suite& suite, Corpus* corpu
 
 const std::string* CaseScorer::DocumentText(const std::string& doc) const {
   if (corpus_ == nullptr) return nullptr;
-  std::lock_guard<std::mutex> lock(corpus_mutex_);
-  std::string error;
+  std::string error;  // an unknown or unreadable doc: the citation metrics warn and miss
   const Document* document = corpus_->Get(doc, &error);
   return document == nullptr ? nullptr : &document->text;
+}
+
+const metrics::CodePointIndex* CaseScorer::DocumentIndex(const std::string& doc) const {
+  const std::string* text = DocumentText(doc);
+  if (text == nullptr) return nullptr;
+  std::lock_guard<std::mutex> lock(index_mutex_);
+  std::unique_ptr<metrics::CodePointIndex>& index = indexes_[doc];
+  if (index == nullptr) index = std::make_unique<metrics::CodePointIndex>(*text);
+  return index.get();
+}
+
+std::vector<metrics::CitedRef> CaseScorer::ToCodePoints(const std::vector<SourceRef>& refs,
+                                                        metrics::OffsetUnit unit,
+                                                        const char* what,
+                                                        std::vector<std::string>* warnings) const {
+  std::vector<metrics::CitedRef> out;
+  out.reserve(refs.size());
+  for (size_t i = 0; i < refs.size(); ++i) {
+    const SourceRef& ref = refs[i];
+    metrics::CitedRef cited{ref.doc, ref.start, ref.end, ref.quote};
+    if (unit != metrics::OffsetUnit::kCodePoints && ref.start && ref.end) {
+      const metrics::CodePointIndex* index = DocumentIndex(ref.doc);
+      int64_t start = 0, end = 0;
+      std::string error;
+      if (index != nullptr &&
+          (!metrics::ConvertToCodePoints(*index, unit, *ref.start, &start, &error) ||
+           !metrics::ConvertToCodePoints(*index, unit, *ref.end, &end, &error))) {
+        warnings->push_back(std::string(what) + " " + std::to_string(i + 1) + " in " + ref.doc +
+                            ": " + error);
+        start = end = -1;  // an invalid span: a miss, never a doc-level hit
+      }
+      if (index != nullptr) {
+        cited.start = start;
+        cited.end = end;
+      }
+    }
+    out.push_back(std::move(cited));
+  }
+  return out;
 }
 
 bool CaseScorer::Passes(const CaseScores& scores) const {
@@ -76,7 +107,8 @@ bool CaseScorer::Passes(const CaseScores& scores) const {
   return true;
 }
 
-CaseScores CaseScorer::Score(size_t case_index, const Response* response) const {
+CaseScores CaseScorer::Score(size_t case_index, const Response* response,
+                             metrics::OffsetUnit offsets) const {
   const Case& c = suite_.cases[case_index];
   const PreparedCase& prepared = prepared_[case_index];
   CaseScores scores;
@@ -116,18 +148,25 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response) const 
   const metrics::DocumentLookup lookup = [this](const std::string& doc) {
     return DocumentText(doc);
   };
+  const metrics::CodePointIndexLookup indexes = [this](const std::string& doc) {
+    return DocumentIndex(doc);
+  };
   const std::vector<metrics::GoldSpanRef> gold = GoldRefs(c);
-  const metrics::CitationScores citations =
-      metrics::ScoreCitations(CitedRefs(response->citations), gold, suite_.min_overlap, lookup);
+  const metrics::CitationScores citations = metrics::ScoreCitations(
+      ToCodePoints(response->citations, offsets, "citation", &scores.warnings), gold,
+      suite_.min_overlap, lookup, indexes);
   if (citations.precision) scores.values["citation_precision"] = *citations.precision;
   if (citations.recall) scores.values["citation_recall"] = *citations.recall;
   if (citations.f1) scores.values["citation_f1"] = *citations.f1;
-  scores.warnings = citations.warnings;
+  scores.warnings.insert(scores.warnings.end(), citations.warnings.begin(),
+                         citations.warnings.end());
 
   if (response->has_retrieved && !gold.empty()) {
-    const metrics::RetrievalScores retrieval =
-        metrics::ScoreRetrieval(CitedRefs(response->retrieved), gold, suite_.retrieval_k,
-                                suite_.min_overlap, lookup);
+    const metrics::RetrievalScores retrieval = metrics::ScoreRetrieval(
+        ToCodePoints(response->retrieved, offsets, "retrieved item", &scores.warnings), gold,
+        suite_.retrieval_k, suite_.min_overlap, lookup, indexes);
+    scores.warnings.insert(scores.warnings.end(), retrieval.warnings.begin(),
+                           retrieval.warnings.end());
     for (const auto& [k, recall] : retrieval.recall_at) {
       scores.values["recall@" + std::to_string(k)] = recall;
     }

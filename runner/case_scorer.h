@@ -6,13 +6,16 @@
 /// front, so Score() does only per-reply work. Score() is const and safe to call from several
 /// threads at once. The Suite and Corpus passed to Create must outlive the scorer.
 
+#include <map>
 #include <memory>
 #include <mutex>
 #include <string>
 #include <vector>
 
 #include "metrics/answer_metrics.h"
+#include "metrics/offset_units.h"
 #include "metrics/pattern_match.h"
+#include "metrics/span.h"
 #include "runner/case_scores.h"
 #include "runner/corpus.h"
 #include "runner/response.h"
@@ -28,9 +31,13 @@ class CaseScorer {
                                             std::string* error);
 
   /// Scores case `case_index` of the suite. `response` is null when the call errored: the case
-  /// then scores 0 on every answer metric it defines, 0 citation and retrieval recall where it
-  /// has gold spans, and never passes.
-  CaseScores Score(size_t case_index, const Response* response) const;
+  /// then scores 0 on every answer metric it defines, 0 citation recall where it has gold
+  /// spans, and never passes. `offsets` is the unit the pipeline reports offsets in (its
+  /// `offsets:` key); they are converted to code points first, and an offset that cannot be
+  /// converted (inside a UTF-8 sequence, splitting a surrogate pair) makes that item a miss
+  /// with a warning.
+  CaseScores Score(size_t case_index, const Response* response,
+                   metrics::OffsetUnit offsets = metrics::OffsetUnit::kCodePoints) const;
 
   CaseScorer(const CaseScorer&) = delete;
   CaseScorer& operator=(const CaseScorer&) = delete;
@@ -38,6 +45,12 @@ class CaseScorer {
  private:
   CaseScorer(const Suite& suite, Corpus* corpus) : suite_(suite), corpus_(corpus) {}
   const std::string* DocumentText(const std::string& doc) const;
+  /// A code-point index per document, built on first use, so a non-ASCII document is decoded
+  /// once per run rather than once per citation.
+  const metrics::CodePointIndex* DocumentIndex(const std::string& doc) const;
+  std::vector<metrics::CitedRef> ToCodePoints(const std::vector<SourceRef>& refs,
+                                              metrics::OffsetUnit unit, const char* what,
+                                              std::vector<std::string>* warnings) const;
   bool Passes(const CaseScores& scores) const;
 
   struct PreparedCase {
@@ -49,7 +62,8 @@ class CaseScorer {
   const Suite& suite_;
   Corpus* corpus_;
   std::vector<PreparedCase> prepared_;
-  mutable std::mutex corpus_mutex_;  // Corpus loads documents lazily
+  mutable std::mutex index_mutex_;
+  mutable std::map<std::string, std::unique_ptr<metrics::CodePointIndex>> indexes_;
 };
 
 }  // namespace plumb

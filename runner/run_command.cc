@@ -133,8 +133,7 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
     inputs.adapter = raw;
     inputs.scorer = prepared.scorer.get();
     inputs.journal = journal.get();
-    inputs.response_map = ResponseMap::FromConfig(pipeline.map);
-    inputs.secrets = pipeline.secrets;
+    inputs.pipeline = &pipeline;
     inputs.progress = &progress;
     inputs.stop = &watch.interrupted();
     scheduled = RunSchedule(inputs);

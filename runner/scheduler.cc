@@ -13,8 +13,10 @@ constexpr size_t kExcerptBytes = 2048;
 }  // namespace
 
 CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
-                          const ResponseMap& map, const CaseScorer& scorer, size_t case_index,
-                          const std::vector<std::string>& secrets) {
+                          const PipelineConfig& pipeline, const CaseScorer& scorer,
+                          size_t case_index) {
+  const std::vector<std::string>& secrets = pipeline.secrets;
+  const ResponseMap map = ResponseMap::FromConfig(pipeline.map);
   CaseRecord record;
   record.id = c.id;
   record.repeat = repeat;
@@ -45,7 +47,8 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
       record.response = RecordedBody(body, &parsed);
     }
   }
-  record.scores = scorer.Score(case_index, record.error.empty() ? &record.parsed : nullptr);
+  record.scores = scorer.Score(case_index, record.error.empty() ? &record.parsed : nullptr,
+                               pipeline.offsets);
   return record;
 }
 
@@ -82,8 +85,8 @@ ScheduleResult RunSchedule(const ScheduleInputs& in) {
       // A call cut short by the interrupt is not the pipeline's fault: leave it unjournaled so
       // --resume sends it again.
       if (!call.error.empty() && stopping()) return;
-      CaseRecord record = MakeCaseRecord(c, item.repeat, call, in.response_map, *in.scorer,
-                                         item.case_index, in.secrets);
+      CaseRecord record =
+          MakeCaseRecord(c, item.repeat, call, *in.pipeline, *in.scorer, item.case_index);
       std::string error;
       if (!in.journal->Append(CaseRecordToJson(record), &error)) {
         std::lock_guard<std::mutex> lock(fatal_mutex);

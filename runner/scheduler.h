@@ -51,8 +51,7 @@ struct ScheduleInputs {
   Adapter* adapter = nullptr;
   const CaseScorer* scorer = nullptr;
   RunJournal* journal = nullptr;
-  ResponseMap response_map;
-  std::vector<std::string> secrets;  // redacted from journaled replies
+  const PipelineConfig* pipeline = nullptr;
   Progress* progress = nullptr;
   /// Raised (e.g. by a SIGINT watcher) to stop taking new items; in-flight calls that then fail
   /// are treated as interrupted, not as case errors, so --resume runs them again.
@@ -63,9 +62,11 @@ ScheduleResult RunSchedule(const ScheduleInputs& inputs);
 
 /// Builds the journal record and outcome for one reply; shared by `plumb run` (replies from an
 /// adapter) and `plumb score` (recorded replies).
+/// `pipeline` supplies the reply map, the offset unit and the secrets to redact; `plumb score`
+/// passes a default PipelineConfig.
 CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
-                          const ResponseMap& map, const CaseScorer& scorer, size_t case_index,
-                          const std::vector<std::string>& secrets);
+                          const PipelineConfig& pipeline, const CaseScorer& scorer,
+                          size_t case_index);
 CaseOutcome OutcomeOf(const CaseRecord& record, size_t case_index);
 
 }  // namespace plumb

@@ -127,7 +127,7 @@ int ScoreCommand(const ScoreOptions& options) {
   }
 
   std::ifstream replies(options.predictions_path, std::ios::binary);
-  const ResponseMap map;
+  const PipelineConfig recorded;  // replies in the protocol's own shape, offsets in code points
   std::vector<CaseOutcome> outcomes;
   outcomes.reserve(suite.cases.size());
   for (size_t i = 0; i < suite.cases.size(); ++i) {
@@ -144,7 +144,7 @@ int ScoreCommand(const ScoreOptions& options) {
         replies.read(call.body.data(), static_cast<std::streamsize>(call.body.size()));
         call.latency_ms = it->second.latency_ms;
       }
-      CaseRecord record = MakeCaseRecord(c, repeat, call, map, *prepared.scorer, i, {});
+      CaseRecord record = MakeCaseRecord(c, repeat, call, recorded, *prepared.scorer, i);
       if (journal != nullptr && !journal->Append(CaseRecordToJson(record), &error)) {
         std::fprintf(stderr, "plumb: %s\n", error.c_str());
         return 2;
