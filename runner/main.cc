@@ -74,6 +74,8 @@ int main(int argc, char** argv) {
   check_cmd->add_option("SUITE", check.suite_path, "Suite file (YAML)")->required();
   check_cmd->add_option("--pipelines", check.pipelines_file,
                         "YAML file whose `pipelines:` replace the suite's");
+  check_cmd->add_option("--since", check.since_run_dir,
+                        "Run directory whose recorded gold spans to compare (stale gold)");
   check_cmd->add_flag("--json", check.json, "Print the result as JSON on stdout");
 
   try {

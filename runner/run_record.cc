@@ -23,6 +23,7 @@ nlohmann::json BuildRunRecord(const RunContext& ctx, const RunAggregates& aggreg
       spans.push_back({{"doc", span.doc},
                        {"start", span.start},
                        {"end", span.end},
+                       {"text", span.text},
                        {"text_sha256", Sha256Hex(span.text)}});
     }
     cases[c.id] = {{"gold_hash", c.gold_hash}, {"tags", c.tags}, {"sources", spans}};
