@@ -85,7 +85,7 @@ TEST_CASE("the overlap threshold is max(1, ceil(min_overlap * gold length))", "[
   CHECK(ScoreCitations({Span("a.md", 30, 40)}, gold, 0.0, documents).citations_hit == 0);
 }
 
-TEST_CASE("duplicates count once; precision, recall and f1 by hand", "[citations]") {
+TEST_CASE("duplicates count once: precision, recall and f1 by hand", "[citations]") {
   // min_overlap 0.2:
   //  [16, 27) "ten minutes" vs first sentence [0, 45): overlap 11 >= ceil(0.2 * 45) = 9, a hit.
   //  the same [16, 27) again: the same distinct citation.

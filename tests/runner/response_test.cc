@@ -31,7 +31,7 @@ TEST_CASE("the reply of SPEC §5 parses into answer, citations, retrieved and us
   CHECK(*r.output_tokens == 24);
 }
 
-TEST_CASE("answer null and abstained true are abstentions; a missing answer is an error") {
+TEST_CASE("answer null and abstained true are abstentions but a missing answer is an error") {
   Response r;
   std::string error;
   REQUIRE(ParseResponse(R"({"answer": null})", ResponseMap(), &r, &error));
