@@ -8,9 +8,8 @@
 /// adapter's job: it returns bytes, and `ParseResponse` (runner/response.h) decides validity.
 
 #include <cstdint>
-#include <string>
-
 #include <nlohmann/json.hpp>
+#include <string>
 
 namespace plumb {
 

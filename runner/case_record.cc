@@ -43,7 +43,8 @@ nlohmann::json CaseRecordToJson(const CaseRecord& r) {
     out["citations"] = nlohmann::json::array();
     out["retrieved"] = nullptr;
     out["usage"] = nlohmann::json::object();
-    out["error"] = {{"reason", r.error}, {"stdout", r.stdout_excerpt}, {"stderr", r.stderr_excerpt}};
+    out["error"] = {
+        {"reason", r.error}, {"stdout", r.stdout_excerpt}, {"stderr", r.stderr_excerpt}};
   }
   out["scores"] = r.scores.values;
   out["pass"] = r.scores.pass;

@@ -6,9 +6,8 @@
 /// The reply is kept bounded: the raw body only up to kMaxRecordedBody bytes, an excerpt beyond.
 
 #include <cstdint>
-#include <string>
-
 #include <nlohmann/json.hpp>
+#include <string>
 
 #include "runner/adapter.h"
 #include "runner/case_scores.h"

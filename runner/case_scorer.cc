@@ -67,8 +67,7 @@ const metrics::CodePointIndex* CaseScorer::DocumentIndex(const std::string& doc)
 }
 
 std::vector<metrics::CitedRef> CaseScorer::ToCodePoints(const std::vector<SourceRef>& refs,
-                                                        metrics::OffsetUnit unit,
-                                                        const char* what,
+                                                        metrics::OffsetUnit unit, const char* what,
                                                         std::vector<std::string>* warnings) const {
   std::vector<metrics::CitedRef> out;
   out.reserve(refs.size());
@@ -122,10 +121,10 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
       metrics::ScoreAnswer(response->answer, prepared.gold, suite_.normalize, suite_.lang);
   scores.values["exact_match"] = answer.exact_match;
   scores.values["token_f1"] = answer.token_f1;
-  scores.abstained = response->abstained ||
-                     metrics::NormalizeTokens(response->answer.value_or(std::string()),
-                                              suite_.normalize, suite_.lang)
-                         .empty();
+  scores.abstained =
+      response->abstained || metrics::NormalizeTokens(response->answer.value_or(std::string()),
+                                                      suite_.normalize, suite_.lang)
+                                 .empty();
 
   double correct = answer.exact_match;
   const std::string raw_answer = response->answer.value_or(std::string());

@@ -27,8 +27,7 @@ class CaseScorer {
  public:
   /// `corpus` may be null when the suite has no corpus (then citations only score doc-only).
   /// Fails when a pattern does not compile (the loader normally caught that already).
-  static std::unique_ptr<CaseScorer> Create(const Suite& suite, Corpus* corpus,
-                                            std::string* error);
+  static std::unique_ptr<CaseScorer> Create(const Suite& suite, Corpus* corpus, std::string* error);
 
   /// Scores case `case_index` of the suite. `response` is null when the call errored: the case
   /// then scores 0 on every answer metric it defines, 0 citation recall where it has gold

@@ -14,10 +14,10 @@ namespace plumb {
 
 struct CaseScores {
   std::map<std::string, double> values;
-  bool abstained = false;        // the reply abstained or normalized to no tokens
-  bool abstention_case = false;  // the case's gold is "abstain" (answers: [])
-  bool errored = false;          // the call failed; answer metrics are 0
-  bool pass = false;             // every case_pass minimum held (never for an errored case)
+  bool abstained = false;             // the reply abstained or normalized to no tokens
+  bool abstention_case = false;       // the case's gold is "abstain" (answers: [])
+  bool errored = false;               // the call failed; answer metrics are 0
+  bool pass = false;                  // every case_pass minimum held (never for an errored case)
   std::vector<std::string> warnings;  // e.g. a quote citation not found in its document
 };
 

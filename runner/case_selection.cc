@@ -17,8 +17,8 @@ bool ParseShard(const std::string& text, Shard* shard, std::string* error) {
     shard->count = std::stoi(count, &used);
     if (used != count.size()) throw std::invalid_argument("count");
   } catch (const std::exception&) {
-    *error = "--shard takes I/N, e.g. --shard 2/4 for the second of four shards; got '" + text +
-             "'";
+    *error =
+        "--shard takes I/N, e.g. --shard 2/4 for the second of four shards; got '" + text + "'";
     return false;
   }
   if (shard->count < 1 || shard->index < 1 || shard->index > shard->count) {
@@ -42,11 +42,10 @@ std::vector<size_t> SelectCases(const Suite& suite, const CaseSelection& selecti
   for (size_t i = 0; i < suite.cases.size(); ++i) {
     const Case& c = suite.cases[i];
     if (!selection.tags.empty()) {
-      const bool tagged = std::any_of(selection.tags.begin(), selection.tags.end(),
-                                      [&](const std::string& tag) {
-                                        return std::find(c.tags.begin(), c.tags.end(), tag) !=
-                                               c.tags.end();
-                                      });
+      const bool tagged =
+          std::any_of(selection.tags.begin(), selection.tags.end(), [&](const std::string& tag) {
+            return std::find(c.tags.begin(), c.tags.end(), tag) != c.tags.end();
+          });
       if (!tagged) continue;
     }
     if (!selection.id_globs.empty()) {

@@ -1,11 +1,11 @@
 #include "runner/check_command.h"
 
+#include <fmt/format.h>
+
 #include <cstdio>
 #include <fstream>
-#include <sstream>
-
-#include <fmt/format.h>
 #include <nlohmann/json.hpp>
+#include <sstream>
 
 #include "runner/prepared_suite.h"
 #include "runner/sha256.h"
@@ -52,8 +52,8 @@ std::vector<StaleSpan> FindStaleSpans(const PreparedSuite& prepared, const nlohm
       const int64_t old_start = old.value("start", int64_t{-1});
       const int64_t old_end = old.value("end", int64_t{-1});
       const bool same_text = old.value("text_sha256", "") == Sha256Hex(span.text);
-      const std::string where = fmt::format("case '{}' span {} ({} [{}, {}))", c.id, i + 1,
-                                            span.doc, old_start, old_end);
+      const std::string where =
+          fmt::format("case '{}' span {} ({} [{}, {}))", c.id, i + 1, span.doc, old_start, old_end);
       if (span.quote) {
         // The quote was found again (the loader fails otherwise): stale only if it moved.
         if (old_start != span.start || old_end != span.end) {
@@ -73,8 +73,8 @@ std::vector<StaleSpan> FindStaleSpans(const PreparedSuite& prepared, const nlohm
       const Document* doc = prepared.corpus ? prepared.corpus->Get(span.doc, &error) : nullptr;
       if (!old_text.empty() && doc != nullptr &&
           FindQuote(*doc, old_text, &start, &end, &occurrences)) {
-        message += fmt::format("; the recorded text is now at [{}, {}): update start/end",
-                               start, end);
+        message +=
+            fmt::format("; the recorded text is now at [{}, {}): update start/end", start, end);
       } else {
         message += "; the recorded text is no longer in the document: rewrite this gold span";
       }
@@ -89,8 +89,7 @@ std::vector<StaleSpan> FindStaleSpans(const PreparedSuite& prepared, const nlohm
 int CheckCommand(const CheckOptions& options) {
   PreparedSuite prepared;
   // ${VAR} is not expanded: checking a suite must not need the pipeline's secrets.
-  if (!PrepareSuite(options.suite_path, options.pipelines_file, /*expand_env=*/false,
-                    &prepared)) {
+  if (!PrepareSuite(options.suite_path, options.pipelines_file, /*expand_env=*/false, &prepared)) {
     return 2;
   }
   std::vector<StaleSpan> stale;
@@ -113,9 +112,10 @@ int CheckCommand(const CheckOptions& options) {
   if (options.json) {
     nlohmann::json stale_json = nlohmann::json::array();
     for (const StaleSpan& s : stale) {
-      stale_json.push_back(
-          {{"file", s.pos.file}, {"line", s.pos.line}, {"column", s.pos.column},
-           {"message", s.message}});
+      stale_json.push_back({{"file", s.pos.file},
+                            {"line", s.pos.line},
+                            {"column", s.pos.column},
+                            {"message", s.message}});
     }
     const nlohmann::json out = {{"suite", suite.name},
                                 {"ok", stale.empty()},
@@ -132,13 +132,14 @@ int CheckCommand(const CheckOptions& options) {
       Diagnostic d{s.pos, s.message, ""};
       std::printf("%s\n", d.Format("stale").c_str());
     }
-    std::printf("%s: %s: %zu cases (%zu abstention), %zu gold spans (%zu quotes located), %zu "
-                "pipelines\n",
-                suite.path.c_str(), stale.empty() ? "ok" : "stale gold", suite.cases.size(),
-                abstention, spans, quotes, suite.pipelines.size());
+    std::printf(
+        "%s: %s: %zu cases (%zu abstention), %zu gold spans (%zu quotes located), %zu "
+        "pipelines\n",
+        suite.path.c_str(), stale.empty() ? "ok" : "stale gold", suite.cases.size(), abstention,
+        spans, quotes, suite.pipelines.size());
     if (!stale.empty()) {
-      std::printf("%zu gold span%s stale since %s\n", stale.size(), stale.size() == 1 ? " is" : "s are",
-                  options.since_run_dir.c_str());
+      std::printf("%zu gold span%s stale since %s\n", stale.size(),
+                  stale.size() == 1 ? " is" : "s are", options.since_run_dir.c_str());
     }
   }
   return stale.empty() ? 0 : 1;

@@ -1,11 +1,10 @@
 // plumb: the command-line entry point. Parses arguments with CLI11 and hands each command its
 // plain options struct; every command returns the process exit code (SPEC §8).
 
+#include <CLI/CLI.hpp>
 #include <cstdio>
 #include <string>
 #include <vector>
-
-#include <CLI/CLI.hpp>
 
 #include "runner/check_command.h"
 #include "runner/exit_code.h"

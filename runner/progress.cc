@@ -1,10 +1,9 @@
 #include "runner/progress.h"
 
+#include <fmt/format.h>
 #include <unistd.h>
 
 #include <cstdio>
-
-#include <fmt/format.h>
 
 namespace plumb {
 
@@ -36,9 +35,8 @@ void Progress::Print(bool final_line) {
   const double rate = seconds > 0 ? done / seconds : 0;
   std::string eta = "--";
   if (rate > 0 && done < total_) eta = fmt::format("{:.0f}s", (total_ - done) / rate);
-  const std::string line =
-      fmt::format("{}: {}/{} cases  {:.1f}/s  {} errors  eta {}", label_, done, total_, rate,
-                  errors_.load(), final_line ? "0s" : eta);
+  const std::string line = fmt::format("{}: {}/{} cases  {:.1f}/s  {} errors  eta {}", label_, done,
+                                       total_, rate, errors_.load(), final_line ? "0s" : eta);
   if (terminal_) {
     std::fprintf(stderr, "\r\033[2K%s", line.c_str());
   } else {

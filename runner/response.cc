@@ -51,8 +51,8 @@ bool ParseSourceRef(const nlohmann::json& item, const ResponseMap& map, SourceRe
   if (!ParseOffset(item, FieldName(map, "start"), &ref->start, error)) return false;
   if (!ParseOffset(item, FieldName(map, "end"), &ref->end, error)) return false;
   if (ref->start.has_value() != ref->end.has_value()) {
-    *error = "a span needs both '" + FieldName(map, "start") + "' and '" + FieldName(map, "end") +
-             "'";
+    *error =
+        "a span needs both '" + FieldName(map, "start") + "' and '" + FieldName(map, "end") + "'";
     return false;
   }
   auto quote = item.find(FieldName(map, "quote"));

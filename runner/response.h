@@ -7,12 +7,11 @@
 
 #include <cstdint>
 #include <map>
+#include <nlohmann/json.hpp>
 #include <optional>
 #include <string>
 #include <string_view>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 namespace plumb {
 
@@ -29,7 +28,7 @@ struct Response {
   bool abstained = false;             // answer == null or "abstained": true
   std::vector<SourceRef> citations;
   std::vector<SourceRef> retrieved;  // ranked, best first
-  bool has_retrieved = false;         // the reply carried a `retrieved` list (retrieval metrics)
+  bool has_retrieved = false;        // the reply carried a `retrieved` list (retrieval metrics)
   std::optional<int64_t> input_tokens;
   std::optional<int64_t> output_tokens;
 };

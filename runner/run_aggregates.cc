@@ -9,15 +9,15 @@ namespace {
 
 // 0/1 per case (before averaging over repeats): summarized with a Wilson interval.
 bool IsBinaryMetric(const std::string& metric) {
-  static const std::set<std::string> kBinary = {"exact_match", "correct", "pattern_match",
+  static const std::set<std::string> kBinary = {"exact_match",  "correct",   "pattern_match",
                                                 "number_match", "pass_rate", "error_rate"};
   return kBinary.count(metric) > 0;
 }
 
 std::vector<std::string> DisplayOrder(const Suite& suite) {
-  std::vector<std::string> order = {"correct",           "exact_match",     "token_f1",
-                                    "pattern_match",     "number_match",    "citation_precision",
-                                    "citation_recall",   "citation_f1"};
+  std::vector<std::string> order = {"correct",         "exact_match",  "token_f1",
+                                    "pattern_match",   "number_match", "citation_precision",
+                                    "citation_recall", "citation_f1"};
   for (int k : suite.retrieval_k) order.push_back("recall@" + std::to_string(k));
   order.insert(order.end(),
                {"mrr", "pass_rate", "abstain_precision", "abstain_recall", "error_rate"});
@@ -84,8 +84,8 @@ const metrics::MetricSummary* RunAggregates::Find(const std::string& metric,
                                                   const std::string& tag) const {
   const std::vector<MetricAggregate>* list = &metrics;
   if (!tag.empty()) {
-    auto it = std::find_if(tags.begin(), tags.end(),
-                           [&](const TagAggregate& t) { return t.tag == tag; });
+    auto it =
+        std::find_if(tags.begin(), tags.end(), [&](const TagAggregate& t) { return t.tag == tag; });
     if (it == tags.end()) return nullptr;
     list = &it->metrics;
   }

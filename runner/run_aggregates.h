@@ -8,11 +8,10 @@
 /// ceilings for latency and error_rate) are evaluated against these aggregates.
 
 #include <cstdint>
+#include <nlohmann/json.hpp>
 #include <optional>
 #include <string>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 #include "metrics/metric_summary.h"
 #include "metrics/percentile.h"
@@ -33,10 +32,10 @@ struct TagAggregate {
 };
 
 struct RunAggregates {
-  int64_t cases = 0;      // distinct cases with at least one finished repeat
-  int64_t items = 0;      // finished (case, repeat) items
-  int64_t errored = 0;    // errored items
-  int64_t passed = 0;     // cases whose every repeat passed
+  int64_t cases = 0;                     // distinct cases with at least one finished repeat
+  int64_t items = 0;                     // finished (case, repeat) items
+  int64_t errored = 0;                   // errored items
+  int64_t passed = 0;                    // cases whose every repeat passed
   std::vector<MetricAggregate> metrics;  // in display order
   std::vector<TagAggregate> tags;        // sorted by tag
   metrics::LatencySummary latency;       // over items that did not error

@@ -15,16 +15,16 @@ namespace plumb {
 
 struct RunOptions {
   std::string suite_path;
-  std::string pipelines_file;           // --pipelines FILE
-  std::vector<std::string> pipelines;   // --pipeline NAME...; empty: the suite's first
-  std::string out_dir;                  // --out DIR; empty: plumb-out/<suite>/<pipeline>
-  int jobs = 0;                         // --jobs N; 0: the pipeline's `jobs`, else 1
-  int repeat = 1;                       // --repeat K
-  bool resume = false;                  // --resume
-  CaseSelection selection;              // --tag, --case, --shard, --limit
+  std::string pipelines_file;                 // --pipelines FILE
+  std::vector<std::string> pipelines;         // --pipeline NAME...; empty: the suite's first
+  std::string out_dir;                        // --out DIR; empty: plumb-out/<suite>/<pipeline>
+  int jobs = 0;                               // --jobs N; 0: the pipeline's `jobs`, else 1
+  int repeat = 1;                             // --repeat K
+  bool resume = false;                        // --resume
+  CaseSelection selection;                    // --tag, --case, --shard, --limit
   std::map<std::string, std::string> labels;  // --label K=V
-  bool json = false;                    // --json
-  bool progress = true;                 // false in tests
+  bool json = false;                          // --json
+  bool progress = true;                       // false in tests
 };
 
 int RunCommand(const RunOptions& options);

@@ -57,8 +57,7 @@ nlohmann::json BuildRunRecord(const RunContext& ctx, const RunAggregates& aggreg
   };
 }
 
-bool WriteFileAtomically(const std::string& path, const std::string& contents,
-                         std::string* error) {
+bool WriteFileAtomically(const std::string& path, const std::string& contents, std::string* error) {
   const std::string temp = path + ".tmp." + std::to_string(getpid());
   std::FILE* f = std::fopen(temp.c_str(), "wb");
   if (f == nullptr) {
@@ -85,8 +84,7 @@ std::string NowIso8601() {
   return buffer;
 }
 
-bool ParseLabel(const std::string& text, std::string* key, std::string* value,
-                std::string* error) {
+bool ParseLabel(const std::string& text, std::string* key, std::string* value, std::string* error) {
   const size_t eq = text.find('=');
   if (eq == std::string::npos || eq == 0) {
     *error = "--label takes KEY=VALUE (e.g. --label git=abc123); got '" + text + "'";

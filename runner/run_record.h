@@ -7,10 +7,9 @@
 /// shard, aggregates, thresholds and the verdict. It is also what `--json` prints.
 
 #include <map>
+#include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 #include "runner/case_selection.h"
 #include "runner/exit_code.h"
@@ -40,15 +39,13 @@ nlohmann::json BuildRunRecord(const RunContext& context, const RunAggregates& ag
 
 /// Writes `contents` to `path` through a temporary file in the same directory and rename(2),
 /// so readers see the old file or the new one, never half of one.
-bool WriteFileAtomically(const std::string& path, const std::string& contents,
-                         std::string* error);
+bool WriteFileAtomically(const std::string& path, const std::string& contents, std::string* error);
 
 /// The current time as "2026-12-01T22:03:56Z".
 std::string NowIso8601();
 
 /// Parses "key=value" (the key non-empty); false with a sentence otherwise.
-bool ParseLabel(const std::string& text, std::string* key, std::string* value,
-                std::string* error);
+bool ParseLabel(const std::string& text, std::string* key, std::string* value, std::string* error);
 
 }  // namespace plumb
 

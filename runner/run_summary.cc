@@ -11,8 +11,7 @@ bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, boo
                std::string* error) {
   const Suite& suite = *context.suite;
   const RunAggregates aggregates = AggregateRun(suite, outcomes);
-  const std::vector<ThresholdOutcome> thresholds =
-      EvaluateThresholds(suite.thresholds, aggregates);
+  const std::vector<ThresholdOutcome> thresholds = EvaluateThresholds(suite.thresholds, aggregates);
   finished->verdict = DecideRunVerdict(aggregates, thresholds, suite.max_error_rate, interrupted);
   context.finished_at = NowIso8601();
   finished->record = BuildRunRecord(context, aggregates, thresholds, finished->verdict);

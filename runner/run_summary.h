@@ -5,10 +5,9 @@
 /// verdict, then run.json (when the run has a directory) and the summary on stdout (the table,
 /// or with --json nothing: the caller prints the record). Returns the run's verdict.
 
+#include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 #include "runner/exit_code.h"
 #include "runner/run_record.h"

@@ -47,8 +47,8 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
       record.response = RecordedBody(body, &parsed);
     }
   }
-  record.scores = scorer.Score(case_index, record.error.empty() ? &record.parsed : nullptr,
-                               pipeline.offsets);
+  record.scores =
+      scorer.Score(case_index, record.error.empty() ? &record.parsed : nullptr, pipeline.offsets);
   return record;
 }
 

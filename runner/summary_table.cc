@@ -1,10 +1,9 @@
 #include "runner/summary_table.h"
 
+#include <fmt/format.h>
 #include <unistd.h>
 
 #include <cstdlib>
-
-#include <fmt/format.h>
 
 namespace plumb {
 namespace {
@@ -71,8 +70,7 @@ std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
         "latency ms", l.p50, l.p90, l.p95, l.p99, l.mean, l.max, l.n);
   }
   for (const ThresholdOutcome& t : thresholds) {
-    if (!t.tag.empty() || (t.metric != "latency_p50_ms" && t.metric != "latency_p95_ms"))
-      continue;
+    if (!t.tag.empty() || (t.metric != "latency_p50_ms" && t.metric != "latency_p95_ms")) continue;
     out += fmt::format("  {:<20} {}\n", t.metric, ThresholdCell(thresholds, "", t.metric, p));
   }
   if (run.input_tokens + run.output_tokens > 0) {
@@ -87,9 +85,9 @@ std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
         const metrics::MetricSummary* s = run.Find(metric, t.tag);
         return s == nullptr ? std::string("-") : fmt::format("{:.3f}", s->mean);
       };
-      out += fmt::format("  {:<20} {:>6} {:>9} {:>9} {:>9} {:>9}\n", t.tag, t.cases,
-                         cell("correct"), cell("token_f1"), cell("citation_recall"),
-                         cell("pass_rate"));
+      out +=
+          fmt::format("  {:<20} {:>6} {:>9} {:>9} {:>9} {:>9}\n", t.tag, t.cases, cell("correct"),
+                      cell("token_f1"), cell("citation_recall"), cell("pass_rate"));
     }
     for (const ThresholdOutcome& th : thresholds) {
       if (th.tag.empty()) continue;

@@ -61,8 +61,8 @@ TEST_CASE("malformed citations are errors that name the item") {
   CHECK_FALSE(ParseResponse(R"({"answer": "a", "citations": [{"doc": "a.md"}, {"start": 1}]})",
                             ResponseMap(), &r, &error));
   CHECK(error == "citations[1]: missing string field 'doc'");
-  CHECK_FALSE(ParseResponse(R"({"answer": "a", "citations": {"doc": "a.md"}})", ResponseMap(), &r,
-                            &error));
+  CHECK_FALSE(
+      ParseResponse(R"({"answer": "a", "citations": {"doc": "a.md"}})", ResponseMap(), &r, &error));
   CHECK(error == "citations at '/citations' must be a list");
 }
 

@@ -1,103 +1,22 @@
 // `plumb run` and `plumb score` end to end, as a user runs them: the real executable, real
 // pipeline processes (fixtures/test-pipelines) and the exit codes of SPEC §8. A pipeline that
 // crashes, hangs, prints garbage or floods its output costs one case each, never the run.
-#include <fcntl.h>
 #include <signal.h>
-#include <spawn.h>
 #include <sys/stat.h>
-#include <sys/wait.h>
-#include <unistd.h>
 
 #include <catch2/catch.hpp>
 #include <chrono>
-#include <fstream>
 #include <nlohmann/json.hpp>
 #include <set>
-#include <sstream>
 #include <string>
 #include <thread>
 #include <vector>
 
-extern char** environ;
+#include "tests/support/plumb_process.h"
+
+using namespace plumb_test;
 
 namespace {
-
-const std::string kPlumb = PLUMB_BINARY_DIR "/plumb";
-const std::string kFixtures = PLUMB_BINARY_DIR "/fixtures/";
-
-std::string MakeTempDir() {
-  char pattern[] = "/tmp/plumb_run_test_XXXXXX";
-  REQUIRE(mkdtemp(pattern) != nullptr);
-  return pattern;
-}
-
-void WriteFile(const std::string& path, const std::string& text) {
-  std::ofstream out(path, std::ios::binary);
-  out << text;
-}
-
-std::string ReadFile(const std::string& path) {
-  std::ifstream in(path, std::ios::binary);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
-
-std::vector<nlohmann::json> ReadJournal(const std::string& path) {
-  std::vector<nlohmann::json> records;
-  std::ifstream in(path);
-  std::string line;
-  while (std::getline(in, line)) records.push_back(nlohmann::json::parse(line));
-  return records;
-}
-
-struct Process {
-  pid_t pid = -1;
-  std::string out_path;
-  std::string err_path;
-};
-
-Process Start(const std::vector<std::string>& args, const std::string& dir) {
-  Process p;
-  p.out_path = dir + "/stdout.txt";
-  p.err_path = dir + "/stderr.txt";
-  posix_spawn_file_actions_t actions;
-  posix_spawn_file_actions_init(&actions);
-  posix_spawn_file_actions_addopen(&actions, 0, "/dev/null", O_RDONLY, 0);
-  posix_spawn_file_actions_addopen(&actions, 1, p.out_path.c_str(), O_WRONLY | O_CREAT | O_TRUNC,
-                                   0644);
-  posix_spawn_file_actions_addopen(&actions, 2, p.err_path.c_str(), O_WRONLY | O_CREAT | O_TRUNC,
-                                   0644);
-  std::vector<char*> argv;
-  argv.push_back(const_cast<char*>(kPlumb.c_str()));
-  for (const std::string& a : args) argv.push_back(const_cast<char*>(a.c_str()));
-  argv.push_back(nullptr);
-  REQUIRE(posix_spawn(&p.pid, kPlumb.c_str(), &actions, nullptr, argv.data(), environ) == 0);
-  posix_spawn_file_actions_destroy(&actions);
-  return p;
-}
-
-int Wait(const Process& p) {
-  int status = 0;
-  REQUIRE(waitpid(p.pid, &status, 0) == p.pid);
-  REQUIRE(WIFEXITED(status));
-  return WEXITSTATUS(status);
-}
-
-struct Result {
-  int code = -1;
-  std::string out;
-  std::string err;
-};
-
-Result Plumb(const std::vector<std::string>& args, const std::string& dir) {
-  Process p = Start(args, dir);
-  Result r;
-  r.code = Wait(p);
-  r.out = ReadFile(p.out_path);
-  r.err = ReadFile(p.err_path);
-  return r;
-}
 
 /// 20 cases whose gold answer is the question itself (the fixtures echo it back), four of which
 /// carry the word that makes one fault pipeline misbehave.
@@ -106,8 +25,8 @@ std::string EchoCases(int n, const std::vector<std::string>& special) {
   for (int i = 0; i < n; ++i) {
     const std::string q = i < static_cast<int>(special.size()) ? special[static_cast<size_t>(i)]
                                                                : "question " + std::to_string(i);
-    yaml += "  - {id: c" + std::to_string(i) + ", question: \"" + q + "\", answers: [\"" + q +
-            "\"]}\n";
+    yaml +=
+        "  - {id: c" + std::to_string(i) + ", question: \"" + q + "\", answers: [\"" + q + "\"]}\n";
   }
   return yaml;
 }
@@ -120,16 +39,24 @@ TEST_CASE("each misbehaving pipeline costs exactly one case and the run goes on"
                                             "flood-stdout now"};
   WriteFile(dir + "/faults.yaml",
             "plumb: 1\nname: faults\nmax_error_rate: 0.1\npipelines:\n"
-            "  crash: {command: [" + kFixtures + "crash-pipeline], timeout: 5s}\n"
-            "  hang: {command: [" + kFixtures + "hang-pipeline], timeout: 500ms}\n"
-            "  garbage: {command: [" + kFixtures + "garbage-pipeline], timeout: 5s}\n"
-            "  flood: {command: [" + kFixtures + "flood-pipeline], timeout: 20s,"
-            " max_response_bytes: 1MiB}\n" +
+            "  crash: {command: [" +
+                kFixtures +
+                "crash-pipeline], timeout: 5s}\n"
+                "  hang: {command: [" +
+                kFixtures +
+                "hang-pipeline], timeout: 500ms}\n"
+                "  garbage: {command: [" +
+                kFixtures +
+                "garbage-pipeline], timeout: 5s}\n"
+                "  flood: {command: [" +
+                kFixtures +
+                "flood-pipeline], timeout: 20s,"
+                " max_response_bytes: 1MiB}\n" +
                 EchoCases(20, special));
-  const Result r = Plumb({"run", dir + "/faults.yaml", "--pipeline", "crash", "--pipeline", "hang",
-                          "--pipeline", "garbage", "--pipeline", "flood", "--out", dir + "/out",
-                          "--json"},
-                         dir);
+  const Result r =
+      Plumb({"run", dir + "/faults.yaml", "--pipeline", "crash", "--pipeline", "hang", "--pipeline",
+             "garbage", "--pipeline", "flood", "--out", dir + "/out", "--json"},
+            dir);
   INFO(r.err);
   // 1 error in 20 is 5%, within max_error_rate 0.1, and no thresholds: exit 0 (SPEC §8).
   CHECK(r.code == 0);
@@ -178,8 +105,8 @@ TEST_CASE("exit codes follow SPEC §8") {
           std::string::npos);
   }
   SECTION("3 when every case errored") {
-    WriteFile(dir + "/s.yaml", header + "pipelines:\n  f: {command: [false], mode: per-case}\n" +
-                                   EchoCases(5, {}));
+    WriteFile(dir + "/s.yaml",
+              header + "pipelines:\n  f: {command: [false], mode: per-case}\n" + EchoCases(5, {}));
     const Result r = Plumb({"run", dir + "/s.yaml", "--out", dir + "/out"}, dir);
     CHECK(r.code == 3);
     const std::vector<nlohmann::json> records = ReadJournal(dir + "/out/cases.jsonl");
@@ -274,8 +201,9 @@ TEST_CASE("plumb score scores recorded replies with SQuAD EM and F1") {
 
 TEST_CASE("plumb score names the file line and column of a bad prediction") {
   const std::string dir = MakeTempDir();
-  WriteFile(dir + "/s.yaml", "plumb: 1\nname: recorded\ncases:\n"
-                             "  - {id: a, question: 'How long?', answers: [ten minutes]}\n");
+  WriteFile(dir + "/s.yaml",
+            "plumb: 1\nname: recorded\ncases:\n"
+            "  - {id: a, question: 'How long?', answers: [ten minutes]}\n");
   WriteFile(dir + "/pred.jsonl", "{\"id\": \"a\", \"answer\": \"x\"}\n{\"id\": \"b\", oops}\n");
   const Result r = Plumb({"score", dir + "/s.yaml", dir + "/pred.jsonl"}, dir);
   CHECK(r.code == 2);

@@ -84,8 +84,12 @@ TEST_CASE("invalid UTF-8 from a pipeline is journaled as U+FFFD, not lost") {
   {
     auto journal = plumb::RunJournal::Open(path, -1, &error);
     REQUIRE(journal);
-    REQUIRE(journal->Append({{"answer", std::string("a\xff" "b")}}, &error));
+    REQUIRE(journal->Append({{"answer", std::string("a\xff"
+                                                    "b")}},
+                            &error));
   }
-  CHECK(ReadAll(path) == "{\"answer\":\"a\xEF\xBF\xBD" "b\"}\n");
+  CHECK(ReadAll(path) ==
+        "{\"answer\":\"a\xEF\xBF\xBD"
+        "b\"}\n");
   std::remove(path.c_str());
 }
