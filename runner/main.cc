@@ -63,7 +63,8 @@ int main(int argc, char** argv) {
   score_cmd->add_option("SUITE", score.suite_path, "Suite file (YAML)")->required();
   score_cmd->add_option("PREDICTIONS", score.predictions_path, "Replies, one JSON object a line")
       ->required();
-  score_cmd->add_option("--out", score.out_dir, "Write cases.jsonl and run.json here");
+  score_cmd->add_option("--out", score.out_dir,
+                        "Run directory (default: plumb-out/<suite>/predictions)");
   score_cmd->add_option("--label", score_labels, "Label the run, KEY=VALUE (repeatable)");
   score_cmd->add_flag("--json", score.json, "Print the run record as JSON on stdout");
 

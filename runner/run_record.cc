@@ -26,7 +26,16 @@ nlohmann::json BuildRunRecord(const RunContext& ctx, const RunAggregates& aggreg
                        {"text", span.text},
                        {"text_sha256", Sha256Hex(span.text)}});
     }
-    cases[c.id] = {{"gold_hash", c.gold_hash}, {"tags", c.tags}, {"sources", spans}};
+    // The gold itself travels with the run, so reports and drift need no suite file.
+    nlohmann::json gold = {{"gold_hash", c.gold_hash}, {"question", c.question},
+                           {"answers", c.answers},     {"patterns", c.patterns},
+                           {"tags", c.tags},           {"sources", spans},
+                           {"line", c.pos.line}};
+    if (c.number) {
+      gold["number"] = {
+          {"value", c.number->value}, {"tolerance", c.number->tolerance}, {"unit", c.number->unit}};
+    }
+    cases[c.id] = std::move(gold);
   }
   nlohmann::json labels = ctx.labels;
   return {
@@ -42,6 +51,7 @@ nlohmann::json BuildRunRecord(const RunContext& ctx, const RunAggregates& aggreg
         {"case_pass", suite.case_pass},
         {"max_error_rate", suite.max_error_rate}}},
       {"corpus_fingerprint", ctx.corpus_fingerprint},
+      {"corpus_dir", suite.corpus_dir ? nlohmann::json(*suite.corpus_dir) : nlohmann::json()},
       {"pipeline", {{"name", ctx.pipeline_name}, {"config", ctx.pipeline_config}}},
       {"labels", labels},
       {"started_at", ctx.started_at},

@@ -95,18 +95,16 @@ int ScoreCommand(const ScoreOptions& options) {
   if (!ReadPredictions(options.predictions_path, &predictions)) return 2;
 
   const auto start = std::chrono::steady_clock::now();
-  std::unique_ptr<RunJournal> journal;
+  const std::string run_dir = RunDirectory(options.out_dir, suite.name, "predictions", false);
   std::string error;
-  if (!options.out_dir.empty()) {
-    if (!MakeDirectories(options.out_dir, &error)) {
-      std::fprintf(stderr, "plumb: %s\n", error.c_str());
-      return 2;
-    }
-    journal = RunJournal::Open(options.out_dir + "/cases.jsonl", -1, &error);
-    if (journal == nullptr) {
-      std::fprintf(stderr, "plumb: %s\n", error.c_str());
-      return 2;
-    }
+  if (!MakeDirectories(run_dir, &error)) {
+    std::fprintf(stderr, "plumb: %s\n", error.c_str());
+    return 2;
+  }
+  std::unique_ptr<RunJournal> journal = RunJournal::Open(run_dir + "/cases.jsonl", -1, &error);
+  if (journal == nullptr) {
+    std::fprintf(stderr, "plumb: %s\n", error.c_str());
+    return 2;
   }
 
   std::map<std::string, size_t> index_of;
@@ -145,7 +143,7 @@ int ScoreCommand(const ScoreOptions& options) {
         call.latency_ms = it->second.latency_ms;
       }
       CaseRecord record = MakeCaseRecord(c, repeat, call, recorded, *prepared.scorer, i);
-      if (journal != nullptr && !journal->Append(CaseRecordToJson(record), &error)) {
+      if (!journal->Append(CaseRecordToJson(record), &error)) {
         std::fprintf(stderr, "plumb: %s\n", error.c_str());
         return 2;
       }
@@ -165,8 +163,7 @@ int ScoreCommand(const ScoreOptions& options) {
   const double seconds =
       std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   FinishedRun finished;
-  if (!FinishRun(context, outcomes, false, options.out_dir, options.json, seconds, &finished,
-                 &error)) {
+  if (!FinishRun(context, outcomes, false, run_dir, options.json, seconds, &finished, &error)) {
     std::fprintf(stderr, "plumb: %s\n", error.c_str());
     return 2;
   }

@@ -15,7 +15,7 @@ namespace plumb {
 struct ScoreOptions {
   std::string suite_path;
   std::string predictions_path;
-  std::string out_dir;  // empty: nothing is written, only the summary printed
+  std::string out_dir;  // empty: plumb-out/<suite>/predictions
   std::map<std::string, std::string> labels;
   bool json = false;
 };
