@@ -14,6 +14,7 @@
 #include <nlohmann/json.hpp>
 
 #include "metrics/normalize.h"
+#include "metrics/offset_units.h"
 #include "runner/diagnostic.h"
 
 namespace plumb {
@@ -76,14 +77,20 @@ struct PipelineConfig {
   std::string method = "POST";
   std::map<std::string, ExpandedString> headers;
   nlohmann::json body;                       // template; {{...}} substituted per request
-  std::map<std::string, std::string> map;    // response field -> RFC 6901 pointer
+  // response field -> RFC 6901 pointer; keys answer, abstained, citations, retrieved, usage,
+  // and fields.doc / fields.start / fields.end / fields.quote for renamed citation fields.
+  std::map<std::string, std::string> map;
   int retries = 3;
   double rate_per_second = 0;  // 0: unlimited
+  bool insecure = false;       // `insecure: true`: skip TLS certificate verification
 
   // Both adapters.
   int64_t timeout_ms = 30000;
   int jobs = 0;  // 0: take --jobs (or 1)
   int64_t max_response_bytes = 16 * 1024 * 1024;
+  /// Unit of the offsets in the reply's citations and retrieved items (`offsets:`); the runner
+  /// converts them to code points before scoring.
+  metrics::OffsetUnit offsets = metrics::OffsetUnit::kCodePoints;
 
   /// Every secret value that `${VAR}` expansion produced, for redaction of excerpts.
   std::vector<std::string> secrets;
