@@ -56,7 +56,7 @@ TEST_CASE("tag and glob and limit combine") {
   CHECK(plumb::SelectCases(suite, selection) == std::vector<size_t>{12, 15});
 }
 
-TEST_CASE("--shard parsing rejects what it cannot use") {
+TEST_CASE("shard parsing rejects what it cannot use") {
   plumb::Shard shard;
   std::string error;
   CHECK(plumb::ParseShard("2/4", &shard, &error));
