@@ -6,7 +6,7 @@ changes). Targets from the runner issue:
   - run: a persistent pipeline that answers at once passes >= 10,000 cases/s with --jobs 2,
     journal included;
   - score: well over 10x faster than a Python implementation of the published SQuAD evaluation
-    (normalize_answer + f1/EM, transcribed in squad_eval_python() below, from memory);
+    (normalize_answer + f1/EM, transcribed in SQUAD_EVAL_PROGRAM below, from memory);
   - memory grows with the number of cases, not with reply sizes (peak RSS with 1 KiB vs 256 KiB
     answers).
 
@@ -74,43 +74,48 @@ def peak_rss_kib(cmd):
     return int(out.stdout.strip())
 
 
-def squad_eval_python(suite_cases, predictions_path):
-    """The published SQuAD v1.1 evaluation's normalize_answer, f1_score and exact_match
-    (Rajpurkar et al. 2016), transcribed from memory, plus the loop that reads predictions."""
-    def normalize_answer(s):
-        def remove_articles(text):
-            return re.sub(r'\b(a|an|the)\b', ' ', text)
+# The published SQuAD v1.1 evaluation's normalize_answer, f1_score and exact_match
+# (Rajpurkar et al. 2016), transcribed from memory, as a whole program: read the dataset and the
+# predictions, score, print. Run as its own process so both sides are timed the same way.
+SQUAD_EVAL_PROGRAM = r"""
+import collections, json, re, string, sys
 
-        def white_space_fix(text):
-            return ' '.join(text.split())
+def normalize_answer(s):
+    def remove_articles(text):
+        return re.sub(r'\b(a|an|the)\b', ' ', text)
+    def white_space_fix(text):
+        return ' '.join(text.split())
+    def remove_punc(text):
+        exclude = set(string.punctuation)
+        return ''.join(ch for ch in text if ch not in exclude)
+    return white_space_fix(remove_articles(remove_punc(s.lower())))
 
-        def remove_punc(text):
-            exclude = set(string.punctuation)
-            return ''.join(ch for ch in text if ch not in exclude)
-        return white_space_fix(remove_articles(remove_punc(s.lower())))
+def f1_score(prediction, ground_truth):
+    p = normalize_answer(prediction).split()
+    g = normalize_answer(ground_truth).split()
+    common = collections.Counter(p) & collections.Counter(g)
+    num_same = sum(common.values())
+    if num_same == 0:
+        return 0
+    precision = 1.0 * num_same / len(p)
+    recall = 1.0 * num_same / len(g)
+    return (2 * precision * recall) / (precision + recall)
 
-    def f1_score(prediction, ground_truth):
-        p = normalize_answer(prediction).split()
-        g = normalize_answer(ground_truth).split()
-        common = collections.Counter(p) & collections.Counter(g)
-        num_same = sum(common.values())
-        if num_same == 0:
-            return 0
-        precision = num_same / len(p)
-        recall = num_same / len(g)
-        return 2 * precision * recall / (precision + recall)
+def exact_match_score(prediction, ground_truth):
+    return normalize_answer(prediction) == normalize_answer(ground_truth)
 
-    preds = {}
-    with open(predictions_path) as f:
-        for line in f:
-            obj = json.loads(line)
-            preds[obj["id"]] = obj["answer"]
-    em = f1 = 0.0
-    for case in suite_cases:
-        pred = preds.get(case["id"], "")
-        em += max(float(normalize_answer(pred) == normalize_answer(a)) for a in case["answers"])
-        f1 += max(f1_score(pred, a) for a in case["answers"])
-    return em / len(suite_cases), f1 / len(suite_cases)
+cases = [json.loads(line) for line in open(sys.argv[1])]
+preds = {}
+for line in open(sys.argv[2]):
+    obj = json.loads(line)
+    preds[obj["id"]] = obj["answer"]
+em = f1 = 0.0
+for case in cases:
+    pred = preds.get(case["id"], "")
+    em += max(exact_match_score(pred, a) for a in case["answers"])
+    f1 += max(f1_score(pred, a) for a in case["answers"])
+print(json.dumps({"exact_match": 100.0 * em / len(cases), "f1": 100.0 * f1 / len(cases)}))
+"""
 
 
 def main():
@@ -133,17 +138,19 @@ def main():
               f"journal lines {lines}; runs {', '.join(f'{w:.2f}' for w in walls)}")
 
         pred = make_predictions(tmp, args.cases, 0)
-        walls = [timed([plumb, "score", suite, pred])[0] for _ in range(args.repeats)]
+        walls = [timed([plumb, "score", suite, pred, "--out", os.path.join(tmp, "s0")])[0]
+                 for _ in range(args.repeats)]
         plumb_median = statistics.median(walls)
-        cases = [json.loads(l) for l in open(os.path.join(tmp, "cases.jsonl"))]
-        py = []
-        for _ in range(args.repeats):
-            start = time.perf_counter()
-            squad_eval_python(cases, pred)
-            py.append(time.perf_counter() - start)
+        program = os.path.join(tmp, "squad_eval.py")
+        with open(program, "w") as f:
+            f.write(SQUAD_EVAL_PROGRAM)
+        cases_path = os.path.join(tmp, "cases.jsonl")
+        py = [timed(["/usr/bin/python3", program, cases_path, pred])[0]
+              for _ in range(args.repeats)]
         py_median = statistics.median(py)
-        print(f"score {args.cases} cases: plumb median {plumb_median:.3f}s (whole process), "
-              f"Python SQuAD evaluation median {py_median:.3f}s (scoring loop only): "
+        print(f"score {args.cases} cases, whole process each: plumb median {plumb_median:.3f}s "
+              f"(load + validate suite, score, journal, run.json, 95% intervals per metric and "
+              f"tag), Python SQuAD evaluation median {py_median:.3f}s (EM/F1 only): "
               f"{py_median / plumb_median:.1f}x")
 
         small = peak_rss_kib([plumb, "score", suite, make_predictions(tmp, args.cases, 1024),
