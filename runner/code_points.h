@@ -31,9 +31,6 @@ size_t ByteOffsetOfCodePoint(std::string_view text, int64_t index);
 /// The UTF-8 encoding of `code_point` appended to *out.
 void AppendUtf8(char32_t code_point, std::string* out);
 
-/// Unicode's White_Space property (PropList.txt), the whitespace runs a quote match may collapse.
-bool IsUnicodeWhitespace(char32_t code_point);
-
 }  // namespace plumb
 
 #endif  // PLUMB_RUNNER_CODE_POINTS_H_

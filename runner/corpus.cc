@@ -12,6 +12,7 @@
 #include <utility>
 #include <vector>
 
+#include "metrics/quote_locator.h"
 #include "runner/code_points.h"
 #include "runner/sha256.h"
 
@@ -48,21 +49,6 @@ std::string RealPath(const std::string& path, int* error_number) {
     return "";
   }
   return resolved;
-}
-
-std::vector<char32_t> DecodeLenient(std::string_view text) {
-  std::vector<char32_t> out;
-  out.reserve(text.size());
-  size_t i = 0;
-  while (i < text.size()) {
-    char32_t c;
-    if (!DecodeCodePoint(text, &i, &c)) {
-      c = 0xFFFD;
-      ++i;
-    }
-    out.push_back(c);
-  }
-  return out;
 }
 
 size_t ByteOfCodePoint(const Document& doc, int64_t cp) {
@@ -213,43 +199,10 @@ bool FindQuote(const Document& doc, std::string_view quote, int64_t* start_cp, i
     return true;
   }
 
-  // Whitespace-collapsed matching: each whitespace run becomes one space, and we remember which
-  // original code points every collapsed one stands for so the match maps back exactly.
-  std::vector<char32_t> text = DecodeLenient(doc.text);
-  std::u32string collapsed;
-  std::vector<int64_t> origin_start, origin_end;
-  for (size_t i = 0; i < text.size();) {
-    size_t run_end = i;
-    while (run_end < text.size() && IsUnicodeWhitespace(text[run_end])) ++run_end;
-    if (run_end > i) {
-      collapsed += U' ';
-      origin_start.push_back(int64_t(i));
-      origin_end.push_back(int64_t(run_end));
-      i = run_end;
-    } else {
-      collapsed += text[i];
-      origin_start.push_back(int64_t(i));
-      origin_end.push_back(int64_t(i + 1));
-      ++i;
-    }
-  }
-  std::u32string needle;
-  for (char32_t c : DecodeLenient(quote)) {
-    if (IsUnicodeWhitespace(c)) {
-      if (!needle.empty() && needle.back() != U' ') needle += U' ';
-    } else {
-      needle += c;
-    }
-  }
-  if (!needle.empty() && needle.back() == U' ') needle.pop_back();
-  if (needle.empty()) return false;
-  size_t match = collapsed.find(needle);
-  if (match == std::u32string::npos) return false;
-  for (size_t at = match; at != std::u32string::npos; at = collapsed.find(needle, at + 1)) {
-    ++*occurrences;
-  }
-  *start_cp = origin_start[match];
-  *end_cp = origin_end[match + needle.size() - 1];
+  // The whitespace-collapsed rule is the one quote citations are scored with
+  // (metrics::LocateQuote), so gold quotes and cited quotes are located alike.
+  if (!metrics::LocateQuote(doc.text, quote, start_cp, end_cp)) return false;
+  *occurrences = 1;
   return true;
 }
 

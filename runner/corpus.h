@@ -66,9 +66,10 @@ class Corpus {
 /// Locates `quote` in `doc`: the first exact occurrence, or failing that the first occurrence
 /// when runs of Unicode whitespace (White_Space) in both the document and the quote count as a
 /// single space and the quote's leading and trailing whitespace is ignored. On success sets the
-/// code-point span [*start_cp, *end_cp) in the original text and *occurrences (how often the
-/// quote occurs under the rule that matched, overlapping occurrences included). Returns false,
-/// with *occurrences = 0, when the quote is not found or is empty or all whitespace.
+/// code-point span [*start_cp, *end_cp) in the original text and *occurrences: how often the
+/// quote occurs verbatim (overlapping occurrences included), or 1 for a whitespace-collapsed
+/// match, which is metrics::LocateQuote's rule and is not counted further. Returns false, with
+/// *occurrences = 0, when the quote is not found or is empty or all whitespace.
 bool FindQuote(const Document& doc, std::string_view quote, int64_t* start_cp, int64_t* end_cp,
                int* occurrences);
 

@@ -169,28 +169,6 @@ TEST_CASE("UTF-8 validation follows RFC 3629") {
   CHECK(bad == 3);
 }
 
-TEST_CASE("White_Space matches Unicode's PropList.txt") {
-  // /usr/share/unicode/PropList.txt (Debian unicode-data) is the reference.
-  std::ifstream in("/usr/share/unicode/PropList.txt");
-  if (!in) {
-    WARN("unicode-data not installed; skipped");
-    return;
-  }
-  std::vector<bool> listed(0x110000, false);
-  std::string line;
-  while (std::getline(in, line)) {
-    if (line.find("; White_Space") == std::string::npos) continue;
-    unsigned first = std::stoul(line, nullptr, 16), last = first;
-    size_t dots = line.find("..");
-    if (dots != std::string::npos && dots < line.find(';'))
-      last = std::stoul(line.substr(dots + 2), nullptr, 16);
-    for (unsigned c = first; c <= last; ++c) listed[c] = true;
-  }
-  for (char32_t c = 0; c < 0x110000; ++c) {
-    if (listed[c] != IsUnicodeWhitespace(c)) FAIL("mismatch at U+" << std::hex << unsigned(c));
-  }
-}
-
 TEST_CASE("the fingerprint covers every regular file and changes with an edit") {
   TempDir dir;
   dir.Write("docs/a.md", "alpha");
