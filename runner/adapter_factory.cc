@@ -1,5 +1,6 @@
 #include "runner/adapter_factory.h"
 
+#include "runner/http_adapter.h"
 #include "runner/subprocess_adapter.h"
 
 namespace plumb {
@@ -10,10 +11,7 @@ std::unique_ptr<Adapter> CreateAdapter(const PipelineConfig& pipeline, int jobs,
     case PipelineKind::kSubprocess:
       return SubprocessAdapter::Create(pipeline, jobs, error);
     case PipelineKind::kHttp:
-      *error =
-          "HTTP pipelines (url:) are not supported by this build yet; run the pipeline as a "
-          "subprocess (command:) instead";
-      return nullptr;
+      return HttpAdapter::Create(pipeline, jobs, error);
   }
   return nullptr;
 }
