@@ -67,8 +67,13 @@ bool ParseSourceRef(const nlohmann::json& item, const ResponseMap& map, SourceRe
 }
 
 bool ParseRefList(const nlohmann::json& body, const std::string& pointer, const char* what,
-                  const ResponseMap& map, std::vector<SourceRef>* out, std::string* error) {
+                  bool required, const ResponseMap& map, std::vector<SourceRef>* out,
+                  std::string* error) {
   const nlohmann::json* list = Resolve(body, pointer);
+  if (list == nullptr && required) {
+    *error = std::string("response has no ") + what + " at '" + pointer + "'";
+    return false;
+  }
   if (list == nullptr || list->is_null()) return true;  // optional
   if (!list->is_array()) {
     *error = std::string(what) + " at '" + pointer + "' must be a list";
@@ -101,8 +106,14 @@ ResponseMap ResponseMap::FromConfig(const std::map<std::string, std::string>& co
   for (const auto& [key, value] : config) {
     if (key == "answer") map.answer = value;
     if (key == "abstained") map.abstained = value;
-    if (key == "citations") map.citations = value;
-    if (key == "retrieved") map.retrieved = value;
+    if (key == "citations") {
+      map.citations = value;
+      map.citations_required = true;
+    }
+    if (key == "retrieved") {
+      map.retrieved = value;
+      map.retrieved_required = true;
+    }
     if (key == "usage") map.usage = value;
     const std::string prefix = "fields.";
     if (key.rfind(prefix, 0) == 0) map.citation_fields[key.substr(prefix.size())] = value;
@@ -151,8 +162,14 @@ bool ParseResponseJson(const nlohmann::json& body, const ResponseMap& map, Respo
       out->answer.reset();
     }
   }
-  if (!ParseRefList(body, map.citations, "citations", map, &out->citations, error)) return false;
-  if (!ParseRefList(body, map.retrieved, "retrieved", map, &out->retrieved, error)) return false;
+  if (!ParseRefList(body, map.citations, "citations", map.citations_required, map, &out->citations,
+                    error)) {
+    return false;
+  }
+  if (!ParseRefList(body, map.retrieved, "retrieved", map.retrieved_required, map, &out->retrieved,
+                    error)) {
+    return false;
+  }
   const nlohmann::json* retrieved = Resolve(body, map.retrieved);
   out->has_retrieved = retrieved != nullptr && retrieved->is_array();
   if (const nlohmann::json* usage = Resolve(body, map.usage);

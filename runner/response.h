@@ -43,6 +43,11 @@ struct ResponseMap {
   std::string retrieved = "/retrieved";
   std::string usage = "/usage";
   std::map<std::string, std::string> citation_fields;
+  /// Set when `map:` names the pointer explicitly: a reply where it does not resolve is then a
+  /// case error (a mistyped pointer must not silently score as "no citations"). The default
+  /// top-level keys stay optional.
+  bool citations_required = false;
+  bool retrieved_required = false;
 
   /// Builds a map from a pipeline's `map:` block; unknown keys were rejected by the loader.
   static ResponseMap FromConfig(const std::map<std::string, std::string>& config);

@@ -84,3 +84,16 @@ TEST_CASE("JSON Pointers and renamed citation fields map a service's own reply s
   CHECK(*r.citations[0].start == 4);
   CHECK(*r.citations[0].end == 9);
 }
+
+TEST_CASE("a pointer the map names explicitly must resolve") {
+  // A mistyped `map: {citations: /data/refz}` would otherwise score every case as uncited.
+  ResponseMap map =
+      ResponseMap::FromConfig({{"answer", "/data/text"}, {"citations", "/data/refs"}});
+  Response r;
+  std::string error;
+  CHECK_FALSE(ParseResponse(R"({"data": {"text": "Ten."}})", map, &r, &error));
+  CHECK(error == "response has no citations at '/data/refs'");
+  // The default keys stay optional: a reply without "citations" simply cites nothing.
+  REQUIRE(ParseResponse(R"({"answer": "Ten."})", ResponseMap(), &r, &error));
+  CHECK(r.citations.empty());
+}
