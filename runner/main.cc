@@ -7,10 +7,14 @@
 #include <vector>
 
 #include "runner/check_command.h"
+#include "runner/drift_command.h"
 #include "runner/exit_code.h"
+#include "runner/report_command.h"
 #include "runner/run_command.h"
+#include "runner/run_outputs.h"
 #include "runner/run_record.h"
 #include "runner/score_command.h"
+#include "runner/summary_table.h"
 
 namespace {
 
@@ -24,6 +28,17 @@ bool ParseLabels(const std::vector<std::string>& raw, std::map<std::string, std:
     (*out)[key] = value;
   }
   return true;
+}
+
+/// --html, --junit and --markdown, the report files of SPEC §10 (run_outputs.h).
+void AddOutputOptions(CLI::App* command, plumb::OutputOptions* outputs, bool junit) {
+  command->add_option("--html", outputs->html, "Write the self-contained HTML report to FILE");
+  if (junit) {
+    command->add_option("--junit", outputs->junit,
+                        "Write JUnit XML (one testcase per case) to FILE");
+  }
+  command->add_option("--markdown", outputs->markdown,
+                      "Write a Markdown summary for a pull-request comment to FILE");
 }
 
 }  // namespace
@@ -55,6 +70,9 @@ int main(int argc, char** argv) {
   run_cmd->add_option("--shard", shard, "Shard I of N (I/N), by a stable hash of the case id");
   run_cmd->add_option("--label", run_labels, "Label the run, KEY=VALUE (repeatable)");
   run_cmd->add_flag("--json", run.json, "Print the run record as JSON on stdout");
+  run_cmd->add_option("--baseline", run.baseline_dir,
+                      "Compare with this run directory (drift) and exit 1 on a regression");
+  AddOutputOptions(run_cmd, &run.outputs, /*junit=*/true);
 
   plumb::ScoreOptions score;
   std::vector<std::string> score_labels;
@@ -67,6 +85,32 @@ int main(int argc, char** argv) {
                         "Run directory (default: plumb-out/<suite>/predictions)");
   score_cmd->add_option("--label", score_labels, "Label the run, KEY=VALUE (repeatable)");
   score_cmd->add_flag("--json", score.json, "Print the run record as JSON on stdout");
+  AddOutputOptions(score_cmd, &score.outputs, /*junit=*/true);
+
+  plumb::DriftCommandOptions drift;
+  std::string gate;
+  CLI::App* drift_cmd = app.add_subcommand(
+      "drift", "Compare a candidate run with a base run; exit 1 when a gated metric regressed");
+  drift_cmd->add_option("BASE_DIR", drift.base_dir, "Run directory of the base (e.g. main)")
+      ->required();
+  drift_cmd->add_option("CAND_DIR", drift.cand_dir, "Run directory of the candidate")->required();
+  drift_cmd->add_option("--gate", gate,
+                        "Metrics whose regression fails the command, comma-separated (default: "
+                        "correct,token_f1,citation_recall)");
+  drift_cmd->add_option("--min-effect", drift.drift.min_effect,
+                        "Smallest |delta| a verdict may call a change (default 0.005)");
+  drift_cmd->add_option("--seed", drift.drift.seed, "Bootstrap seed (default 20261201)");
+  drift_cmd->add_option("--resamples", drift.drift.resamples,
+                        "Bootstrap resamples (default 10000)");
+  drift_cmd->add_flag("--json", drift.json, "Print the drift report as JSON on stdout");
+  AddOutputOptions(drift_cmd, &drift.outputs, /*junit=*/false);
+
+  plumb::ReportOptions report;
+  CLI::App* report_cmd =
+      app.add_subcommand("report", "Re-render a stored run's summary and report files");
+  report_cmd->add_option("RUN_DIR", report.run_dir, "Run directory")->required();
+  report_cmd->add_flag("--json", report.json, "Print the run record as JSON on stdout");
+  AddOutputOptions(report_cmd, &report.outputs, /*junit=*/true);
 
   plumb::CheckOptions check;
   CLI::App* check_cmd =
@@ -101,5 +145,15 @@ int main(int argc, char** argv) {
     return plumb::ScoreCommand(score);
   }
   if (*check_cmd) return plumb::CheckCommand(check);
+  if (*drift_cmd) {
+    std::string error;
+    if (!gate.empty() && !plumb::ParseGate(gate, &drift.drift.gate, &error)) {
+      std::fprintf(stderr, "plumb: %s\n", error.c_str());
+      return plumb::kExitUsage;
+    }
+    drift.colour = plumb::UseColour(stdout);
+    return plumb::DriftCommand(drift);
+  }
+  if (*report_cmd) return plumb::ReportCommand(report);
   return plumb::kExitUsage;
 }

@@ -1,6 +1,7 @@
 #include "runner/run_command.h"
 
 #include <sys/stat.h>
+#include <unistd.h>
 
 #include <cerrno>
 #include <chrono>
@@ -10,11 +11,14 @@
 #include <set>
 
 #include "runner/adapter_factory.h"
+#include "runner/drift_command.h"
 #include "runner/interrupt.h"
 #include "runner/prepared_suite.h"
 #include "runner/run_journal.h"
+#include "runner/run_reader.h"
 #include "runner/run_summary.h"
 #include "runner/scheduler.h"
+#include "runner/summary_table.h"
 
 namespace plumb {
 namespace {
@@ -182,6 +186,58 @@ int Worse(int a, int b) {
   return rank(a) >= rank(b) ? a : b;
 }
 
+/// After a finished run: its report files and, with --baseline, the drift against the baseline
+/// run (printed after the run's summary, or added to the JSON record as "drift"). Returns the
+/// pipeline's exit code with the drift gate's folded in.
+int ReportOnRun(const RunOptions& options, const std::string& suite, const std::string& pipeline,
+                bool several, int code, nlohmann::json* record) {
+  if (options.baseline_dir.empty() && options.outputs.empty()) return code;
+  const std::string dir = RunDirectory(options.out_dir, suite, pipeline, several);
+  const OutputOptions outputs =
+      several ? OutputsForPipeline(options.outputs, pipeline) : options.outputs;
+  LoadedRun run;
+  std::string error;
+  if (!LoadRun(dir, &run, &error)) {
+    std::fprintf(stderr, "plumb: %s\n", error.c_str());
+    return Worse(code, kExitUsage);
+  }
+  if (options.baseline_dir.empty()) {
+    if (!WriteRunOutputs(run, outputs, &error)) {
+      std::fprintf(stderr, "plumb: %s\n", error.c_str());
+      return Worse(code, kExitUsage);
+    }
+    return code;
+  }
+  // With several pipelines the baseline mirrors --out: one run directory per pipeline.
+  const std::string baseline_dir =
+      several ? options.baseline_dir + "/" + pipeline : options.baseline_dir;
+  LoadedRun baseline;
+  if (!LoadRun(baseline_dir, &baseline, &error)) {
+    std::fprintf(stderr, "plumb: --baseline: %s\n", error.c_str());
+    return Worse(code, kExitUsage);
+  }
+  DriftCommandOptions drift;
+  drift.base_dir = baseline_dir;
+  drift.cand_dir = dir;
+  drift.outputs = outputs;
+  drift.json = options.json;
+  drift.colour = UseColour(stdout);
+  if (!options.json) std::printf("\n");
+  nlohmann::json drift_json;
+  const int gate = RunDrift(baseline, run, drift, &drift_json);
+  if (options.json && gate != kExitUsage) (*record)["drift"] = std::move(drift_json);
+  const int combined = Worse(code, gate);
+  // The last line states the process's exit code: the run's own verdict when it outranks the
+  // gate's (case errors, say), repeated after the drift table.
+  if (!options.json && gate != kExitUsage && combined != gate) {
+    const std::string reason = record->contains("verdict")
+                                   ? (*record)["verdict"].value("reason", std::string())
+                                   : std::string();
+    std::printf("\nexit %d: %s\n", combined, reason.c_str());
+  }
+  return combined;
+}
+
 }  // namespace
 
 std::string RunDirectory(const std::string& out_dir, const std::string& suite_name,
@@ -245,11 +301,29 @@ int RunCommand(const RunOptions& options) {
   }
 
   const bool several = pipelines.size() > 1;
+  // A baseline that is not there fails now, before any pipeline runs.
+  for (const PipelineConfig* pipeline : pipelines) {
+    if (options.baseline_dir.empty()) break;
+    const std::string dir =
+        several ? options.baseline_dir + "/" + pipeline->name : options.baseline_dir;
+    if (::access((dir + "/run.json").c_str(), R_OK) != 0) {
+      std::fprintf(stderr,
+                   "plumb: --baseline %s: no run.json in %s; point --baseline at the run "
+                   "directory of a finished run%s\n",
+                   options.baseline_dir.c_str(), dir.c_str(),
+                   several ? " (with several pipelines, one subdirectory per pipeline)" : "");
+      return kExitUsage;
+    }
+  }
   int code = kExitOk;
   nlohmann::json runs = nlohmann::json::array();
   for (const PipelineConfig* pipeline : pipelines) {
     PipelineRun run;
-    const int pipeline_code = RunOnePipeline(options, prepared, *pipeline, selected, several, &run);
+    int pipeline_code = RunOnePipeline(options, prepared, *pipeline, selected, several, &run);
+    if (pipeline_code != kExitInterrupted && pipeline_code != kExitUsage) {
+      pipeline_code =
+          ReportOnRun(options, suite.name, pipeline->name, several, pipeline_code, &run.record);
+    }
     code = Worse(code, pipeline_code);
     if (!run.record.is_null()) runs.push_back(std::move(run.record));
     if (pipeline_code == kExitInterrupted || pipeline_code == kExitUsage) break;

@@ -10,6 +10,7 @@
 #include <vector>
 
 #include "runner/case_selection.h"
+#include "runner/run_outputs.h"
 
 namespace plumb {
 
@@ -24,7 +25,9 @@ struct RunOptions {
   CaseSelection selection;                    // --tag, --case, --shard, --limit
   std::map<std::string, std::string> labels;  // --label K=V
   bool json = false;                          // --json
-  bool progress = true;                       // false in tests
+  std::string baseline_dir;  // --baseline DIR: drift against it and gate (SPEC §7, §8)
+  OutputOptions outputs;     // --html, --junit, --markdown
+  bool progress = true;      // false in tests
 };
 
 int RunCommand(const RunOptions& options);

@@ -9,6 +9,7 @@
 #include "runner/prepared_suite.h"
 #include "runner/run_command.h"
 #include "runner/run_journal.h"
+#include "runner/run_reader.h"
 #include "runner/run_summary.h"
 #include "runner/scheduler.h"
 
@@ -166,6 +167,13 @@ int ScoreCommand(const ScoreOptions& options) {
   if (!FinishRun(context, outcomes, false, run_dir, options.json, seconds, &finished, &error)) {
     std::fprintf(stderr, "plumb: %s\n", error.c_str());
     return 2;
+  }
+  if (!options.outputs.empty()) {
+    LoadedRun run;
+    if (!LoadRun(run_dir, &run, &error) || !WriteRunOutputs(run, options.outputs, &error)) {
+      std::fprintf(stderr, "plumb: %s\n", error.c_str());
+      return 2;
+    }
   }
   if (options.json) std::printf("%s\n", finished.record.dump(2).c_str());
   return finished.verdict.code;

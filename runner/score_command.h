@@ -10,6 +10,8 @@
 #include <map>
 #include <string>
 
+#include "runner/run_outputs.h"
+
 namespace plumb {
 
 struct ScoreOptions {
@@ -18,6 +20,7 @@ struct ScoreOptions {
   std::string out_dir;  // empty: plumb-out/<suite>/predictions
   std::map<std::string, std::string> labels;
   bool json = false;
+  OutputOptions outputs;  // --html, --junit, --markdown
 };
 
 int ScoreCommand(const ScoreOptions& options);
