@@ -24,7 +24,7 @@ void RecordMany(CircuitBreaker& breaker, int count, bool failed) {
 
 }  // namespace
 
-TEST_CASE("a few early failures do not open the breaker; the tenth does") {
+TEST_CASE("a few early failures do not open the breaker but the tenth does") {
   CircuitBreaker breaker;
   RecordMany(breaker, 9, true);
   CHECK(breaker.Admit(kT0).verdict == Verdict::kGo);  // 9 recorded, fewer than 10
@@ -60,7 +60,7 @@ TEST_CASE("only the last 20 attempts count") {
   }
 }
 
-TEST_CASE("after the pause one probe goes; the others wait; its success closes the breaker") {
+TEST_CASE("after the pause one probe goes while the others wait and its success closes the breaker") {
   CircuitBreaker breaker;
   RecordMany(breaker, 10, true);
   CHECK(breaker.Admit(kT0 + seconds(1)).verdict == Verdict::kWait);
