@@ -1,5 +1,7 @@
 #include "runner/run_record.h"
 
+#include <limits.h>
+#include <stdlib.h>
 #include <unistd.h>
 
 #include <cerrno>
@@ -10,6 +12,16 @@
 #include "runner/sha256.h"
 
 namespace plumb {
+namespace {
+
+/// The corpus directory as an absolute path, so `plumb report` finds the documents from any
+/// working directory on the machine that ran the suite.
+std::string AbsolutePath(const std::string& path) {
+  char resolved[PATH_MAX];
+  return realpath(path.c_str(), resolved) != nullptr ? std::string(resolved) : path;
+}
+
+}  // namespace
 
 nlohmann::json BuildRunRecord(const RunContext& ctx, const RunAggregates& aggregates,
                               const std::vector<ThresholdOutcome>& thresholds,
@@ -49,9 +61,11 @@ nlohmann::json BuildRunRecord(const RunContext& ctx, const RunAggregates& aggreg
         {"lang", suite.lang},
         {"retrieval_k", suite.retrieval_k},
         {"case_pass", suite.case_pass},
+        {"min_overlap", suite.min_overlap},
         {"max_error_rate", suite.max_error_rate}}},
       {"corpus_fingerprint", ctx.corpus_fingerprint},
-      {"corpus_dir", suite.corpus_dir ? nlohmann::json(*suite.corpus_dir) : nlohmann::json()},
+      {"corpus_dir", suite.corpus_dir ? nlohmann::json(AbsolutePath(*suite.corpus_dir))
+                                      : nlohmann::json()},
       {"pipeline", {{"name", ctx.pipeline_name}, {"config", ctx.pipeline_config}}},
       {"labels", labels},
       {"started_at", ctx.started_at},
