@@ -51,6 +51,9 @@ class Adapter {
   /// Sends `request` and waits for the reply. Thread-safe across distinct `slot` values in
   /// [0, slots()); never called concurrently with the same slot. Never throws.
   virtual CallResult Call(const PipelineRequest& request, int slot) = 0;
+  /// Calls waiting to retry right now (backoff or Retry-After), for the progress line.
+  /// Thread-safe; adapters that never retry keep the default.
+  virtual int retries_in_flight() const { return 0; }
   /// Stops every process / connection; pending Calls return promptly with an error.
   /// Called once, after the last Call or from a signal-watching thread on interrupt.
   virtual void Shutdown() = 0;

@@ -93,6 +93,7 @@ class HttpAdapter : public Adapter {
 
   /// Calls now waiting out a backoff or Retry-After before their next attempt.
   int retries_waiting() const { return retries_waiting_.load(); }
+  int retries_in_flight() const override { return retries_waiting(); }
   /// How often the circuit breaker has paused the run.
   int breaker_openings() const { return breaker_.times_opened(); }
 

@@ -7,8 +7,10 @@
 
 namespace plumb {
 
-Progress::Progress(std::string label, int64_t total, bool enabled)
+Progress::Progress(std::string label, int64_t total, bool enabled,
+                   std::function<int()> retries_in_flight)
     : label_(std::move(label)),
+      retries_in_flight_(std::move(retries_in_flight)),
       total_(total),
       enabled_(enabled),
       terminal_(isatty(STDERR_FILENO) == 1),

@@ -125,16 +125,17 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
   context.resumed = options.resume;
 
   const auto start = std::chrono::steady_clock::now();
+  Adapter* raw_adapter = adapter.get();
   Progress progress(pipeline.name, static_cast<int64_t>(items.size()),
-                    options.progress && !items.empty());
+                    options.progress && !items.empty(),
+                    [raw_adapter] { return raw_adapter->retries_in_flight(); });
   ScheduleResult scheduled;
   {
-    Adapter* raw = adapter.get();
-    InterruptWatch watch([raw] { raw->Shutdown(); });
+    InterruptWatch watch([raw_adapter] { raw_adapter->Shutdown(); });
     ScheduleInputs inputs;
     inputs.suite = &suite;
     inputs.items = &items;
-    inputs.adapter = raw;
+    inputs.adapter = raw_adapter;
     inputs.scorer = prepared.scorer.get();
     inputs.journal = journal.get();
     inputs.pipeline = &pipeline;
