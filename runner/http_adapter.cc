@@ -11,6 +11,7 @@
 #include <thread>
 
 #include "runner/excerpt.h"
+#include "runner/human_units.h"
 #include "runner/request_template.h"
 
 namespace plumb {
@@ -21,26 +22,6 @@ using Clock = std::chrono::steady_clock;
 // A transfer's reply buffer is kept between calls (no allocation per call) unless an unusually
 // large reply grew it beyond this.
 constexpr size_t kKeptBufferBytes = 1024 * 1024;
-
-// "30s", "300ms", "1.5s": how a user would write the timeout.
-std::string FormatDuration(std::chrono::milliseconds duration) {
-  const int64_t ms = duration.count();
-  if (ms % 1000 == 0) return std::to_string(ms / 1000) + "s";
-  if (ms < 1000) return std::to_string(ms) + "ms";
-  char text[32];
-  snprintf(text, sizeof text, "%.3f", static_cast<double>(ms) / 1000.0);
-  std::string seconds = text;
-  while (seconds.back() == '0') seconds.pop_back();
-  return seconds + "s";
-}
-
-// "16 MiB", "64 KiB", "1000 bytes".
-std::string FormatBytes(size_t bytes) {
-  constexpr size_t kKiB = 1024, kMiB = 1024 * 1024;
-  if (bytes >= kMiB && bytes % kMiB == 0) return std::to_string(bytes / kMiB) + " MiB";
-  if (bytes >= kKiB && bytes % kKiB == 0) return std::to_string(bytes / kKiB) + " KiB";
-  return std::to_string(bytes) + " bytes";
-}
 
 // Reason phrases of RFC 9110 §15 (429 from RFC 6585 §4), for the statuses a pipeline is likely
 // to send; HTTP/2 replies carry no phrase of their own.

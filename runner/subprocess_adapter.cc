@@ -15,6 +15,7 @@
 #include <map>
 
 #include "runner/excerpt.h"
+#include "runner/human_units.h"
 
 extern char** environ;
 
@@ -100,26 +101,6 @@ int MillisecondsUntil(Clock::time_point deadline) {
 
 double MillisecondsSince(Clock::time_point start) {
   return std::chrono::duration<double, std::milli>(Clock::now() - start).count();
-}
-
-// "30s", "300ms", "1.5s": how a user would write the timeout.
-std::string FormatDuration(std::chrono::milliseconds duration) {
-  const int64_t ms = duration.count();
-  if (ms % 1000 == 0) return std::to_string(ms / 1000) + "s";
-  if (ms < 1000) return std::to_string(ms) + "ms";
-  char text[32];
-  snprintf(text, sizeof text, "%.3f", static_cast<double>(ms) / 1000.0);
-  std::string seconds = text;
-  while (seconds.back() == '0') seconds.pop_back();
-  return seconds + "s";
-}
-
-// "16 MiB", "64 KiB", "1000 bytes".
-std::string FormatBytes(size_t bytes) {
-  constexpr size_t kKiB = 1024, kMiB = 1024 * 1024;
-  if (bytes >= kMiB && bytes % kMiB == 0) return std::to_string(bytes / kMiB) + " MiB";
-  if (bytes >= kKiB && bytes % kKiB == 0) return std::to_string(bytes / kKiB) + " KiB";
-  return std::to_string(bytes) + " bytes";
 }
 
 enum class WriteState { kPending, kDone, kBroken };
