@@ -5,25 +5,13 @@
 #include <cmath>
 
 #include "metrics/utf8.h"
+#include "runner/terminal_palette.h"
 
 namespace plumb {
 namespace {
 
 constexpr size_t kShownCases = 10;
 constexpr int kShownTagRows = 20;
-
-struct Palette {
-  const char* good = "";
-  const char* bad = "";
-  const char* dim = "";
-  const char* bold = "";
-  const char* reset = "";
-};
-
-Palette MakePalette(bool colour) {
-  if (!colour) return {};
-  return {"\033[32m", "\033[31m", "\033[2m", "\033[1m", "\033[0m"};
-}
 
 /// `text` with C0/C1 controls and DEL as '?', cut to `max` code points.
 std::string Plain(const std::string& text, size_t max = 60) {

@@ -1,25 +1,11 @@
 #include "runner/summary_table.h"
 
 #include <fmt/format.h>
-#include <unistd.h>
 
-#include <cstdlib>
+#include "runner/terminal_palette.h"
 
 namespace plumb {
 namespace {
-
-struct Palette {
-  const char* good = "";
-  const char* bad = "";
-  const char* dim = "";
-  const char* bold = "";
-  const char* reset = "";
-};
-
-Palette MakePalette(bool colour) {
-  if (!colour) return {};
-  return {"\033[32m", "\033[31m", "\033[2m", "\033[1m", "\033[0m"};
-}
 
 std::string ThresholdCell(const std::vector<ThresholdOutcome>& thresholds, const std::string& tag,
                           const std::string& metric, const Palette& p) {
@@ -43,12 +29,6 @@ void AppendMetricRows(std::string* out, const std::vector<MetricAggregate>& metr
 }
 
 }  // namespace
-
-bool UseColour(std::FILE* stream) {
-  const char* no_colour = std::getenv("NO_COLOR");
-  if (no_colour != nullptr && no_colour[0] != '\0') return false;
-  return isatty(fileno(stream)) == 1;
-}
 
 std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
                           const std::vector<ThresholdOutcome>& thresholds,

@@ -12,6 +12,7 @@
 
 #include "runner/exit_code.h"
 #include "runner/run_aggregates.h"
+#include "runner/terminal_palette.h"
 
 namespace plumb {
 
@@ -25,9 +26,6 @@ struct SummaryHeader {
 std::string FormatSummary(const SummaryHeader& header, const RunAggregates& aggregates,
                           const std::vector<ThresholdOutcome>& thresholds,
                           const RunVerdict& verdict, bool colour);
-
-/// True when `stream` is a terminal and NO_COLOR is unset or empty.
-bool UseColour(std::FILE* stream);
 
 }  // namespace plumb
 
