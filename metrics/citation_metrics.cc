@@ -152,6 +152,17 @@ std::string CitationMatcher::GoldProblem(const GoldSpanRef& gold, const std::str
   return "";
 }
 
+std::vector<bool> CitationMatcher::ValidGold(const std::vector<GoldSpanRef>& gold,
+                                             std::vector<std::string>* warnings) {
+  std::vector<bool> valid(gold.size());
+  for (size_t j = 0; j < gold.size(); ++j) {
+    const std::string problem = GoldProblem(gold[j], "gold span " + std::to_string(j + 1));
+    valid[j] = problem.empty();
+    if (!valid[j]) warnings->push_back(problem + "; it cannot be hit");
+  }
+  return valid;
+}
+
 CitationScores ScoreCitations(const std::vector<CitedRef>& citations,
                               const std::vector<GoldSpanRef>& gold, double min_overlap,
                               const DocumentLookup& documents,
@@ -159,13 +170,7 @@ CitationScores ScoreCitations(const std::vector<CitedRef>& citations,
   CitationMatcher matcher(min_overlap, documents, indexes);
   CitationScores scores;
 
-  std::vector<bool> gold_valid(gold.size());
-  for (size_t j = 0; j < gold.size(); ++j) {
-    std::string problem =
-        CitationMatcher::GoldProblem(gold[j], "gold span " + std::to_string(j + 1));
-    gold_valid[j] = problem.empty();
-    if (!gold_valid[j]) scores.warnings.push_back(problem + "; it cannot be hit");
-  }
+  const std::vector<bool> gold_valid = CitationMatcher::ValidGold(gold, &scores.warnings);
   scores.gold_hit_flags.assign(gold.size(), false);
 
   std::map<DistinctKey, bool> distinct;  // -> whether it hits some gold span

@@ -81,6 +81,11 @@ class CitationMatcher {
   /// formed. The suite loader has already checked gold spans against the documents; this guards
   /// the metric against a caller that did not.
   static std::string GoldProblem(const GoldSpanRef& gold, const std::string& label);
+  /// For each gold span, whether it is valid (GoldProblem is empty); each invalid one adds a
+  /// warning "gold span N ...; it cannot be hit" to *warnings. Shared by citation and retrieval
+  /// scoring so both judge gold spans alike.
+  static std::vector<bool> ValidGold(const std::vector<GoldSpanRef>& gold,
+                                     std::vector<std::string>* warnings);
 
  private:
   struct Document {

@@ -9,13 +9,7 @@ RetrievalScores ScoreRetrieval(const std::vector<CitedRef>& retrieved_ranked,
   CitationMatcher matcher(min_overlap, documents, indexes);
   RetrievalScores scores;
 
-  std::vector<bool> gold_valid(gold.size());
-  for (size_t j = 0; j < gold.size(); ++j) {
-    std::string problem =
-        CitationMatcher::GoldProblem(gold[j], "gold span " + std::to_string(j + 1));
-    gold_valid[j] = problem.empty();
-    if (!gold_valid[j]) scores.warnings.push_back(problem + "; it cannot be hit");
-  }
+  const std::vector<bool> gold_valid = CitationMatcher::ValidGold(gold, &scores.warnings);
 
   // first_rank[j]: 1-based rank of the first item hitting gold span j, 0 while none has.
   std::vector<int64_t> first_rank(gold.size(), 0);
