@@ -67,10 +67,12 @@ AnswerScores ScoreAnswer(const std::optional<std::string>& answer, const Normali
                          NormalizationProfile profile, std::string_view lang) {
   AnswerScores scores;
   if (!answer.has_value()) {
+    scores.abstained = true;
     if (gold.answers.empty()) scores.exact_match = scores.token_f1 = 1;
     return scores;
   }
   const std::vector<std::string> tokens = NormalizeTokens(*answer, profile, lang);
+  scores.abstained = tokens.empty();
   if (gold.answers.empty()) {
     if (tokens.empty()) scores.exact_match = scores.token_f1 = 1;
     return scores;

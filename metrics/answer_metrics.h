@@ -35,6 +35,7 @@ NormalizedGold NormalizeGold(const std::vector<std::string>& answers, Normalizat
 struct AnswerScores {
   double exact_match = 0;
   double token_f1 = 0;
+  bool abstained = false;  // the answer was nullopt or normalized to no tokens
 };
 
 /// Scores one answer; `answer` nullopt means the pipeline abstained. exact_match is equality of

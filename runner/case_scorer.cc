@@ -121,10 +121,8 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
       metrics::ScoreAnswer(response->answer, prepared.gold, suite_.normalize, suite_.lang);
   scores.values["exact_match"] = answer.exact_match;
   scores.values["token_f1"] = answer.token_f1;
-  scores.abstained =
-      response->abstained || metrics::NormalizeTokens(response->answer.value_or(std::string()),
-                                                      suite_.normalize, suite_.lang)
-                                 .empty();
+  // The reply abstained, or its answer normalized to no tokens (SPEC §6.2).
+  scores.abstained = answer.abstained;
 
   double correct = answer.exact_match;
   const std::string raw_answer = response->answer.value_or(std::string());

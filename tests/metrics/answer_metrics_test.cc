@@ -77,6 +77,10 @@ TEST_CASE("Abstention cases score 1 only when the pipeline abstains", "[answer_m
   CHECK(Squad(std::string("The."), none).exact_match == 1);
   CHECK(Squad(std::string("Ten minutes"), none).exact_match == 0);
   CHECK(Squad(std::string("Ten minutes"), none).token_f1 == 0);
+  // "The." normalizes to no tokens ("the" is an article, "." punctuation): an abstention.
+  CHECK(Squad(std::nullopt, none).abstained);
+  CHECK(Squad(std::string("The."), none).abstained);
+  CHECK_FALSE(Squad(std::string("Ten minutes"), none).abstained);
 }
 
 TEST_CASE("Abstaining on an answerable case scores 0", "[answer_metrics]") {
