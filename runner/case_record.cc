@@ -1,56 +1,75 @@
 #include "runner/case_record.h"
 
 #include "runner/excerpt.h"
+#include "runner/json_writer.h"
 
 namespace plumb {
 namespace {
 
-nlohmann::json RefsToJson(const std::vector<SourceRef>& refs) {
-  nlohmann::json out = nlohmann::json::array();
-  for (const SourceRef& ref : refs) out.push_back(SourceRefToJson(ref));
-  return out;
+void WriteRefs(JsonWriter* w, const std::vector<SourceRef>& refs) {
+  w->BeginArray();
+  for (const SourceRef& ref : refs) {
+    w->BeginObject().Member("doc", ref.doc);
+    if (ref.start) w->Member("start", *ref.start);
+    if (ref.end) w->Member("end", *ref.end);
+    if (ref.quote) w->Member("quote", *ref.quote);
+    w->EndObject();
+  }
+  w->EndArray();
 }
 
 }  // namespace
 
-nlohmann::json RecordedBody(const std::string& body, const nlohmann::json* parsed) {
-  if (parsed != nullptr && body.size() <= kMaxRecordedBody) return *parsed;
+nlohmann::json RecordedBody(const std::string& body, nlohmann::json* parsed) {
+  if (parsed != nullptr && body.size() <= kMaxRecordedBody) return std::move(*parsed);
   if (body.empty()) return nullptr;
   // nlohmann::json refuses invalid UTF-8 on dump; the replace handler turns it into U+FFFD.
   return {{"excerpt", std::string(Utf8Prefix(body, 2048))}, {"bytes", body.size()}};
 }
 
-nlohmann::json CaseRecordToJson(const CaseRecord& r) {
-  nlohmann::json out = {{"id", r.id},
-                        {"repeat", r.repeat},
-                        {"request", r.request},
-                        {"response", r.response},
-                        {"latency_ms", r.latency_ms},
-                        {"attempts", r.attempts}};
+std::string CaseRecordLine(const CaseRecord& r) {
+  std::string line;
+  line.reserve(512);
+  JsonWriter w(&line);
+  w.BeginObject().Member("id", r.id).Member("repeat", r.repeat).Key("request").Value(r.request);
+  w.Key("response").Value(r.response);
+  w.Member("latency_ms", r.latency_ms).Member("attempts", r.attempts);
   if (r.error.empty()) {
-    out["answer"] = r.parsed.answer ? nlohmann::json(*r.parsed.answer) : nlohmann::json(nullptr);
-    out["abstained"] = r.parsed.abstained;
-    out["citations"] = RefsToJson(r.parsed.citations);
-    out["retrieved"] = r.parsed.has_retrieved ? RefsToJson(r.parsed.retrieved) : nlohmann::json();
-    nlohmann::json usage = nlohmann::json::object();
-    if (r.parsed.input_tokens) usage["input_tokens"] = *r.parsed.input_tokens;
-    if (r.parsed.output_tokens) usage["output_tokens"] = *r.parsed.output_tokens;
-    out["usage"] = usage;
-    out["error"] = nullptr;
+    w.Key("answer");
+    if (r.parsed.answer) {
+      w.String(*r.parsed.answer);
+    } else {
+      w.Null();
+    }
+    w.Member("abstained", r.parsed.abstained).Key("citations");
+    WriteRefs(&w, r.parsed.citations);
+    w.Key("retrieved");
+    if (r.parsed.has_retrieved) {
+      WriteRefs(&w, r.parsed.retrieved);
+    } else {
+      w.Null();
+    }
+    w.Key("usage").BeginObject();
+    if (r.parsed.input_tokens) w.Member("input_tokens", *r.parsed.input_tokens);
+    if (r.parsed.output_tokens) w.Member("output_tokens", *r.parsed.output_tokens);
+    w.EndObject().Key("error").Null();
   } else {
-    out["answer"] = nullptr;
-    out["abstained"] = false;
-    out["citations"] = nlohmann::json::array();
-    out["retrieved"] = nullptr;
-    out["usage"] = nlohmann::json::object();
-    out["error"] = {
-        {"reason", r.error}, {"stdout", r.stdout_excerpt}, {"stderr", r.stderr_excerpt}};
+    w.Key("answer").Null().Member("abstained", false);
+    w.Key("citations").BeginArray().EndArray().Key("retrieved").Null();
+    w.Key("usage").BeginObject().EndObject();
+    w.Key("error")
+        .BeginObject()
+        .Member("reason", r.error)
+        .Member("stdout", r.stdout_excerpt)
+        .Member("stderr", r.stderr_excerpt)
+        .EndObject();
   }
-  out["scores"] = r.scores.values;
-  out["pass"] = r.scores.pass;
-  out["abstained_scored"] = r.scores.abstained;
-  if (!r.scores.warnings.empty()) out["warnings"] = r.scores.warnings;
-  return out;
+  w.Key("scores").BeginObject();
+  for (const auto& [metric, value] : r.scores.values) w.Member(metric, value);
+  w.EndObject().Member("pass", r.scores.pass).Member("abstained_scored", r.scores.abstained);
+  if (!r.scores.warnings.empty()) w.Member("warnings", r.scores.warnings);
+  w.EndObject();
+  return line;
 }
 
 bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* error) {

@@ -33,12 +33,14 @@ struct CaseRecord {
   CaseScores scores;
 };
 
-nlohmann::json CaseRecordToJson(const CaseRecord& record);
-/// Reads a record written by CaseRecordToJson; false with a reason when fields are missing.
+/// The record as one journal line of compact JSON, without the newline.
+std::string CaseRecordLine(const CaseRecord& record);
+/// Reads a record written by CaseRecordLine; false with a reason when fields are missing.
 bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* record, std::string* error);
 
-/// The journal's "response" value for a raw reply body (bounded, see kMaxRecordedBody).
-nlohmann::json RecordedBody(const std::string& body, const nlohmann::json* parsed);
+/// The journal's "response" value for a raw reply body (bounded, see kMaxRecordedBody). A small
+/// reply is `*parsed`, moved out (so *parsed is left empty); `parsed` null: the body was not valid.
+nlohmann::json RecordedBody(const std::string& body, nlohmann::json* parsed);
 
 }  // namespace plumb
 

@@ -70,7 +70,8 @@ bool LoadResumeState(const std::string& journal_path, const Suite& suite,
 
 struct PipelineRun {
   int code = kExitOk;
-  nlohmann::json record;
+  std::string reason;     // the verdict's sentence
+  nlohmann::json record;  // with --json only: run.json, parsed
 };
 
 int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
@@ -163,7 +164,9 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
   if (scheduled.interrupted) {
     std::fprintf(stderr, "plumb: %s\n", finished.verdict.reason.c_str());
   }
-  result->record = std::move(finished.record);
+  // Only --json prints the record, with the drift added to it; parse it back for that alone.
+  if (options.json) result->record = nlohmann::json::parse(finished.record);
+  result->reason = finished.verdict.reason;
   result->code = finished.verdict.code;
   return finished.verdict.code;
 }
@@ -191,7 +194,7 @@ int Worse(int a, int b) {
 /// run (printed after the run's summary, or added to the JSON record as "drift"). Returns the
 /// pipeline's exit code with the drift gate's folded in.
 int ReportOnRun(const RunOptions& options, const std::string& suite, const std::string& pipeline,
-                bool several, int code, nlohmann::json* record) {
+                bool several, int code, const std::string& reason, nlohmann::json* record) {
   if (options.baseline_dir.empty() && options.outputs.empty()) return code;
   const std::string dir = RunDirectory(options.out_dir, suite, pipeline, several);
   const OutputOptions outputs =
@@ -231,9 +234,6 @@ int ReportOnRun(const RunOptions& options, const std::string& suite, const std::
   // The last line states the process's exit code: the run's own verdict when it outranks the
   // gate's (case errors, say), repeated after the drift table.
   if (!options.json && gate != kExitUsage && combined != gate) {
-    const std::string reason = record->contains("verdict")
-                                   ? (*record)["verdict"].value("reason", std::string())
-                                   : std::string();
     std::printf("\nexit %d: %s\n", combined, reason.c_str());
   }
   return combined;
@@ -322,8 +322,8 @@ int RunCommand(const RunOptions& options) {
     PipelineRun run;
     int pipeline_code = RunOnePipeline(options, prepared, *pipeline, selected, several, &run);
     if (pipeline_code != kExitInterrupted && pipeline_code != kExitUsage) {
-      pipeline_code =
-          ReportOnRun(options, suite.name, pipeline->name, several, pipeline_code, &run.record);
+      pipeline_code = ReportOnRun(options, suite.name, pipeline->name, several, pipeline_code,
+                                  run.reason, &run.record);
     }
     code = Worse(code, pipeline_code);
     if (!run.record.is_null()) runs.push_back(std::move(run.record));

@@ -31,7 +31,10 @@ std::unique_ptr<RunJournal> RunJournal::Open(const std::string& path, long long 
 RunJournal::~RunJournal() { ::close(fd_); }
 
 bool RunJournal::Append(const nlohmann::json& record, std::string* error) {
-  std::string line = record.dump(-1, ' ', false, nlohmann::json::error_handler_t::replace);
+  return AppendLine(record.dump(-1, ' ', false, nlohmann::json::error_handler_t::replace), error);
+}
+
+bool RunJournal::AppendLine(std::string line, std::string* error) {
   line.push_back('\n');
   std::lock_guard<std::mutex> lock(mutex_);
   const char* data = line.data();

@@ -27,6 +27,8 @@ class RunJournal {
 
   /// Appends `record` as one line. Thread-safe. Invalid UTF-8 in strings is replaced by U+FFFD.
   bool Append(const nlohmann::json& record, std::string* error);
+  /// Appends `line` (one JSON value, no newline in it) and a newline, in one write. Thread-safe.
+  bool AppendLine(std::string line, std::string* error);
 
  private:
   explicit RunJournal(int fd) : fd_(fd) {}

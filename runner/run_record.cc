@@ -9,6 +9,7 @@
 #include <cstring>
 #include <ctime>
 
+#include "runner/json_writer.h"
 #include "runner/sha256.h"
 
 namespace plumb {
@@ -23,62 +24,90 @@ std::string AbsolutePath(const std::string& path) {
 
 }  // namespace
 
-nlohmann::json BuildRunRecord(const RunContext& ctx, const RunAggregates& aggregates,
-                              const std::vector<ThresholdOutcome>& thresholds,
-                              const RunVerdict& verdict) {
+std::string BuildRunRecord(const RunContext& ctx, const RunAggregates& aggregates,
+                           const std::vector<ThresholdOutcome>& thresholds,
+                           const RunVerdict& verdict) {
   const Suite& suite = *ctx.suite;
-  nlohmann::json cases = nlohmann::json::object();
+  std::string text;
+  text.reserve(1024 + 512 * ctx.selected.size());
+  JsonWriter w(&text, 2);
+  w.BeginObject().Member("plumb_run", 1);
+  w.Key("tool").BeginObject().Member("name", "plumb").Member("version", PLUMB_VERSION).EndObject();
+  w.Key("suite")
+      .BeginObject()
+      .Member("name", suite.name)
+      .Member("path", suite.path)
+      .Member("hash", suite.suite_hash)
+      .Member("normalize", metrics::NormalizationProfileName(suite.normalize))
+      .Member("lang", suite.lang)
+      .Key("retrieval_k")
+      .BeginArray();
+  for (int k : suite.retrieval_k) w.Int(k);
+  w.EndArray().Key("case_pass").BeginObject();
+  for (const auto& [metric, minimum] : suite.case_pass) w.Member(metric, minimum);
+  w.EndObject()
+      .Member("min_overlap", suite.min_overlap)
+      .Member("max_error_rate", suite.max_error_rate)
+      .EndObject();
+  w.Member("corpus_fingerprint", ctx.corpus_fingerprint).Key("corpus_dir");
+  if (suite.corpus_dir) {
+    w.String(AbsolutePath(*suite.corpus_dir));
+  } else {
+    w.Null();
+  }
+  w.Key("pipeline").BeginObject().Member("name", ctx.pipeline_name);
+  w.Key("config").Value(ctx.pipeline_config).EndObject();
+  w.Key("labels").BeginObject();
+  for (const auto& [key, value] : ctx.labels) w.Member(key, value);
+  w.EndObject()
+      .Member("started_at", ctx.started_at)
+      .Member("finished_at", ctx.finished_at)
+      .Key("shard")
+      .BeginObject()
+      .Member("index", ctx.shard.index)
+      .Member("count", ctx.shard.count)
+      .EndObject()
+      .Member("repeat", ctx.repeat)
+      .Member("jobs", ctx.jobs)
+      .Member("resumed", ctx.resumed);
+  // The gold itself travels with the run, so reports and drift need no suite file.
+  w.Key("cases").BeginObject();
   for (size_t index : ctx.selected) {
     const Case& c = suite.cases[index];
-    nlohmann::json spans = nlohmann::json::array();
+    w.Key(c.id).BeginObject().Member("gold_hash", c.gold_hash).Member("question", c.question);
+    w.Member("answers", c.answers).Member("patterns", c.patterns).Member("tags", c.tags);
+    w.Key("sources").BeginArray();
     for (const GoldSpan& span : c.sources) {
-      spans.push_back({{"doc", span.doc},
-                       {"start", span.start},
-                       {"end", span.end},
-                       {"text", span.text},
-                       {"text_sha256", Sha256Hex(span.text)}});
+      w.BeginObject()
+          .Member("doc", span.doc)
+          .Member("start", span.start)
+          .Member("end", span.end)
+          .Member("text", span.text)
+          .Member("text_sha256", Sha256Hex(span.text))
+          .EndObject();
     }
-    // The gold itself travels with the run, so reports and drift need no suite file.
-    nlohmann::json gold = {{"gold_hash", c.gold_hash}, {"question", c.question},
-                           {"answers", c.answers},     {"patterns", c.patterns},
-                           {"tags", c.tags},           {"sources", spans},
-                           {"line", c.pos.line}};
+    w.EndArray().Member("line", c.pos.line);
     if (c.number) {
-      gold["number"] = {
-          {"value", c.number->value}, {"tolerance", c.number->tolerance}, {"unit", c.number->unit}};
+      w.Key("number")
+          .BeginObject()
+          .Member("value", c.number->value)
+          .Member("tolerance", c.number->tolerance)
+          .Member("unit", c.number->unit)
+          .EndObject();
     }
-    cases[c.id] = std::move(gold);
+    w.EndObject();
   }
-  nlohmann::json labels = ctx.labels;
-  return {
-      {"plumb_run", 1},
-      {"tool", {{"name", "plumb"}, {"version", PLUMB_VERSION}}},
-      {"suite",
-       {{"name", suite.name},
-        {"path", suite.path},
-        {"hash", suite.suite_hash},
-        {"normalize", metrics::NormalizationProfileName(suite.normalize)},
-        {"lang", suite.lang},
-        {"retrieval_k", suite.retrieval_k},
-        {"case_pass", suite.case_pass},
-        {"min_overlap", suite.min_overlap},
-        {"max_error_rate", suite.max_error_rate}}},
-      {"corpus_fingerprint", ctx.corpus_fingerprint},
-      {"corpus_dir", suite.corpus_dir ? nlohmann::json(AbsolutePath(*suite.corpus_dir))
-                                      : nlohmann::json()},
-      {"pipeline", {{"name", ctx.pipeline_name}, {"config", ctx.pipeline_config}}},
-      {"labels", labels},
-      {"started_at", ctx.started_at},
-      {"finished_at", ctx.finished_at},
-      {"shard", {{"index", ctx.shard.index}, {"count", ctx.shard.count}}},
-      {"repeat", ctx.repeat},
-      {"jobs", ctx.jobs},
-      {"resumed", ctx.resumed},
-      {"cases", cases},
-      {"aggregates", AggregatesToJson(aggregates)},
-      {"thresholds", ThresholdsToJson(thresholds)},
-      {"verdict", {{"exit_code", verdict.code}, {"reason", verdict.reason}}},
-  };
+  w.EndObject();
+  w.Key("aggregates").Value(AggregatesToJson(aggregates));
+  w.Key("thresholds").Value(ThresholdsToJson(thresholds));
+  w.Key("verdict")
+      .BeginObject()
+      .Member("exit_code", verdict.code)
+      .Member("reason", verdict.reason)
+      .EndObject();
+  w.EndObject();
+  text.push_back('\n');
+  return text;
 }
 
 bool WriteFileAtomically(const std::string& path, const std::string& contents, std::string* error) {

@@ -33,9 +33,10 @@ struct RunContext {
   bool resumed = false;
 };
 
-nlohmann::json BuildRunRecord(const RunContext& context, const RunAggregates& aggregates,
-                              const std::vector<ThresholdOutcome>& thresholds,
-                              const RunVerdict& verdict);
+/// The run.json text: JSON indented by two spaces, members in a fixed order, one trailing newline.
+std::string BuildRunRecord(const RunContext& context, const RunAggregates& aggregates,
+                           const std::vector<ThresholdOutcome>& thresholds,
+                           const RunVerdict& verdict);
 
 /// Writes `contents` to `path` through a temporary file in the same directory and rename(2),
 /// so readers see the old file or the new one, never half of one.

@@ -18,7 +18,7 @@ bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, boo
   // An interrupted run keeps its journal but gets no run.json: it is not a finished run, and
   // --resume writes the record once the work is complete.
   if (!run_dir.empty() && !interrupted) {
-    if (!WriteFileAtomically(run_dir + "/run.json", finished->record.dump(2) + "\n", error)) {
+    if (!WriteFileAtomically(run_dir + "/run.json", finished->record, error)) {
       return false;
     }
   }

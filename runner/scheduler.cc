@@ -14,7 +14,7 @@ constexpr size_t kExcerptBytes = 2048;
 
 CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
                           const PipelineConfig& pipeline, const CaseScorer& scorer,
-                          size_t case_index) {
+                          size_t case_index, nlohmann::json* parsed_body) {
   const std::vector<std::string>& secrets = pipeline.secrets;
   const ResponseMap map = ResponseMap::FromConfig(pipeline.map);
   CaseRecord record;
@@ -24,14 +24,17 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
   record.latency_ms = call.latency_ms;
   record.attempts = call.attempts;
   // A pipeline may echo a secret it was given; nothing it says reaches a file unredacted.
-  const std::string body = secrets.empty() ? call.body : RedactSecrets(call.body, secrets);
+  const std::string redacted = secrets.empty() ? std::string() : RedactSecrets(call.body, secrets);
+  const std::string& body = secrets.empty() ? call.body : redacted;
   if (!call.error.empty()) {
     record.error = call.error;
     record.stdout_excerpt = call.stdout_excerpt;
     record.stderr_excerpt = call.stderr_excerpt;
     record.response = RecordedBody(body, nullptr);
   } else {
-    nlohmann::json parsed = nlohmann::json::parse(body, nullptr, /*allow_exceptions=*/false);
+    nlohmann::json parsed = parsed_body != nullptr
+                                ? std::move(*parsed_body)
+                                : nlohmann::json::parse(body, nullptr, /*allow_exceptions=*/false);
     std::string parse_error;
     if (parsed.is_discarded()) {
       record.error = "response is not valid JSON";
@@ -88,7 +91,7 @@ ScheduleResult RunSchedule(const ScheduleInputs& in) {
       CaseRecord record =
           MakeCaseRecord(c, item.repeat, call, *in.pipeline, *in.scorer, item.case_index);
       std::string error;
-      if (!in.journal->Append(CaseRecordToJson(record), &error)) {
+      if (!in.journal->AppendLine(CaseRecordLine(record), &error)) {
         std::lock_guard<std::mutex> lock(fatal_mutex);
         fatal_error = error;
         failed = true;

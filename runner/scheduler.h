@@ -63,10 +63,12 @@ ScheduleResult RunSchedule(const ScheduleInputs& inputs);
 /// Builds the journal record and outcome for one reply; shared by `plumb run` (replies from an
 /// adapter) and `plumb score` (recorded replies).
 /// `pipeline` supplies the reply map, the offset unit and the secrets to redact; `plumb score`
-/// passes a default PipelineConfig.
+/// passes a default PipelineConfig. `parsed_body`, when not null, is call.body already parsed
+/// as JSON by the caller (valid, and from a pipeline without secrets): it is used, and moved
+/// from, instead of parsing the body a second time.
 CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
                           const PipelineConfig& pipeline, const CaseScorer& scorer,
-                          size_t case_index);
+                          size_t case_index, nlohmann::json* parsed_body = nullptr);
 CaseOutcome OutcomeOf(const CaseRecord& record, size_t case_index);
 
 }  // namespace plumb

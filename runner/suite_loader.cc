@@ -15,6 +15,7 @@
 #include "runner/code_points.h"
 #include "runner/corpus.h"
 #include "runner/did_you_mean.h"
+#include "runner/json_writer.h"
 #include "runner/jsonl_reader.h"
 #include "runner/node_checker.h"
 #include "runner/pipeline_config_loader.h"
@@ -718,25 +719,35 @@ class SuiteLoader {
     ReadPipelines(it->second->value, options_.expand_env, &check, &suite_->pipelines);
   }
 
+  /// SHA-256 of "plumb-gold-v1\n" + the case's gold as compact JSON with keys in sorted order
+  /// (the layout nlohmann's dump() gives; doubles in its spelling, so hashes stay stable).
   static std::string GoldHash(const Case& gold) {
-    nlohmann::json sources = nlohmann::json::array();
-    for (const GoldSpan& span : gold.sources) {
-      sources.push_back(
-          {{"doc", span.doc}, {"start", span.start}, {"end", span.end}, {"text", span.text}});
-    }
-    nlohmann::json number = nullptr;
+    std::string canonical = "plumb-gold-v1\n";
+    JsonWriter w(&canonical);
+    w.BeginObject().Member("answers", gold.answers).Key("number");
     if (gold.number) {
-      number = {{"value", gold.number->value},
-                {"tolerance", gold.number->tolerance},
-                {"unit", gold.number->unit}};
+      w.BeginObject()
+          .Key("tolerance")
+          .Raw(nlohmann::json(gold.number->tolerance).dump())
+          .Member("unit", gold.number->unit)
+          .Key("value")
+          .Raw(nlohmann::json(gold.number->value).dump())
+          .EndObject();
+    } else {
+      w.Null();
     }
-    nlohmann::json canonical = {{"question", gold.question}, {"answers", gold.answers},
-                                {"patterns", gold.patterns}, {"number", number},
-                                {"sources", sources},        {"tags", gold.tags}};
-    // Invalid UTF-8 cannot reach here (YAML and JSON readers and the corpus reject it), but
-    // a hash must never throw: replace rather than fail.
-    return Sha256Hex("plumb-gold-v1\n" +
-                     canonical.dump(-1, ' ', false, nlohmann::json::error_handler_t::replace));
+    w.Member("patterns", gold.patterns).Member("question", gold.question).Key("sources");
+    w.BeginArray();
+    for (const GoldSpan& span : gold.sources) {
+      w.BeginObject()
+          .Member("doc", span.doc)
+          .Member("end", static_cast<int64_t>(span.end))
+          .Member("start", static_cast<int64_t>(span.start))
+          .Member("text", span.text)
+          .EndObject();
+    }
+    w.EndArray().Member("tags", gold.tags).EndObject();
+    return Sha256Hex(canonical);
   }
 
   void Finish() {

@@ -1,0 +1,214 @@
+#include "runner/json_writer.h"
+
+#include <cassert>
+#include <charconv>
+#include <cmath>
+
+#include "metrics/utf8.h"
+
+namespace plumb {
+namespace {
+
+constexpr char kHex[] = "0123456789abcdef";
+
+// Bytes a JSON string can carry as they are: printable ASCII other than '"' and '\'.
+bool IsPlainAscii(unsigned char c) { return c >= 0x20 && c < 0x80 && c != '"' && c != '\\'; }
+
+}  // namespace
+
+void AppendJsonString(std::string_view text, std::string* out) {
+  out->push_back('"');
+  size_t i = 0;
+  const size_t n = text.size();
+  while (i < n) {
+    // Copy the longest run that needs no escaping in one go.
+    size_t run = i;
+    while (run < n && IsPlainAscii(static_cast<unsigned char>(text[run]))) ++run;
+    out->append(text.data() + i, run - i);
+    i = run;
+    if (i >= n) break;
+    const unsigned char c = static_cast<unsigned char>(text[i]);
+    if (c >= 0x80) {
+      size_t next = i;
+      const char32_t cp = metrics::NextCodePoint(text, &next);
+      if (cp == metrics::kReplacementCharacter && text.substr(i, next - i) != "\xEF\xBF\xBD") {
+        out->append("\xEF\xBF\xBD");  // an ill-formed sequence
+      } else {
+        out->append(text.data() + i, next - i);
+      }
+      i = next;
+      continue;
+    }
+    switch (c) {
+      case '"':
+        out->append("\\\"");
+        break;
+      case '\\':
+        out->append("\\\\");
+        break;
+      case '\b':
+        out->append("\\b");
+        break;
+      case '\f':
+        out->append("\\f");
+        break;
+      case '\n':
+        out->append("\\n");
+        break;
+      case '\r':
+        out->append("\\r");
+        break;
+      case '\t':
+        out->append("\\t");
+        break;
+      default: {
+        const char escaped[] = {'\\', 'u', '0', '0', kHex[c >> 4], kHex[c & 15]};
+        out->append(escaped, sizeof escaped);
+      }
+    }
+    ++i;
+  }
+  out->push_back('"');
+}
+
+void AppendJsonDouble(double value, std::string* out) {
+  if (!std::isfinite(value)) {
+    out->append("null");
+    return;
+  }
+  char buffer[32];
+  const std::to_chars_result result = std::to_chars(buffer, buffer + sizeof buffer, value);
+  const std::string_view digits(buffer, static_cast<size_t>(result.ptr - buffer));
+  out->append(digits);
+  if (digits.find_first_of(".e") == std::string_view::npos) out->append(".0");
+}
+
+void JsonWriter::NewLine(size_t depth) {
+  out_->push_back('\n');
+  out_->append(depth * static_cast<size_t>(indent_), ' ');
+}
+
+void JsonWriter::BeforeItem() {
+  if (after_key_) {
+    after_key_ = false;
+    return;
+  }
+  if (levels_.empty()) return;
+  Level& level = levels_.back();
+  if (!level.empty) out_->push_back(',');
+  level.empty = false;
+  if (indent_ >= 0) NewLine(levels_.size());
+}
+
+JsonWriter& JsonWriter::BeginObject() {
+  BeforeItem();
+  out_->push_back('{');
+  levels_.push_back({});
+  return *this;
+}
+
+JsonWriter& JsonWriter::BeginArray() {
+  BeforeItem();
+  out_->push_back('[');
+  levels_.push_back({});
+  return *this;
+}
+
+JsonWriter& JsonWriter::Close(char bracket) {
+  assert(!levels_.empty() && !after_key_);
+  const bool empty = levels_.back().empty;
+  levels_.pop_back();
+  if (!empty && indent_ >= 0) NewLine(levels_.size());
+  out_->push_back(bracket);
+  return *this;
+}
+
+JsonWriter& JsonWriter::EndObject() { return Close('}'); }
+JsonWriter& JsonWriter::EndArray() { return Close(']'); }
+
+JsonWriter& JsonWriter::Key(std::string_view key) {
+  assert(!levels_.empty() && !after_key_);
+  BeforeItem();
+  AppendJsonString(key, out_);
+  out_->append(indent_ >= 0 ? ": " : ":");
+  after_key_ = true;
+  return *this;
+}
+
+JsonWriter& JsonWriter::String(std::string_view text) {
+  BeforeItem();
+  AppendJsonString(text, out_);
+  return *this;
+}
+
+JsonWriter& JsonWriter::Int(int64_t value) {
+  BeforeItem();
+  char buffer[24];
+  const std::to_chars_result result = std::to_chars(buffer, buffer + sizeof buffer, value);
+  out_->append(buffer, static_cast<size_t>(result.ptr - buffer));
+  return *this;
+}
+
+JsonWriter& JsonWriter::Double(double value) {
+  BeforeItem();
+  AppendJsonDouble(value, out_);
+  return *this;
+}
+
+JsonWriter& JsonWriter::Bool(bool value) {
+  BeforeItem();
+  out_->append(value ? "true" : "false");
+  return *this;
+}
+
+JsonWriter& JsonWriter::Null() {
+  BeforeItem();
+  out_->append("null");
+  return *this;
+}
+
+JsonWriter& JsonWriter::Raw(std::string_view json) {
+  BeforeItem();
+  out_->append(json);
+  return *this;
+}
+
+JsonWriter& JsonWriter::Member(std::string_view key, const std::vector<std::string>& texts) {
+  Key(key).BeginArray();
+  for (const std::string& text : texts) String(text);
+  return EndArray();
+}
+
+JsonWriter& JsonWriter::Value(const nlohmann::json& value) {
+  switch (value.type()) {
+    case nlohmann::json::value_t::object:
+      BeginObject();
+      for (auto it = value.begin(); it != value.end(); ++it) {
+        Key(it.key());
+        Value(it.value());
+      }
+      return EndObject();
+    case nlohmann::json::value_t::array:
+      BeginArray();
+      for (const nlohmann::json& item : value) Value(item);
+      return EndArray();
+    case nlohmann::json::value_t::string:
+      return String(value.get_ref<const std::string&>());
+    case nlohmann::json::value_t::boolean:
+      return Bool(value.get<bool>());
+    case nlohmann::json::value_t::number_integer:
+      return Int(value.get<int64_t>());
+    case nlohmann::json::value_t::number_unsigned: {
+      BeforeItem();
+      const std::string text = std::to_string(value.get<uint64_t>());
+      out_->append(text);
+      return *this;
+    }
+    case nlohmann::json::value_t::number_float:
+      return Double(value.get<double>());
+    default:  // null, discarded, binary (never produced by plumb's readers)
+      return Null();
+  }
+}
+
+}  // namespace plumb

@@ -1,0 +1,87 @@
+#ifndef PLUMB_RUNNER_JSON_WRITER_H_
+#define PLUMB_RUNNER_JSON_WRITER_H_
+
+/// JsonWriter appends JSON text to a string as values arrive, without building a tree first: the
+/// run journal writes one line per case with it, and run.json (one entry per case) is written by
+/// it in one pass. Output is RFC 8259 JSON in the same shape nlohmann's dump() gives:
+///   - compact (indent < 0): no whitespace at all; indented: one member or element per line,
+///     `indent` spaces per level, "key": value, empty containers as {} and [];
+///   - strings escaped like dump(): \" \\ \b \f \n \r \t, other controls as \u00xx (lowercase
+///     hex), everything else as UTF-8; an ill-formed UTF-8 sequence becomes U+FFFD (each maximal
+///     invalid subpart, as metrics::NextCodePoint decodes it), so the output is always valid;
+///   - doubles in the shortest form that reads back to the same double, with ".0" added to an
+///     integral value so it stays a floating-point number when read back; NaN and infinities as
+///     null (JSON has no spelling for them);
+///   - object members in the order written (the caller chooses it).
+/// The caller keeps the nesting right (Key before each member value, every Begin matched by an
+/// End); a mismatch is a programming error, checked by assert in debug builds. Not thread-safe.
+
+#include <cstdint>
+#include <nlohmann/json.hpp>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace plumb {
+
+class JsonWriter {
+ public:
+  /// Appends to *out, which must outlive the writer.
+  explicit JsonWriter(std::string* out, int indent = -1) : out_(out), indent_(indent) {}
+
+  JsonWriter& BeginObject();
+  JsonWriter& EndObject();
+  JsonWriter& BeginArray();
+  JsonWriter& EndArray();
+  /// The next member's name; its value follows.
+  JsonWriter& Key(std::string_view key);
+
+  JsonWriter& String(std::string_view text);
+  JsonWriter& Int(int64_t value);
+  JsonWriter& Double(double value);
+  JsonWriter& Bool(bool value);
+  JsonWriter& Null();
+  /// A whole nlohmann value, laid out with this writer's indentation (its object keys in
+  /// nlohmann's sorted order).
+  JsonWriter& Value(const nlohmann::json& value);
+  /// Text that is already one complete JSON value (not checked), copied as it is.
+  JsonWriter& Raw(std::string_view json);
+
+  /// Key(key) followed by the value: shorthands for the common member forms.
+  JsonWriter& Member(std::string_view key, std::string_view text) { return Key(key).String(text); }
+  JsonWriter& Member(std::string_view key, const char* text) { return Key(key).String(text); }
+  JsonWriter& Member(std::string_view key, const std::string& text) {
+    return Key(key).String(text);
+  }
+  JsonWriter& Member(std::string_view key, int64_t value) { return Key(key).Int(value); }
+  JsonWriter& Member(std::string_view key, int value) { return Key(key).Int(value); }
+  JsonWriter& Member(std::string_view key, double value) { return Key(key).Double(value); }
+  JsonWriter& Member(std::string_view key, bool value) { return Key(key).Bool(value); }
+  JsonWriter& Member(std::string_view key, const std::vector<std::string>& texts);
+
+ private:
+  /// Separator and line break before a value or key at the current level.
+  void BeforeItem();
+  void NewLine(size_t depth);
+  JsonWriter& Close(char bracket);
+
+  struct Level {
+    bool empty = true;
+  };
+
+  std::string* out_;
+  int indent_;
+  std::vector<Level> levels_;
+  bool after_key_ = false;
+};
+
+/// `text` as a JSON string literal (quotes included), escaped as JsonWriter::String does.
+void AppendJsonString(std::string_view text, std::string* out);
+
+/// The shortest decimal form of a finite double that reads back to the same value, with ".0"
+/// added when it would otherwise read back as an integer; "null" for NaN and infinities.
+void AppendJsonDouble(double value, std::string* out);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_JSON_WRITER_H_

@@ -1,0 +1,135 @@
+// JsonWriter against nlohmann::json's dump() as the oracle for layout and string escaping (the
+// library the project already reads every JSON file with), and against RFC 8259 for what a
+// reader must get back.
+
+#include "runner/json_writer.h"
+
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <cstring>
+#include <limits>
+#include <random>
+#include <string>
+
+namespace plumb {
+namespace {
+
+// A seeded random tree with every kind of value, strings drawn from a byte alphabet rich in
+// escapes and multi-byte UTF-8.
+nlohmann::json RandomTree(std::mt19937_64* rng, int depth) {
+  static const char* const kPieces[] = {"a",  "Z",  " ",  "\"", "\\",           "/",    "\b",
+                                        "\f", "\n", "\r", "\t", "\x01",         "\x1f", "\x7f",
+                                        "é",  "—",  "日", "😀",  "\xEF\xBF\xBD", "key"};
+  std::uniform_int_distribution<int> kind(0, depth > 3 ? 4 : 6);
+  auto text = [&] {
+    std::string s;
+    const int pieces = static_cast<int>((*rng)() % 6);
+    for (int i = 0; i < pieces; ++i) s += kPieces[(*rng)() % (sizeof kPieces / sizeof *kPieces)];
+    return s;
+  };
+  switch (kind(*rng)) {
+    case 0:
+      return nullptr;
+    case 1:
+      return ((*rng)() & 1) != 0;
+    case 2:
+      return static_cast<int64_t>((*rng)()) >> ((*rng)() % 64);
+    case 3:
+      return text();
+    case 4:
+      return std::ldexp(static_cast<double>((*rng)() % 100000) - 50000,
+                        static_cast<int>((*rng)() % 80) - 40);
+    case 5: {
+      nlohmann::json array = nlohmann::json::array();
+      const int n = static_cast<int>((*rng)() % 4);
+      for (int i = 0; i < n; ++i) array.push_back(RandomTree(rng, depth + 1));
+      return array;
+    }
+    default: {
+      nlohmann::json object = nlohmann::json::object();
+      const int n = static_cast<int>((*rng)() % 4);
+      for (int i = 0; i < n; ++i) object[text()] = RandomTree(rng, depth + 1);
+      return object;
+    }
+  }
+}
+
+std::string Written(const nlohmann::json& value, int indent) {
+  std::string out;
+  JsonWriter(&out, indent).Value(value);
+  return out;
+}
+
+TEST_CASE("json writer lays out and escapes exactly as nlohmann dump does", "[json_writer]") {
+  std::mt19937_64 rng(20261202);
+  int trees = 0;
+  for (int i = 0; i < 3000; ++i) {
+    const nlohmann::json tree = RandomTree(&rng, 0);
+    // Doubles are compared by value below: dump() prints Grisu2 digits, which are not always
+    // the shortest, while the writer prints the shortest round-trip form.
+    const nlohmann::json reread = nlohmann::json::parse(Written(tree, -1));
+    REQUIRE(reread == tree);
+    if (tree.dump().find_first_of(".e") == std::string::npos) {
+      REQUIRE(Written(tree, -1) == tree.dump());
+      REQUIRE(Written(tree, 2) == tree.dump(2));
+      ++trees;
+    }
+  }
+  CHECK(trees > 1000);  // trees without a double, compared byte for byte
+}
+
+TEST_CASE("json writer members keep the order they were written in", "[json_writer]") {
+  std::string out;
+  JsonWriter w(&out, 2);
+  w.BeginObject().Member("z", 1).Member("a", "x").Key("list").BeginArray().EndArray();
+  w.Key("empty").BeginObject().EndObject().Member("tags", std::vector<std::string>{"t1", "t2"});
+  w.EndObject();
+  CHECK(out ==
+        "{\n  \"z\": 1,\n  \"a\": \"x\",\n  \"list\": [],\n  \"empty\": {},\n  \"tags\": [\n"
+        "    \"t1\",\n    \"t2\"\n  ]\n}");
+}
+
+TEST_CASE("json writer replaces ill-formed utf-8 with one U+FFFD per maximal subpart",
+          "[json_writer]") {
+  // Unicode 15 §3.9, Table 3-8: "\xF1\x80\x80" is one maximal subpart, "\xE1\x80" another,
+  // "\xC2" and "\x80" one each.
+  std::string out;
+  AppendJsonString("a\xF1\x80\x80\xE1\x80\xC2\x80z\xEF\xBF\xBD", &out);
+  CHECK(out == "\"a\xEF\xBF\xBD\xEF\xBF\xBD\xC2\x80z\xEF\xBF\xBD\"");
+  out.clear();
+  AppendJsonString("\xED\xA0\x80", &out);  // an encoded surrogate: three subparts
+  CHECK(out == "\"\xEF\xBF\xBD\xEF\xBF\xBD\xEF\xBF\xBD\"");
+  CHECK(nlohmann::json::accept(out));
+}
+
+TEST_CASE("json writer prints doubles in the shortest form that reads back exactly",
+          "[json_writer]") {
+  auto text = [](double v) {
+    std::string out;
+    AppendJsonDouble(v, &out);
+    return out;
+  };
+  // Shortest round-trip digits (the C++17 to_chars guarantee, [charconv.to.chars]).
+  CHECK(text(0.1) == "0.1");
+  CHECK(text(1.0) == "1.0");
+  CHECK(text(-0.0) == "-0.0");
+  CHECK(text(0.7664510714285575) == "0.7664510714285575");
+  CHECK(text(1e300) == "1e+300");
+  CHECK(text(5e-324) == "5e-324");
+  CHECK(text(123456789.0) == "123456789.0");
+  CHECK(text(std::nan("")) == "null");
+  CHECK(text(std::numeric_limits<double>::infinity()) == "null");
+  std::mt19937_64 rng(7);
+  for (int i = 0; i < 100000; ++i) {
+    uint64_t bits = rng();
+    double v;
+    std::memcpy(&v, &bits, sizeof v);
+    if (!std::isfinite(v)) continue;
+    const nlohmann::json back = nlohmann::json::parse(text(v));
+    REQUIRE(back.is_number_float());
+    REQUIRE(back.get<double>() == v);
+  }
+}
+
+}  // namespace
+}  // namespace plumb
