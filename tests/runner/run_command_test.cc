@@ -210,3 +210,62 @@ TEST_CASE("plumb score names the file line and column of a bad prediction") {
   CHECK(r.err.find("pred.jsonl:2:13: error: not valid JSON") != std::string::npos);
   CHECK(r.err.find("nothing was scored") != std::string::npos);
 }
+
+TEST_CASE("plumb score with a bad predictions file leaves the earlier run as it was") {
+  const std::string dir = MakeTempDir();
+  WriteFile(dir + "/s.yaml",
+            "plumb: 1\nname: recorded\ncases:\n"
+            "  - {id: a, question: 'How long?', answers: [ten minutes]}\n"
+            "  - {id: b, question: 'Which car?', answers: [the blue car]}\n"
+            "  - {id: c, question: 'Which deck?', answers: [deck two]}\n");
+  // A good file first: b has two repeats, c none (one errored item), z is not in the suite.
+  WriteFile(dir + "/good.jsonl",
+            "{\"id\": \"b\", \"answer\": \"blue car\", \"repeat\": 1}\n"
+            "{\"id\": \"a\", \"answer\": \"ten minutes\", \"latency_ms\": 12.5}\n"
+            "{\"id\": \"z\", \"answer\": \"?\"}\n"
+            "{\"id\": \"b\", \"answer\": \"the car\"}\n");
+  const Result good =
+      Plumb({"score", dir + "/s.yaml", dir + "/good.jsonl", "--out", dir + "/out"}, dir);
+  INFO(good.err);
+  CHECK(good.code == 3);  // one errored item of four is over the default max_error_rate
+  CHECK(good.err.find("good.jsonl:3: warning: prediction for 'z'") != std::string::npos);
+  const std::string journal = ReadFile(dir + "/out/cases.jsonl");
+  const std::string record = ReadFile(dir + "/out/run.json");
+  std::vector<std::string> items;
+  double latency_a = -1;
+  for (const nlohmann::json& rec : ReadJournal(dir + "/out/cases.jsonl")) {
+    items.push_back(rec["id"].get<std::string>() + std::to_string(rec["repeat"].get<int>()));
+    if (rec["id"] == "a") latency_a = rec["latency_ms"].get<double>();
+    if (rec["id"] == "c")
+      CHECK(rec["error"]["reason"].get<std::string>().find("no prediction") == 0);
+  }
+  // File order, then the cases that had no reply.
+  CHECK(items == std::vector<std::string>{"b1", "a0", "b0", "c0"});
+  CHECK(latency_a == 12.5);
+  const nlohmann::json run = nlohmann::json::parse(record);
+  CHECK(run["repeat"] == 2);
+  CHECK(run["aggregates"]["items"] == 4);
+  CHECK(run["aggregates"]["errored"] == 1);
+
+  // Then a file with a duplicate and a bad repeat: nothing is scored, the run above stays.
+  WriteFile(dir + "/bad.jsonl",
+            "{\"id\": \"a\", \"answer\": \"x\"}\n"
+            "{\"id\": \"a\", \"answer\": \"y\"}\n"
+            "{\"id\": \"b\", \"answer\": \"y\", \"repeat\": -1}\n");
+  const Result bad =
+      Plumb({"score", dir + "/s.yaml", dir + "/bad.jsonl", "--out", dir + "/out"}, dir);
+  CHECK(bad.code == 2);
+  CHECK(bad.err.find("bad.jsonl:2:1: error: a second prediction for case 'a' repeat 0") !=
+        std::string::npos);
+  CHECK(bad.err.find("bad.jsonl:3:1: error: \"repeat\" must be an integer") != std::string::npos);
+  CHECK(bad.err.find("2 problems in") != std::string::npos);
+  CHECK(ReadFile(dir + "/out/cases.jsonl") == journal);
+  CHECK(ReadFile(dir + "/out/run.json") == record);
+  std::string files;
+  FILE* ls = popen(("ls -A " + dir + "/out").c_str(), "r");
+  REQUIRE(ls != nullptr);
+  char buffer[256];
+  while (std::fgets(buffer, sizeof buffer, ls) != nullptr) files += buffer;
+  pclose(ls);
+  CHECK(files == "cases.jsonl\nrun.json\n");  // no pending journal left behind
+}
