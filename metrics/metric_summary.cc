@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cstddef>
 
+#include "metrics/grouped_bootstrap.h"
 #include "metrics/percentile.h"
 
 namespace plumb::metrics {
@@ -39,7 +40,7 @@ MetricSummary SummarizeMetric(const std::vector<double>& values, bool binary, in
     // Every value is 0 or 1, so the sum is an exact integer in double.
     summary.interval = WilsonInterval(static_cast<int64_t>(total), summary.n);
   } else {
-    summary.interval = PercentileBootstrapMean(values, resamples, seed);
+    summary.interval = GroupedBootstrapMean(values, resamples, seed);
   }
   return summary;
 }

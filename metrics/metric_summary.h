@@ -22,8 +22,10 @@ LatencySummary SummarizeLatency(std::vector<double> latencies_ms);
 
 /// A metric's summary. `values` holds one finite value per case where the metric is defined.
 /// The interval is 95%: Wilson (interval.h) when `binary` and every value is exactly 0 or 1, with
-/// successes = their sum (`wilson` is then true); otherwise PercentileBootstrapMean(values,
-/// resamples, seed). n == 0 -> mean 0 and the interval the chosen method gives for no data
+/// successes = their sum (`wilson` is then true); otherwise GroupedBootstrapMean(values,
+/// resamples, seed) (grouped_bootstrap.h): the percentile bootstrap of the mean, its resample
+/// counts drawn per distinct value when that is cheaper, else PercentileBootstrapMean's own
+/// index draws. n == 0 -> mean 0 and the interval the chosen method gives for no data
 /// ({0, 1} for Wilson, {0, 0} for the bootstrap).
 struct MetricSummary {
   double mean = 0;

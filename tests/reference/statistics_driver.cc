@@ -8,9 +8,16 @@
 //   latency N V...                           -> n p50 p90 p95 p99 mean max
 //   metric BINARY RESAMPLES SEED N V...      -> mean n low high wilson
 //   bootstrap RESAMPLES SEED CONFIDENCE N V...  -> low high
-//   draw SEED BOUND COUNT                    -> COUNT values of
-//   SeededRandom(SEED).UniformIndex(BOUND) next SEED COUNT                          -> COUNT values
-//   of SeededRandom(SEED).Next() mcnemar B C                              -> p wilcoxon N D... -> p
+//   grouped RESAMPLES SEED CONFIDENCE N V... -> low high (GroupedBootstrapMean), then the plan:
+//                                               index_resampling distinct binomial_values
+//                                               tail_cases
+//   plan-costs                               -> kBinomialDrawCost kBinomialSdCost
+//   binomial SEED N P COUNT                  -> COUNT draws of SampleBinomial(N, P), one stream
+//   logfactorial N K...                      -> LogFactorial(K) for each K
+//   draw SEED BOUND COUNT                    -> COUNT of SeededRandom(SEED).UniformIndex(BOUND)
+//   next SEED COUNT                          -> COUNT values of SeededRandom(SEED).Next()
+//   mcnemar B C                              -> p
+//   wilcoxon N D...                          -> p
 //   holm N P...                              -> adjusted p-values
 //   delta RESAMPLES SEED CONFIDENCE N BASE... CAND...       -> delta low high
 //   ratio P RESAMPLES SEED CONFIDENCE N BASE... CAND...     -> ratio low high
@@ -24,7 +31,9 @@
 #include <string>
 #include <vector>
 
+#include "metrics/binomial_sampler.h"
 #include "metrics/detectable_effect.h"
+#include "metrics/grouped_bootstrap.h"
 #include "metrics/interval.h"
 #include "metrics/metric_summary.h"
 #include "metrics/paired_bootstrap.h"
@@ -93,6 +102,40 @@ bool Run(const std::string& line) {
     const double confidence = ReadDouble(in);
     const Interval interval = PercentileBootstrapMean(ReadValues(in), resamples, seed, confidence);
     Print({interval.low, interval.high});
+  } else if (command == "grouped") {
+    int resamples = 0;
+    uint64_t seed = 0;
+    in >> resamples >> seed;
+    const double confidence = ReadDouble(in);
+    const std::vector<double> values = ReadValues(in);
+    const Interval interval = GroupedBootstrapMean(values, resamples, seed, confidence);
+    const GroupedBootstrapPlan plan = PlanGroupedBootstrap(values);
+    Print({interval.low, interval.high, plan.index_resampling ? 1.0 : 0.0,
+           static_cast<double>(plan.distinct_values), static_cast<double>(plan.binomial_values),
+           static_cast<double>(plan.tail_cases)});
+  } else if (command == "plan-costs") {
+    Print({kBinomialDrawCost, kBinomialSdCost});
+  } else if (command == "binomial") {
+    uint64_t seed = 0, n = 0, count = 0;
+    in >> seed >> n;
+    const BinomialOdds odds(ReadDouble(in));
+    in >> count;
+    const BinomialTables tables(n);
+    SeededRandom random(seed);
+    for (uint64_t i = 0; i < count; ++i) {
+      std::printf(i ? " %" PRIu64 : "%" PRIu64, SampleBinomial(random, n, odds, tables));
+    }
+    std::printf("\n");
+  } else if (command == "logfactorial") {
+    size_t n = 0;
+    in >> n;
+    std::vector<double> out(n);
+    for (double& v : out) {
+      uint64_t k = 0;
+      in >> k;
+      v = LogFactorial(k);
+    }
+    Print(out);
   } else if (command == "draw" || command == "next") {
     uint64_t seed = 0, bound = 0, count = 0;
     in >> seed;

@@ -13,6 +13,11 @@ written to its stdin; this script recomputes every value with a reference librar
     from the published algorithms, checks the transcription against published output vectors,
     checks that it draws exactly the driver's stream, then has numpy form the resample means and
     percentiles,
+  - the grouped bootstrap of a metric's mean (metrics/grouped_bootstrap.h, SummarizeMetric's
+    interval) three ways: a transcription of it and of its binomial sampler on the same stream
+    must give the driver's intervals (to 1e-12) and plans; the sampler's draws for several (n, p)
+    must fit scipy.stats.binom.pmf (chi-square); and at large B its intervals must agree with
+    numpy's own index bootstrap within Monte Carlo error,
   - McNemar with statsmodels.stats.contingency_tables.mcnemar(exact=True),
   - Wilcoxon with scipy.stats.wilcoxon (defaults of the installed scipy, 1.10.1 on Debian 12),
   - Holm with statsmodels.stats.multitest.multipletests(method="holm"),
@@ -128,6 +133,180 @@ def bootstrap_percentiles(stat_per_resample, confidence):
     return np.percentile(stat_per_resample, [100 * tail, 100 * (1 - tail)], method="linear")
 
 
+def index_bootstrap_mean(values, resamples, seed, confidence):
+    """PercentileBootstrapMean, from the same resamples."""
+    a = np.array(values, dtype=float)
+    idx = resample_indices(len(a), resamples, seed)
+    return bootstrap_percentiles(a[idx].mean(axis=1), confidence)
+
+
+# --- The grouped bootstrap and its binomial sampler, transcribed from their headers --------------
+# metrics/binomial_sampler.h and metrics/grouped_bootstrap.h state every operation and its order;
+# this follows them with Python floats (IEEE doubles) and the C library's log, log1p and exp
+# (math.log, math.log1p, math.exp), so the draws are the same integers, not merely alike.
+
+HALF_LOG_2PI = 0.91893853320467274178
+
+
+def log_factorial(k):
+    """LogFactorial: the double product's log below 32, the Stirling series through k^-5 above."""
+    if k < 32:
+        product = 1.0
+        for i in range(2, k + 1):
+            product *= float(i)
+        return math.log(product)
+    x = float(k)
+    r = 1 / x
+    r2 = r * r
+    series = r * (1.0 / 12 - r2 * (1.0 / 360 - r2 * (1.0 / 1260)))
+    return (x + 0.5) * math.log(x) - x + HALF_LOG_2PI + series
+
+
+class BinomialTables:
+    def __init__(self, max_trials):
+        self.log_factorial = [log_factorial(k) for k in range(max_trials + 1)]
+        self.reciprocal = [math.inf] + [1 / float(k) for k in range(1, max_trials + 1)]
+
+
+class BinomialOdds:
+    def __init__(self, p):
+        self.p = p
+        self.log_p = math.log(p) if p > 0 else -math.inf
+        self.log_q = math.log1p(-p) if p < 1 else -math.inf
+        self.odds = p / (1 - p) if p < 1 else math.inf
+        self.inverse_odds = (1 - p) / p if p > 0 else math.inf
+
+
+def sample_binomial(rng, n, p, tables):
+    """SampleBinomial: inversion from the mode, alternating up and down, one u per try."""
+    if n == 0 or not p.p > 0:
+        return 0
+    if p.p >= 1:
+        return n
+    lf, rec = tables.log_factorial, tables.reciprocal
+    trials = float(n)
+    mode = min(n, int((trials + 1) * p.p))
+    mode_d = float(mode)
+    pmf_mode = math.exp(lf[n] - lf[mode] - lf[n - mode] + mode_d * p.log_p
+                        + (trials - mode_d) * p.log_q)
+    while True:
+        u = float(rng.next() >> 11) * 2.0**-53
+        if u < pmf_mode:
+            return mode
+        w = u - pmf_mode
+        up = down = mode
+        pmf_up = pmf_down = pmf_mode
+        mass_up = mass_down = 0.0
+        for _ in range(min(n - mode, mode)):
+            pmf_up *= float(n - up) * rec[up + 1] * p.odds
+            pmf_down *= float(down) * rec[n - down + 1] * p.inverse_odds
+            up += 1
+            down -= 1
+            mass_down_before = mass_down
+            mass_up += pmf_up
+            mass_down += pmf_down
+            if w < mass_up + mass_down:
+                return up if w < mass_up + mass_down_before else down
+        while up < n and pmf_up > 0:
+            pmf_up *= float(n - up) * rec[up + 1] * p.odds
+            up += 1
+            mass_up += pmf_up
+            if w < mass_up + mass_down:
+                return up
+        while down > 0 and pmf_down > 0:
+            pmf_down *= float(down) * rec[n - down + 1] * p.inverse_odds
+            down -= 1
+            mass_down += pmf_down
+            if w < mass_up + mass_down:
+                return down
+
+
+def grouped_plan(values, costs):
+    """The plan rule of grouped_bootstrap.h: (index_resampling, distinct values in plan order as
+    (value, multiplicity), binomial_values J, tail_cases)."""
+    draw_cost, sd_cost = costs
+    n = len(values)
+    counts = {}
+    for v in values:
+        v = v + 0.0
+        counts[v] = counts.get(v, 0) + 1
+    distinct = sorted(counts.items(), key=lambda item: (-item[1], item[0]))
+    d = len(distinct)
+    best, chain, remaining = float(n), 0.0, n
+    plan = (True, distinct, 0, 0)
+    for j in range(d):
+        tail = 0 if j + 1 == d else remaining
+        if chain + float(tail) < best:
+            best = chain + float(tail)
+            plan = (False, distinct, j, tail)
+        m = distinct[j][1]
+        chain += draw_cost + sd_cost * math.sqrt(float(m) * float(remaining - m) / float(remaining))
+        remaining -= m
+    return plan
+
+
+def grouped_bootstrap_mean(values, resamples, seed, confidence, costs):
+    """GroupedBootstrapMean: (low, high) and the plan as the driver prints it."""
+    n = len(values)
+    index, distinct, chain, tail_cases = grouped_plan(values, costs)
+    plan = [1 if index else 0, len(distinct), chain, tail_cases]
+    if index:
+        return list(index_bootstrap_mean(values, resamples, seed, confidence)), [1, len(distinct), 0, 0]
+    odds, remaining = [], n
+    for value, count in distinct[:chain]:
+        odds.append(BinomialOdds(float(count) / float(remaining)))
+        remaining -= count
+    tables = BinomialTables(n if chain > 0 else 0)
+    tail = [value for value, count in distinct[chain:] for _ in range(count)] if tail_cases else []
+    rng = Xoshiro256StarStar(seed)
+    means = []
+    for _ in range(resamples):
+        total, left = 0.0, n
+        for j in range(chain):
+            count = sample_binomial(rng, left, odds[j], tables)
+            total += float(count) * distinct[j][0]
+            left -= count
+        if not tail:
+            total += float(left) * distinct[-1][0]
+        else:
+            s = [0.0, 0.0, 0.0, 0.0]
+            i = 0
+            while i + 4 <= left:
+                for k in range(4):
+                    s[k] += tail[rng.index(len(tail))]
+                i += 4
+            while i < left:
+                s[0] += tail[rng.index(len(tail))]
+                i += 1
+            total += (s[0] + s[1]) + (s[2] + s[3])
+        means.append(total / n)
+    return list(bootstrap_percentiles(np.array(means), confidence)), plan
+
+
+def pooled_chisquare(observed, expected):
+    """scipy.stats.chisquare after pooling neighbouring bins (from k = 0 upwards) until each
+    pooled bin expects at least 5 draws; a short last bin joins the one before it."""
+    pooled_obs, pooled_exp = [], []
+    o_acc = e_acc = 0.0
+    for o, e in zip(observed, expected):
+        o_acc += o
+        e_acc += e
+        if e_acc >= 5:
+            pooled_obs.append(o_acc)
+            pooled_exp.append(e_acc)
+            o_acc = e_acc = 0.0
+    if e_acc > 0 or o_acc > 0:
+        if pooled_exp:
+            pooled_obs[-1] += o_acc
+            pooled_exp[-1] += e_acc
+        else:
+            pooled_obs.append(o_acc)
+            pooled_exp.append(e_acc)
+    obs, exp = np.array(pooled_obs), np.array(pooled_exp)
+    exp = exp * (obs.sum() / exp.sum())  # the pmf sums to 1 up to rounding; chisquare wants equal sums
+    return len(obs), scipy.stats.chisquare(obs, exp).pvalue
+
+
 # --- An exact binomial tail in 45-digit decimal arithmetic -----------------------------------------
 
 
@@ -174,6 +353,7 @@ def main():
     if len(sys.argv) != 2:
         sys.exit(__doc__)
     driver = sys.argv[1]
+    global checks
     warnings.simplefilter("ignore")  # scipy warns on zeros and small approximate samples
     print(f"numpy {np.__version__}, scipy {scipy.__version__}, statsmodels {statsmodels.__version__}")
     rng = np.random.default_rng(5)  # the reference's own inputs; any seed would do
@@ -271,18 +451,147 @@ def main():
     expect(f"bootstrap 2000 {SEED} 0.95 0", "bootstrap n0", [0, 0], rel=0)
     expect(f"bootstrap 2000 {SEED} 0.95 1 0.25", "bootstrap n1", [0.25, 0.25], rel=0)
 
-    # Metric summaries (SPEC 6.6): Wilson for 0/1 values, else the seeded bootstrap.
+    # Metric summaries (SPEC 6.6): Wilson for 0/1 values, else the seeded grouped bootstrap,
+    # recomputed by the transcription above (which falls back to the index resamples exactly
+    # where the driver's plan does: the 30 continuous values here).
+    costs = tuple(run_driver(driver, ["plan-costs"])[0])
+    grng = np.random.default_rng(6)  # inputs of the grouped-bootstrap checks, apart from rng's
     binary = list(rng.integers(0, 2, 45).astype(float))
     low, high = proportion_confint(int(sum(binary)), len(binary), alpha=0.05, method="wilson")
     expect(f"metric 1 2000 {SEED} {values_text(binary)}", "metric binary",
            [np.mean(binary), len(binary), low, high, 1], rel=1e-12)
-    for values, is_binary in [(list(rng.uniform(0, 1, 30)), 0), (list(rng.uniform(0, 1, 30)), 1),
-                              (binary[:20], 0)]:
-        a = np.array(values)
-        idx = resample_indices(len(a), 2000, SEED)
-        low, high = bootstrap_percentiles(a[idx].mean(axis=1), 0.95)
+    metric_cases = [(list(rng.uniform(0, 1, 30)), 0), (list(rng.uniform(0, 1, 30)), 1),
+                    (binary[:20], 0),
+                    (list(grng.choice([0.0, 0.5, 1.0, 2 / 3], 300, p=[0.4, 0.1, 0.4, 0.1])), 0),
+                    (list(grng.choice([0.0, 1.0, 0.5], 120, p=[0.45, 0.45, 0.1])), 1)]
+    for values, is_binary in metric_cases:
+        (low, high), plan = grouped_bootstrap_mean(values, 2000, SEED, 0.95, costs)
         expect(f"metric {is_binary} 2000 {SEED} {values_text(values)}",
-               f"metric bootstrap binary={is_binary}", [a.mean(), len(a), low, high, 0], rel=1e-12)
+               f"metric bootstrap binary={is_binary} n{len(values)} plan {plan}",
+               [np.mean(values), len(values), low, high, 0], rel=1e-12, abs_tol=1e-14)
+
+    # The grouped bootstrap (a): the driver's interval and plan against the transcription, for
+    # samples that exercise each plan: every count a binomial, binomials then index draws among
+    # the rare values, index resampling, one value, two, signed zeros and negative values.
+    def token_f1_like(n):
+        return list(grng.choice([0.0, 1.0, 0.5, 2 / 3, 0.4, 0.8, 0.25, 0.75, 1 / 3, 0.6, 0.2], n,
+                                p=[0.3, 0.3, 0.08, 0.06, 0.06, 0.05, 0.04, 0.04, 0.03, 0.02, 0.02]))
+
+    def heavy_and_rare(heavy, rare):
+        values = list(grng.choice([0.0, 1.0, 0.5], heavy, p=[0.5, 0.35, 0.15]))
+        return values + list(grng.uniform(0, 1, rare))
+
+    grouped_cases = [(token_f1_like(200), 2000, SEED, 0.95), (token_f1_like(2000), 2000, SEED, 0.95),
+                     (token_f1_like(500), 700, 99, 0.9), (heavy_and_rare(600, 25), 2000, SEED, 0.95),
+                     (heavy_and_rare(400, 60), 1000, 3, 0.99),
+                     (list(grng.uniform(0, 1, 40)), 2000, SEED, 0.95), ([0.25] * 50, 2000, SEED, 0.95),
+                     ([0.2] * 300 + [0.7] * 200, 2000, 7, 0.95),
+                     ([1.0] * 3 + [0.0] * 997, 2000, SEED, 0.95),
+                     ([-0.0] * 30 + [0.0] * 30 + [-1.5] * 40 + [2.0] * 20, 1500, 11, 0.95),
+                     ([0.1, 0.9], 2000, SEED, 0.95)]
+    kinds = set()
+    for values, resamples, seed, confidence in grouped_cases:
+        want, plan = grouped_bootstrap_mean(values, resamples, seed, confidence, costs)
+        if plan[0] == 1:
+            kind = "index"
+        elif plan[1] == 1:
+            kind = "one value"
+        else:
+            kind = "binomials, then index draws" if plan[3] > 0 else "binomials"
+        kinds.add(kind)
+        expect(f"grouped {resamples} {seed} {fmt(confidence)} {values_text(values)}",
+               f"grouped n{len(values)} B{resamples} seed {seed} ({kind})", want + plan,
+               rel=1e-12, abs_tol=1e-14)
+    if len(kinds) != 4:
+        failures.append(f"the grouped cases cover only the plans {sorted(kinds)}")
+    for command, name, want in [
+            (f"grouped 2000 {SEED} 0.95 0", "grouped n0", [0, 0, 1, 0, 0, 0]),
+            (f"grouped 2000 {SEED} 0.95 1 0.25", "grouped n1", [0.25, 0.25, 1, 0, 0, 0]),
+            (f"grouped 0 {SEED} 0.95 4 0.5 0.5 1.0 0.0", "grouped B0: the mean", [0.5, 0.5, 1, 3, 0, 0]),
+            (f"grouped 2000 {SEED} 0.95 3 0.5 nan 0.25", "grouped NaN", [math.nan, math.nan, 1, 0, 0, 0])]:
+        expect(command, name, want, rel=0)
+
+    # The binomial sampler (b): ln k! against scipy.special.gammaln, then draws for several
+    # (n, p), 200,000 in all: the first 2000 of each stream must be the transcription's draws,
+    # and all must fit scipy.stats.binom.pmf by a chi-square test (bins pooled to expect >= 5),
+    # p > 1e-4 required. Seeded, so the outcome is fixed; a correct sampler fails one of the ten
+    # tests with probability about 1e-3.
+    ks = list(range(0, 41)) + [63, 64, 100, 1000, 12345, 20000, 10**6, 10**9]
+    expect(f"logfactorial {len(ks)} " + " ".join(map(str, ks)), "LogFactorial vs gammaln(k + 1)",
+           [scipy.special.gammaln(k + 1.0) for k in ks], rel=1e-14, abs_tol=1e-15)
+    expect(f"logfactorial {len(ks)} " + " ".join(map(str, ks)), "LogFactorial vs transcription",
+           [log_factorial(k) for k in ks], rel=0)
+    binomial_cases = [(1, 0.3, 20000), (20000, 1e-5, 20000), (20000, 0.5, 30000),
+                      (20000, 0.37, 20000), (50, 0.999, 20000), (1000, 0.02, 20000),
+                      (7, 0.5, 20000), (200, 0.8, 20000), (20000, 0.9995, 15000),
+                      (100, 0.25, 15000)]
+    binomial_commands = [f"binomial {SEED + i} {n} {fmt(p)} {count}"
+                         for i, (n, p, count) in enumerate(binomial_cases)]
+    for i, ((n, p, count), draws) in enumerate(zip(binomial_cases,
+                                                   run_driver(driver, binomial_commands))):
+        checks += 1
+        if len(draws) != count:
+            failures.append(f"binomial n{n} p{p}: {len(draws)} draws, asked for {count}")
+            continue
+        stream, tables, odds = Xoshiro256StarStar(SEED + i), BinomialTables(n), BinomialOdds(p)
+        mine = [sample_binomial(stream, n, odds, tables) for _ in range(2000)]
+        checks += 1
+        if mine != draws[:2000]:
+            first = next(j for j in range(2000) if mine[j] != draws[j])
+            failures.append(f"binomial n{n} p{p}: draw {first} is {draws[first]}, "
+                            f"the transcription's {mine[first]}")
+        observed = np.bincount(np.array(draws), minlength=n + 1)[:n + 1]
+        expected = count * scipy.stats.binom.pmf(np.arange(n + 1), n, p)
+        bins, pvalue = pooled_chisquare(observed, expected)
+        checks += 1
+        print(f"binomial n={n} p={p}: {count} draws, mean {np.mean(draws):.6g} (np {n * p:.6g}), "
+              f"chi-square over {bins} bins p = {pvalue:.4g}")
+        if bins < 2 or not pvalue > 1e-4:
+            failures.append(f"binomial n{n} p{p}: chi-square p = {pvalue} over {bins} bins")
+
+    # The grouped bootstrap (c): at B = 100,000 its interval ends agree with numpy's own index
+    # bootstrap (default_rng, an independent stream) within Monte Carlo error. A percentile of B
+    # draws has the asymptotic standard error sqrt(a (1 - a) / B) / f(q_a); f is taken as the
+    # normal density of the resample mean, whose sd is the sample's plug-in sd / sqrt(n). The two
+    # estimates are independent, so their difference is allowed 5 * sqrt(2) of that error: a false
+    # alarm if both were right has probability about 6e-7 (and the seeds fix the outcome). The
+    # means of these samples lie on lattices far finer than that (steps of 1/(60 n) or none), so
+    # the normal density applies. A 0/1 sample's resample mean is instead exactly
+    # Binomial(n, k/n) / n, coarse: there both ends must equal scipy.stats.binom.ppf's quantiles,
+    # and for 30 of 1000 the binomial CDF passes 0.025 and 0.975 at least 9 standard errors
+    # (sqrt(a (1 - a) / B)) away from either neighbouring lattice point, so both estimates land
+    # on those quantiles exactly.
+    big_b = 100000
+    nrng = np.random.default_rng(7)
+    for values, label in [(token_f1_like(2000), "token-F1-like n2000"),
+                          (heavy_and_rare(2800, 200), "heavy and rare n3000"),
+                          ([1.0] * 30 + [0.0] * 970, "0/1 at 3% n1000")]:
+        a = np.array(values)
+        n = len(a)
+        got = run_driver(driver, [f"grouped {big_b} {SEED} 0.95 {values_text(values)}"])[0]
+        means = np.concatenate([a[nrng.integers(0, n, size=(2000, n))].mean(axis=1)
+                                for _ in range(big_b // 2000)])
+        want = bootstrap_percentiles(means, 0.95)
+        sd_mean = a.std() / math.sqrt(n)
+        se = math.sqrt(0.025 * 0.975 / big_b) / (scipy.stats.norm.pdf(1.959964) / sd_mean)
+        tolerance = 5 * math.sqrt(2) * se
+        if set(values) == {0.0, 1.0}:
+            exact = scipy.stats.binom.ppf([0.025, 0.975], n, a.mean()) / n
+            for end, w, e in [("low", want[0], exact[0]), ("high", want[1], exact[1])]:
+                checks += 1
+                if w != e:
+                    failures.append(f"numpy's bootstrap {label} {end} {w!r} is not the exact {e!r}")
+            want, tolerance = exact, 0.0
+        for end, g, w in [("low", got[0], want[0]), ("high", got[1], want[1])]:
+            checks += 1
+            print(f"grouped vs {'binom.ppf' if tolerance == 0 else 'numpy index bootstrap'}, "
+                  f"{label}, B={big_b}, {end}: plumb {g:.6f}, reference {w:.6f}, "
+                  f"|difference| {abs(g - w):.2e} <= {tolerance:.2e}")
+            if not abs(g - w) <= tolerance:
+                failures.append(f"grouped {label} {end}: plumb {g!r}, reference {w!r} (tolerance "
+                                f"{tolerance:.3g})")
+        if got[2] != 0:
+            failures.append(f"grouped {label}: expected a grouped plan, got {got[2:]}")
 
     # Exact McNemar.
     mcnemar_cases = [(b, c) for b in range(0, 26) for c in range(0, 26)]
