@@ -23,6 +23,12 @@ struct PipelineRequest {
   nlohmann::json ToJson() const {
     return {{"id", id}, {"question", question}, {"input", input}, {"repeat", repeat}};
   }
+  /// The same object as one line of compact JSON, without the newline: what a subprocess
+  /// pipeline reads and what the journal records. Invalid UTF-8 becomes U+FFFD.
+  std::string ToLine() const { return RequestLine(id, question, input, repeat); }
+
+  static std::string RequestLine(const std::string& id, const std::string& question,
+                                 const nlohmann::json& input, int repeat);
 };
 
 /// What one call produced. `error` empty means `body` holds a complete reply to parse;

@@ -31,7 +31,7 @@ std::string CaseRecordLine(const CaseRecord& r) {
   std::string line;
   line.reserve(512);
   JsonWriter w(&line);
-  w.BeginObject().Member("id", r.id).Member("repeat", r.repeat).Key("request").Value(r.request);
+  w.BeginObject().Member("id", r.id).Member("repeat", r.repeat).Key("request").Raw(r.request);
   w.Key("response").Value(r.response);
   w.Member("latency_ms", r.latency_ms).Member("attempts", r.attempts);
   if (r.error.empty()) {
@@ -77,7 +77,8 @@ bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* 
   try {
     r->id = json.at("id").get<std::string>();
     r->repeat = json.at("repeat").get<int>();
-    r->request = json.value("request", nlohmann::json::object());
+    r->request = json.value("request", nlohmann::json::object())
+                     .dump(-1, ' ', false, nlohmann::json::error_handler_t::replace);
     r->response = json.value("response", nlohmann::json());
     r->latency_ms = json.at("latency_ms").get<double>();
     r->attempts = json.value("attempts", 1);
@@ -100,7 +101,7 @@ bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* 
         return false;
       }
     }
-    r->scores.values = json.value("scores", std::map<std::string, double>());
+    r->scores.values = MetricValues(json.value("scores", std::map<std::string, double>()));
     r->scores.pass = json.value("pass", false);
     r->scores.errored = !r->error.empty();
     r->scores.abstained = json.value("abstained_scored", false);

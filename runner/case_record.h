@@ -22,7 +22,7 @@ inline constexpr size_t kMaxRecordedBody = 64 * 1024;
 struct CaseRecord {
   std::string id;
   int repeat = 0;
-  nlohmann::json request;
+  std::string request;      // as sent: compact JSON (PipelineRequest::ToLine)
   nlohmann::json response;  // the parsed reply, or {"excerpt", "bytes"} when large or invalid
   Response parsed;          // empty when the call errored
   double latency_ms = 0;

@@ -6,14 +6,15 @@
 /// without patterns, citation_precision without citations) is absent, not zero: aggregates
 /// average over the cases where a metric is defined.
 
-#include <map>
 #include <string>
 #include <vector>
+
+#include "runner/metric_values.h"
 
 namespace plumb {
 
 struct CaseScores {
-  std::map<std::string, double> values;
+  MetricValues values;
   bool abstained = false;             // the reply abstained or normalized to no tokens
   bool abstention_case = false;       // the case's gold is "abstain" (answers: [])
   bool errored = false;               // the call failed; answer metrics are 0

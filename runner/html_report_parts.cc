@@ -59,7 +59,7 @@ std::string JsonText(const nlohmann::json& value) {
   return value.dump(-1, ' ', false, nlohmann::json::error_handler_t::replace);
 }
 
-std::string ScoresAttribute(const std::map<std::string, double>& scores) {
+std::string ScoresAttribute(const MetricValues& scores) {
   std::string out;
   char buffer[32];
   for (const auto& [metric, value] : scores) {

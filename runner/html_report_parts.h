@@ -11,6 +11,8 @@
 #include <string>
 #include <vector>
 
+#include "runner/metric_values.h"
+
 namespace plumb {
 
 /// Scores: three decimals ("0.308", "1.000").
@@ -32,7 +34,7 @@ std::string JsonText(const nlohmann::json& value);
 /// Per-case scores for the data-scores attribute the page's script filters and sorts on:
 /// "name value name value ...", names percent-encoded (so a space never appears in one),
 /// values in shortest round-trip-enough form ("0.75", "1"). Escape it with AppendHtmlAttribute.
-std::string ScoresAttribute(const std::map<std::string, double>& scores);
+std::string ScoresAttribute(const MetricValues& scores);
 
 /// Tags for the data-tags attribute: percent-encoded and space-separated.
 std::string TagsAttribute(const std::vector<std::string>& tags);

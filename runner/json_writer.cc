@@ -3,6 +3,8 @@
 #include <cassert>
 #include <charconv>
 #include <cmath>
+#include <cstdint>
+#include <cstring>
 
 #include "metrics/utf8.h"
 
@@ -14,6 +16,32 @@ constexpr char kHex[] = "0123456789abcdef";
 // Bytes a JSON string can carry as they are: printable ASCII other than '"' and '\'.
 bool IsPlainAscii(unsigned char c) { return c >= 0x20 && c < 0x80 && c != '"' && c != '\\'; }
 
+// True when one of the 8 bytes of `word` is not plain ASCII: below 0x20, at or above 0x80, '"'
+// or '\'. The usual SWAR tests (Mycroft's has-zero-byte and has-less-than, as in Anderson's
+// "Bit Twiddling Hacks"), exact here because bytes at or above 0x80 are caught first.
+bool HasSpecialByte(uint64_t word) {
+  constexpr uint64_t kOnes = 0x0101010101010101ull;
+  constexpr uint64_t kHigh = 0x8080808080808080ull;
+  auto has_zero = [](uint64_t v) { return (v - kOnes) & ~v & kHigh; };
+  const uint64_t below_space = (word - kOnes * 0x20) & ~word & kHigh;
+  return ((word & kHigh) | below_space | has_zero(word ^ (kOnes * '"')) |
+          has_zero(word ^ (kOnes * '\\'))) != 0;
+}
+
+// The length of the run of plain ASCII bytes that starts at text[from].
+size_t PlainRun(std::string_view text, size_t from) {
+  size_t at = from;
+  const size_t n = text.size();
+  while (at + 8 <= n) {
+    uint64_t word;
+    std::memcpy(&word, text.data() + at, sizeof word);
+    if (HasSpecialByte(word)) break;
+    at += 8;
+  }
+  while (at < n && IsPlainAscii(static_cast<unsigned char>(text[at]))) ++at;
+  return at - from;
+}
+
 }  // namespace
 
 void AppendJsonString(std::string_view text, std::string* out) {
@@ -22,10 +50,9 @@ void AppendJsonString(std::string_view text, std::string* out) {
   const size_t n = text.size();
   while (i < n) {
     // Copy the longest run that needs no escaping in one go.
-    size_t run = i;
-    while (run < n && IsPlainAscii(static_cast<unsigned char>(text[run]))) ++run;
-    out->append(text.data() + i, run - i);
-    i = run;
+    const size_t run = PlainRun(text, i);
+    out->append(text.data() + i, run);
+    i += run;
     if (i >= n) break;
     const unsigned char c = static_cast<unsigned char>(text[i]);
     if (c >= 0x80) {

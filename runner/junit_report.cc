@@ -32,7 +32,7 @@ std::map<std::string, std::vector<const CaseRecord*>> RecordsById(const LoadedRu
   return out;
 }
 
-std::string ScoresText(const std::map<std::string, double>& values) {
+std::string ScoresText(const MetricValues& values) {
   std::vector<std::string> names;
   for (const auto& entry : values) names.push_back(entry.first);
   std::string out;
@@ -43,7 +43,7 @@ std::string ScoresText(const std::map<std::string, double>& values) {
 }
 
 /// Mean of each metric over the repeats that define it.
-std::map<std::string, double> MeanScores(const std::vector<const CaseRecord*>& records) {
+MetricValues MeanScores(const std::vector<const CaseRecord*>& records) {
   std::map<std::string, std::pair<double, int>> sums;
   for (const CaseRecord* r : records) {
     for (const auto& [metric, value] : r->scores.values) {
@@ -51,7 +51,7 @@ std::map<std::string, double> MeanScores(const std::vector<const CaseRecord*>& r
       sums[metric].second += 1;
     }
   }
-  std::map<std::string, double> out;
+  MetricValues out;
   for (const auto& [metric, sum] : sums) out[metric] = sum.first / sum.second;
   return out;
 }

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <map>
 #include <set>
+#include <utility>
 
 namespace plumb {
 namespace {
@@ -26,9 +27,9 @@ std::vector<std::string> DisplayOrder(const Suite& suite) {
 
 /// Per-case values of every metric, averaged over the case's repeats.
 struct CaseValues {
-  std::map<std::string, double> sum;
-  std::map<std::string, int> count;
-  int repeats = 0;
+  MetricValues sum;
+  MetricValues count;
+  int repeats = 0;  // 0: the case has no outcome
   int passes = 0;
   int errors = 0;
   int abstentions = 0;  // repeats on which the reply abstained
@@ -46,7 +47,9 @@ std::vector<MetricAggregate> Summarize(const Suite& suite,
   int64_t abstained = 0, abstained_right = 0, abstention_cases = 0, abstention_cases_hit = 0;
   for (size_t i = 0; i < cases.size(); ++i) {
     const CaseValues& v = *cases[i];
-    for (const auto& [metric, sum] : v.sum) values[metric].push_back(sum / v.count.at(metric));
+    for (auto sum = v.sum.begin(), count = v.count.begin(); sum != v.sum.end(); ++sum, ++count) {
+      values[sum->first].push_back(sum->second / count->second);
+    }
     values["pass_rate"].push_back(static_cast<double>(v.passes) / v.repeats);
     values["error_rate"].push_back(static_cast<double>(v.errors) / v.repeats);
     // Abstention rates count every (case, repeat): each repeat is one decision to abstain.
@@ -97,9 +100,9 @@ const metrics::MetricSummary* RunAggregates::Find(const std::string& metric,
 
 RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& outcomes) {
   RunAggregates run;
-  std::map<size_t, CaseValues> per_case;
-  std::map<size_t, std::set<bool>> pass_outcomes;
+  std::vector<CaseValues> per_case(suite.cases.size());
   std::vector<double> latencies;
+  latencies.reserve(outcomes.size());
   for (const CaseOutcome& o : outcomes) {
     CaseValues& v = per_case[o.case_index];
     for (const auto& [metric, value] : o.scores.values) Add(&v, metric, value);
@@ -107,7 +110,6 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
     v.passes += o.scores.pass ? 1 : 0;
     v.errors += o.scores.errored ? 1 : 0;
     v.abstentions += o.scores.abstained && !o.scores.errored ? 1 : 0;
-    pass_outcomes[o.case_index].insert(o.scores.pass);
     run.items += 1;
     run.errored += o.scores.errored ? 1 : 0;
     // Latency of a failed call measures the failure (often the timeout), not the pipeline.
@@ -115,18 +117,21 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
     run.input_tokens += o.input_tokens;
     run.output_tokens += o.output_tokens;
   }
-  run.cases = static_cast<int64_t>(per_case.size());
-  run.latency = metrics::SummarizeLatency(latencies);
+  run.latency = metrics::SummarizeLatency(std::move(latencies));
 
   std::vector<const CaseValues*> all;
   std::vector<bool> all_abstention;
   std::map<std::string, std::pair<std::vector<const CaseValues*>, std::vector<bool>>> by_tag;
-  for (const auto& [index, values] : per_case) {
+  for (size_t index = 0; index < per_case.size(); ++index) {
+    const CaseValues& values = per_case[index];
+    if (values.repeats == 0) continue;
     const Case& c = suite.cases[index];
+    run.cases += 1;
     all.push_back(&values);
     all_abstention.push_back(c.answers.empty());
     if (values.passes == values.repeats) run.passed += 1;
-    if (pass_outcomes[index].size() > 1) run.unstable_cases.push_back(c.id);
+    // Passed on some repeats and failed on others.
+    if (values.passes > 0 && values.passes < values.repeats) run.unstable_cases.push_back(c.id);
     for (const std::string& tag : c.tags) {
       by_tag[tag].first.push_back(&values);
       by_tag[tag].second.push_back(c.answers.empty());

@@ -12,7 +12,7 @@
 namespace plumb {
 
 std::unique_ptr<RunJournal> RunJournal::Open(const std::string& path, long long keep_bytes,
-                                             std::string* error) {
+                                             std::string* error, size_t buffer_bytes) {
   int flags = O_WRONLY | O_CREAT | O_APPEND | O_CLOEXEC;
   if (keep_bytes < 0) flags |= O_TRUNC;
   int fd = ::open(path.c_str(), flags, 0644);
@@ -25,10 +25,14 @@ std::unique_ptr<RunJournal> RunJournal::Open(const std::string& path, long long 
     ::close(fd);
     return nullptr;
   }
-  return std::unique_ptr<RunJournal>(new RunJournal(fd));
+  return std::unique_ptr<RunJournal>(new RunJournal(fd, buffer_bytes));
 }
 
-RunJournal::~RunJournal() { ::close(fd_); }
+RunJournal::~RunJournal() {
+  std::string ignored;
+  Flush(&ignored);
+  ::close(fd_);
+}
 
 bool RunJournal::Append(const nlohmann::json& record, std::string* error) {
   return AppendLine(record.dump(-1, ' ', false, nlohmann::json::error_handler_t::replace), error);
@@ -37,16 +41,33 @@ bool RunJournal::Append(const nlohmann::json& record, std::string* error) {
 bool RunJournal::AppendLine(std::string line, std::string* error) {
   line.push_back('\n');
   std::lock_guard<std::mutex> lock(mutex_);
-  const char* data = line.data();
-  size_t left = line.size();
+  if (buffer_bytes_ == 0) return WriteAll(line, error);
+  pending_ += line;
+  if (pending_.size() < buffer_bytes_) return true;
+  const bool written = WriteAll(pending_, error);
+  pending_.clear();
+  return written;
+}
+
+bool RunJournal::Flush(std::string* error) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  if (pending_.empty()) return true;
+  const bool written = WriteAll(pending_, error);
+  pending_.clear();
+  return written;
+}
+
+bool RunJournal::WriteAll(const std::string& data, std::string* error) {
+  const char* at = data.data();
+  size_t left = data.size();
   while (left > 0) {
-    ssize_t n = ::write(fd_, data, left);
+    ssize_t n = ::write(fd_, at, left);
     if (n < 0) {
       if (errno == EINTR) continue;
       *error = std::string("cannot write the run journal: ") + std::strerror(errno);
       return false;
     }
-    data += n;
+    at += n;
     left -= static_cast<size_t>(n);
   }
   return true;

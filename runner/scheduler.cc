@@ -20,7 +20,7 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
   CaseRecord record;
   record.id = c.id;
   record.repeat = repeat;
-  record.request = PipelineRequest{c.id, c.question, c.input, repeat}.ToJson();
+  record.request = PipelineRequest::RequestLine(c.id, c.question, c.input, repeat);
   record.latency_ms = call.latency_ms;
   record.attempts = call.attempts;
   // A pipeline may echo a secret it was given; nothing it says reaches a file unredacted.

@@ -148,6 +148,9 @@ class PredictionReader {
 
 }  // namespace
 
+// The pending journal is written in pieces of about this size.
+constexpr size_t kJournalBuffer = 1 << 20;
+
 int ScoreCommand(const ScoreOptions& options) {
   PreparedSuite prepared;
   if (!PrepareSuite(options.suite_path, "", /*expand_env=*/false, &prepared)) return 2;
@@ -168,13 +171,14 @@ int ScoreCommand(const ScoreOptions& options) {
   outcomes.reserve(suite.cases.size());
   int max_repeat = 0;
   {
-    std::unique_ptr<RunJournal> journal = RunJournal::Open(pending_path, -1, &error);
+    std::unique_ptr<RunJournal> journal =
+        RunJournal::Open(pending_path, -1, &error, kJournalBuffer);
     if (journal == nullptr) {
       std::fprintf(stderr, "plumb: %s\n", error.c_str());
       return 2;
     }
     PredictionReader reader(options.predictions_path, prepared, journal.get());
-    if (!reader.ReadAll(&outcomes, &max_repeat, &error)) {
+    if (!reader.ReadAll(&outcomes, &max_repeat, &error) || !journal->Flush(&error)) {
       std::remove(pending_path.c_str());
       std::fprintf(stderr, "plumb: %s\n", error.c_str());
       return 2;

@@ -278,8 +278,7 @@ CallResult SubprocessAdapter::Call(const PipelineRequest& request, int index) {
   }
   // Replacing invalid UTF-8 instead of throwing keeps Call's no-throw promise; the suite
   // loader has already rejected such text, so this only changes what could not be sent.
-  std::string line =
-      request.ToJson().dump(-1, ' ', false, nlohmann::json::error_handler_t::replace);
+  std::string line = request.ToLine();
   line.push_back('\n');
   slot.err_this_call = 0;
 

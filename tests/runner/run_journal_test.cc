@@ -93,3 +93,25 @@ TEST_CASE("invalid UTF-8 from a pipeline is journaled as U+FFFD, not lost") {
         "b\"}\n");
   std::remove(path.c_str());
 }
+
+TEST_CASE("a buffered journal writes once the buffer fills and on flush") {
+  const std::string path = TempPath("buffered");
+  std::string error;
+  {
+    auto journal = plumb::RunJournal::Open(path, -1, &error, /*buffer_bytes=*/40);
+    REQUIRE(journal);
+    REQUIRE(journal->AppendLine("{\"id\":\"a\",\"repeat\":0}", &error));  // 22 bytes waiting
+    CHECK(ReadAll(path).empty());
+    REQUIRE(journal->AppendLine("{\"id\":\"b\",\"repeat\":0}", &error));  // 44 >= 40: written
+    CHECK(ReadAll(path) == "{\"id\":\"a\",\"repeat\":0}\n{\"id\":\"b\",\"repeat\":0}\n");
+    REQUIRE(journal->AppendLine("{\"id\":\"c\",\"repeat\":0}", &error));
+    REQUIRE(journal->Flush(&error));
+    CHECK(ReadAll(path).size() == 3 * 22);
+    REQUIRE(journal->AppendLine("{\"id\":\"d\",\"repeat\":0}", &error));
+  }  // the destructor writes what is left
+  plumb::JournalContents contents;
+  REQUIRE(plumb::ReadJournal(path, &contents, &error));
+  REQUIRE(contents.records.size() == 4);
+  CHECK(contents.records[3]["id"] == "d");
+  std::remove(path.c_str());
+}
