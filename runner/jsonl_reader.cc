@@ -1,13 +1,18 @@
 #include "runner/jsonl_reader.h"
 
 #include <algorithm>
+#include <charconv>
+#include <cstdint>
 #include <nlohmann/json.hpp>
+#include <system_error>
 #include <utility>
 
 #include "runner/code_points.h"
 
 namespace plumb {
 namespace {
+
+const char kOneCaseHint[] = "each line of a .jsonl include is one case object";
 
 // Built field by field: GCC 12 misreports a braced Diagnostic temporary as maybe-uninitialized.
 Diagnostic MakeError(const std::string& file, int line, int column, std::string message,
@@ -19,48 +24,93 @@ Diagnostic MakeError(const std::string& file, int line, int column, std::string 
   return d;
 }
 
-// Walks text nlohmann has already accepted, so it only needs to be right on valid JSON; it
-// still stops (returns false) rather than read out of bounds on anything unexpected.
+// True when `number`, already matched to the JSON grammar, is beyond the range of a double:
+// nlohmann refuses it ("number overflow") but takes a number that underflows to zero.
+// from_chars reports both as out of range; they lie some 600 decades apart, so the decimal
+// exponent of the leading nonzero digit tells them apart.
+bool OverflowsDouble(std::string_view number) {
+  double value;
+  const char* end = number.data() + number.size();
+  if (std::from_chars(number.data(), end, value).ec != std::errc::result_out_of_range) {
+    return false;
+  }
+  if (number[0] == '-') number.remove_prefix(1);
+  size_t e = std::min(number.find_first_of("eE"), number.size());
+  std::string_view mantissa = number.substr(0, e);
+  size_t point = std::min(mantissa.find('.'), mantissa.size());
+  int64_t leading = int64_t(point) - 1;  // "123.4" -> 2
+  if (mantissa.substr(0, point) == "0") {
+    size_t nonzero = mantissa.find_first_not_of('0', point + 1);
+    if (nonzero == std::string_view::npos) return false;  // zero itself
+    leading = int64_t(point) - int64_t(nonzero);          // "0.004" -> -3
+  }
+  int64_t exponent = 0;
+  if (e < number.size()) {
+    std::string_view digits = number.substr(e + 1);  // [+-]?[0-9]+
+    bool negative = digits[0] == '-';
+    if (digits[0] == '-' || digits[0] == '+') digits.remove_prefix(1);
+    for (char c : digits) exponent = std::min<int64_t>(exponent * 10 + (c - '0'), 1 << 30);
+    if (negative) exponent = -exponent;
+  }
+  return leading + exponent > 0;
+}
+
+// One strict pass over a line: accepts the RFC 8259 texts nlohmann::json accepts, builds their
+// SourceNode tree on the way, and refuses the rest without saying why (nlohmann words that).
+// It refuses two kinds of line that nlohmann accepts: nesting deeper than kMaxJsonDepth, and
+// a value followed by a NUL byte, which nlohmann reads as the end of its input.
 class PositionedScanner {
  public:
   PositionedScanner(std::string_view text, int line) : text_(text), line_(line) {}
 
-  bool Value(int depth, SourceNode* out) {
+  bool Document(SourceNode* root) {
+    // nlohmann skips a UTF-8 byte-order mark at the very start; it is one code point.
+    if (Consume("\xEF\xBB\xBF")) continuation_bytes_ = 2;
+    if (!Value(0, root)) return false;
     SkipSpace();
-    if (at_ >= text_.size() || depth > kMaxJsonDepth) return false;
-    out->line = line_;
-    out->column = ColumnAt(at_);
-    char c = text_[at_];
-    if (c == '{') return Object(depth, out);
-    if (c == '[') return Array(depth, out);
-    if (c == '"') {
-      out->kind = SourceNode::Kind::kScalar;
-      out->quoted = true;
-      return String(&out->scalar);
-    }
-    size_t start = at_;
-    while (at_ < text_.size() && !IsDelimiter(text_[at_])) ++at_;
-    std::string_view word = text_.substr(start, at_ - start);
-    if (word.empty()) return false;
-    if (word == "null") {
-      out->kind = SourceNode::Kind::kNull;
-    } else {
-      out->kind = SourceNode::Kind::kScalar;
-      out->scalar = std::string(word);  // a number, true or false
-    }
-    return true;
+    return at_ == text_.size();  // RFC 8259 §2: one value, nothing after it
   }
 
-  bool AtEnd() {
-    SkipSpace();
-    return at_ == text_.size();
-  }
+  bool too_deep() const { return too_deep_; }
+  size_t stopped_at() const { return at_; }  // for a NUL after the value, its offset
 
  private:
-  static bool IsDelimiter(char c) {
-    return c == ',' || c == ']' || c == '}' || c == ' ' || c == '\t' || c == '\r' || c == '\n';
+  bool Value(int depth, SourceNode* out) {
+    SkipSpace();
+    if (at_ >= text_.size()) return false;
+    if (depth > kMaxJsonDepth) {
+      too_deep_ = true;
+      return false;
+    }
+    out->line = line_;
+    out->column = Column();
+    switch (text_[at_]) {
+      case '{':
+        return Object(depth, out);
+      case '[':
+        return Array(depth, out);
+      case '"':
+        out->kind = SourceNode::Kind::kScalar;
+        out->quoted = true;
+        return String(&out->scalar);
+      case 'n':
+        out->kind = SourceNode::Kind::kNull;
+        return Consume("null");
+      case 't':
+        return Word("true", out);
+      case 'f':
+        return Word("false", out);
+      default:
+        out->kind = SourceNode::Kind::kScalar;
+        return Number(&out->scalar);
+    }
   }
 
+  // Every byte before at_ has been checked, and only strings hold multi-byte sequences, so the
+  // code points so far are the bytes less the continuation bytes counted on the way.
+  int Column() const { return int(at_ - continuation_bytes_) + 1; }
+
+  // RFC 8259 §2: whitespace is space, tab, line feed and carriage return, nothing else.
   void SkipSpace() {
     while (at_ < text_.size() &&
            (text_[at_] == ' ' || text_[at_] == '\t' || text_[at_] == '\r' || text_[at_] == '\n')) {
@@ -68,56 +118,150 @@ class PositionedScanner {
     }
   }
 
-  // Offsets only ever grow, so the code-point count is carried forward from the last one.
-  int ColumnAt(size_t offset) {
-    if (offset < counted_to_) {
-      counted_to_ = 0;
-      counted_ = 0;
-    }
-    counted_ += CountCodePoints(text_.substr(counted_to_, offset - counted_to_));
-    counted_to_ = offset;
-    return int(counted_) + 1;
+  bool Consume(char c) {
+    if (at_ >= text_.size() || text_[at_] != c) return false;
+    ++at_;
+    return true;
+  }
+
+  bool Consume(std::string_view word) {
+    if (text_.substr(at_, word.size()) != word) return false;
+    at_ += word.size();
+    return true;
+  }
+
+  bool ConsumeDigits() {
+    size_t start = at_;
+    while (at_ < text_.size() && text_[at_] >= '0' && text_[at_] <= '9') ++at_;
+    return at_ > start;
+  }
+
+  // true and false stay plain scalars holding their text, as a YAML reader would give them.
+  bool Word(std::string_view word, SourceNode* out) {
+    out->kind = SourceNode::Kind::kScalar;
+    out->scalar = std::string(word);
+    return Consume(word);
   }
 
   bool Object(int depth, SourceNode* out) {
     out->kind = SourceNode::Kind::kMapping;
     ++at_;  // '{'
     SkipSpace();
-    if (at_ < text_.size() && text_[at_] == '}') {
-      ++at_;
-      return true;
-    }
-    while (true) {
+    if (Consume('}')) return true;
+    do {
+      SkipSpace();
+      if (at_ >= text_.size() || text_[at_] != '"') return false;  // RFC 8259 §4: names are strings
       out->entries.emplace_back();
       SourceEntry& entry = out->entries.back();
-      if (!Value(depth + 1, &entry.key) || !entry.key.quoted) return false;
+      if (!Value(depth + 1, &entry.key)) return false;
       SkipSpace();
-      if (at_ >= text_.size() || text_[at_] != ':') return false;
-      ++at_;
-      if (!Value(depth + 1, &entry.value)) return false;
+      if (!Consume(':') || !Value(depth + 1, &entry.value)) return false;
       SkipSpace();
-      if (at_ >= text_.size()) return false;
-      if (text_[at_++] == '}') return true;
-      if (text_[at_ - 1] != ',') return false;
-    }
+    } while (Consume(','));
+    return Consume('}');
   }
 
   bool Array(int depth, SourceNode* out) {
     out->kind = SourceNode::Kind::kSequence;
     ++at_;  // '['
     SkipSpace();
-    if (at_ < text_.size() && text_[at_] == ']') {
-      ++at_;
-      return true;
-    }
-    while (true) {
+    if (Consume(']')) return true;
+    do {
       out->items.emplace_back();
       if (!Value(depth + 1, &out->items.back())) return false;
       SkipSpace();
-      if (at_ >= text_.size()) return false;
-      if (text_[at_++] == ']') return true;
-      if (text_[at_ - 1] != ',') return false;
+    } while (Consume(','));
+    return Consume(']');
+  }
+
+  // RFC 8259 §6: -?(0|[1-9][0-9]*)(\.[0-9]+)?([eE][+-]?[0-9]+)?, kept as written. A digit
+  // after a leading 0 is left for the caller, which refuses it as it would any stray byte.
+  bool Number(std::string* out) {
+    size_t start = at_;
+    Consume('-');
+    if (!Consume('0') && !ConsumeDigits()) return false;
+    if (Consume('.') && !ConsumeDigits()) return false;
+    if (Consume('e') || Consume('E')) {
+      if (!Consume('+')) Consume('-');
+      if (!ConsumeDigits()) return false;
     }
+    out->assign(text_.data() + start, at_ - start);
+    return !OverflowsDouble(*out);
+  }
+
+  // RFC 8259 §7. Runs of bytes that stand for themselves are appended whole; the non-ASCII
+  // ones among them must be well-formed UTF-8 (RFC 3629), as nlohmann requires.
+  bool String(std::string* out) {
+    ++at_;  // '"'
+    size_t run = at_;
+    while (at_ < text_.size()) {
+      unsigned char c = static_cast<unsigned char>(text_[at_]);
+      if (c == '"' || c == '\\') {
+        out->append(text_.data() + run, at_ - run);
+        if (c == '"') {
+          ++at_;
+          return true;
+        }
+        if (!Escape(out)) return false;
+        run = at_;
+      } else if (c < 0x20) {
+        return false;  // a control character must be escaped
+      } else if (c < 0x80) {
+        ++at_;
+      } else {
+        size_t start = at_;
+        char32_t code_point;
+        if (!DecodeCodePoint(text_, &at_, &code_point)) return false;
+        continuation_bytes_ += at_ - start - 1;
+      }
+    }
+    return false;  // no closing quote
+  }
+
+  bool Escape(std::string* out) {
+    ++at_;  // '\'
+    if (at_ >= text_.size()) return false;
+    char escape = text_[at_++];
+    switch (escape) {
+      case '"':
+      case '\\':
+      case '/':
+        *out += escape;
+        return true;
+      case 'b':
+        *out += '\b';
+        return true;
+      case 'f':
+        *out += '\f';
+        return true;
+      case 'n':
+        *out += '\n';
+        return true;
+      case 'r':
+        *out += '\r';
+        return true;
+      case 't':
+        *out += '\t';
+        return true;
+      case 'u':
+        return UnicodeEscape(out);
+      default:
+        return false;
+    }
+  }
+
+  // A character outside the BMP comes as a UTF-16 surrogate pair; like nlohmann, a surrogate
+  // that is not half of such a pair is refused rather than passed on as ill-formed UTF-8.
+  bool UnicodeEscape(std::string* out) {
+    uint32_t unit;
+    if (!Hex4(&unit) || (unit >= 0xDC00 && unit <= 0xDFFF)) return false;
+    if (unit >= 0xD800 && unit <= 0xDBFF) {
+      uint32_t low;
+      if (!Consume("\\u") || !Hex4(&low) || low < 0xDC00 || low > 0xDFFF) return false;
+      unit = 0x10000 + ((unit - 0xD800) << 10) + (low - 0xDC00);
+    }
+    AppendUtf8(char32_t(unit), out);
+    return true;
   }
 
   bool Hex4(uint32_t* out) {
@@ -140,79 +284,19 @@ class PositionedScanner {
     return true;
   }
 
-  bool String(std::string* out) {
-    ++at_;  // '"'
-    while (at_ < text_.size()) {
-      char c = text_[at_++];
-      if (c == '"') return true;
-      if (c != '\\') {
-        *out += c;
-        continue;
-      }
-      if (at_ >= text_.size()) return false;
-      char escape = text_[at_++];
-      switch (escape) {
-        case '"':
-        case '\\':
-        case '/':
-          *out += escape;
-          break;
-        case 'b':
-          *out += '\b';
-          break;
-        case 'f':
-          *out += '\f';
-          break;
-        case 'n':
-          *out += '\n';
-          break;
-        case 'r':
-          *out += '\r';
-          break;
-        case 't':
-          *out += '\t';
-          break;
-        case 'u': {
-          uint32_t unit;
-          if (!Hex4(&unit)) return false;
-          // RFC 8259 §7: characters outside the BMP come as a UTF-16 surrogate pair.
-          if (unit >= 0xD800 && unit <= 0xDBFF) {
-            uint32_t low;
-            if (at_ + 2 > text_.size() || text_[at_] != '\\' || text_[at_ + 1] != 'u') {
-              return false;
-            }
-            at_ += 2;
-            if (!Hex4(&low) || low < 0xDC00 || low > 0xDFFF) return false;
-            unit = 0x10000 + ((unit - 0xD800) << 10) + (low - 0xDC00);
-          }
-          AppendUtf8(char32_t(unit), out);
-          break;
-        }
-        default:
-          return false;
-      }
-    }
-    return false;
-  }
-
   std::string_view text_;
   int line_;
   size_t at_ = 0;
-  size_t counted_to_ = 0;
-  int64_t counted_ = 0;
+  size_t continuation_bytes_ = 0;  // UTF-8 continuation bytes before at_
+  bool too_deep_ = false;
 };
 
-}  // namespace
-
-bool ReadJsonLine(std::string_view line, const std::string& file, int line_number, SourceNode* root,
-                  Diagnostic* error) {
-  *root = SourceNode();
+// True, with *error worded as nlohmann words it, when nlohmann refuses `line`.
+bool NlohmannRefuses(std::string_view line, const std::string& file, int line_number,
+                     Diagnostic* error) {
   try {
-    // accept() checks without building a value; parse() runs only to word the error.
-    if (!nlohmann::json::accept(line)) {
-      nlohmann::json parsed = nlohmann::json::parse(line);
-      (void)parsed;
-    }
+    nlohmann::json parsed = nlohmann::json::parse(line);
+    (void)parsed;
   } catch (const nlohmann::json::parse_error& e) {
     // e.byte is the 1-based index of the byte where parsing stopped.
     size_t before = e.byte > 0 ? std::min<size_t>(e.byte - 1, line.size()) : 0;
@@ -220,21 +304,35 @@ bool ReadJsonLine(std::string_view line, const std::string& file, int line_numbe
     std::string message = e.what();
     size_t detail = message.find(": ", message.find("column"));
     if (detail != std::string::npos) message = message.substr(detail + 2);
-    *error = MakeError(file, line_number, column, "not valid JSON: " + message,
-                       "each line of a .jsonl include is one case object");
-    return false;
+    *error = MakeError(file, line_number, column, "not valid JSON: " + message, kOneCaseHint);
+    return true;
   } catch (const std::exception& e) {
     *error = MakeError(file, line_number, 1, std::string("cannot parse JSON: ") + e.what(), "");
-    return false;
+    return true;
   }
+  return false;
+}
+
+}  // namespace
+
+bool ReadJsonLine(std::string_view line, const std::string& file, int line_number, SourceNode* root,
+                  Diagnostic* error) {
+  *root = SourceNode();
   PositionedScanner scanner(line, line_number);
-  if (!scanner.Value(0, root) || !scanner.AtEnd()) {
+  if (scanner.Document(root)) return true;
+  *root = SourceNode();
+  if (NlohmannRefuses(line, file, line_number, error)) return false;
+  // nlohmann took a line the scanner refused, in one of the two ways PositionedScanner names.
+  if (scanner.too_deep()) {
     *error = MakeError(file, line_number, 1,
                        "JSON nests deeper than " + std::to_string(kMaxJsonDepth) + " levels",
                        "flatten the structure");
-    return false;
+  } else {
+    size_t nul = scanner.stopped_at();
+    *error = MakeError(file, line_number, int(CountCodePoints(line.substr(0, nul))) + 1,
+                       "not valid JSON: a NUL byte after the value", kOneCaseHint);
   }
-  return true;
+  return false;
 }
 
 }  // namespace plumb
