@@ -1,10 +1,19 @@
 #include "runner/response.h"
 
+#include <string_view>
+
 namespace plumb {
 namespace {
 
 const nlohmann::json* Resolve(const nlohmann::json& body, const std::string& pointer) {
   if (pointer.empty()) return &body;
+  // The usual map entry is one member name without escapes ("/answer"): look it up directly
+  // instead of parsing the pointer, which is most of the cost of reading a small reply.
+  if (body.is_object() && pointer[0] == '/' &&
+      pointer.find_first_of("/~", 1) == std::string::npos) {
+    auto it = body.find(std::string_view(pointer).substr(1));
+    return it == body.end() ? nullptr : &*it;
+  }
   try {
     nlohmann::json::json_pointer ptr(pointer);
     if (!body.contains(ptr)) return nullptr;

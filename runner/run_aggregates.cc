@@ -27,17 +27,31 @@ std::vector<std::string> DisplayOrder(const Suite& suite) {
 
 /// Per-case values of every metric, averaged over the case's repeats.
 struct CaseValues {
-  MetricValues sum;
-  MetricValues count;
+  /// The means: the one outcome's own values, or `averaged` when the case has several.
+  const MetricValues* means = nullptr;
+  MetricValues averaged;
+  std::vector<const MetricValues*> repeat_values;
   int repeats = 0;  // 0: the case has no outcome
   int passes = 0;
   int errors = 0;
   int abstentions = 0;  // repeats on which the reply abstained
 };
 
-void Add(CaseValues* v, const std::string& metric, double value) {
-  v->sum[metric] += value;
-  v->count[metric] += 1;
+/// Sets v->means: each metric averaged over the repeats that define it.
+void AverageRepeats(CaseValues* v) {
+  if (v->repeat_values.size() == 1) {
+    v->means = v->repeat_values[0];
+    return;
+  }
+  MetricValues sum, count;
+  for (const MetricValues* values : v->repeat_values) {
+    for (const auto& [metric, value] : *values) {
+      sum[metric] += value;
+      count[metric] += 1;
+    }
+  }
+  for (const auto& [metric, total] : sum) v->averaged[metric] = total / count.at(metric);
+  v->means = &v->averaged;
 }
 
 std::vector<MetricAggregate> Summarize(const Suite& suite,
@@ -47,9 +61,7 @@ std::vector<MetricAggregate> Summarize(const Suite& suite,
   int64_t abstained = 0, abstained_right = 0, abstention_cases = 0, abstention_cases_hit = 0;
   for (size_t i = 0; i < cases.size(); ++i) {
     const CaseValues& v = *cases[i];
-    for (auto sum = v.sum.begin(), count = v.count.begin(); sum != v.sum.end(); ++sum, ++count) {
-      values[sum->first].push_back(sum->second / count->second);
-    }
+    for (const auto& [metric, mean] : *v.means) values[metric].push_back(mean);
     values["pass_rate"].push_back(static_cast<double>(v.passes) / v.repeats);
     values["error_rate"].push_back(static_cast<double>(v.errors) / v.repeats);
     // Abstention rates count every (case, repeat): each repeat is one decision to abstain.
@@ -105,7 +117,7 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
   latencies.reserve(outcomes.size());
   for (const CaseOutcome& o : outcomes) {
     CaseValues& v = per_case[o.case_index];
-    for (const auto& [metric, value] : o.scores.values) Add(&v, metric, value);
+    v.repeat_values.push_back(&o.scores.values);
     v.repeats += 1;
     v.passes += o.scores.pass ? 1 : 0;
     v.errors += o.scores.errored ? 1 : 0;
@@ -123,8 +135,9 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
   std::vector<bool> all_abstention;
   std::map<std::string, std::pair<std::vector<const CaseValues*>, std::vector<bool>>> by_tag;
   for (size_t index = 0; index < per_case.size(); ++index) {
-    const CaseValues& values = per_case[index];
+    CaseValues& values = per_case[index];
     if (values.repeats == 0) continue;
+    AverageRepeats(&values);
     const Case& c = suite.cases[index];
     run.cases += 1;
     all.push_back(&values);

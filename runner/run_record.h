@@ -39,7 +39,7 @@ std::string BuildRunRecord(const RunContext& context, const RunAggregates& aggre
                            const RunVerdict& verdict);
 
 /// Writes `contents` to `path` through a temporary file in the same directory and rename(2),
-/// so readers see the old file or the new one, never half of one.
+/// so readers see the old file or the new one, never half of one. Not fsynced (see the .cc).
 bool WriteFileAtomically(const std::string& path, const std::string& contents, std::string* error);
 
 /// The current time as "2026-12-01T22:03:56Z".

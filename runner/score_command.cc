@@ -99,15 +99,21 @@ class PredictionReader {
       repeat = it->get<int>();
     }
     const std::string& case_id = id->get_ref<const std::string&>();
-    auto known = index_of_.find(case_id);
-    if (known == index_of_.end()) {
+    size_t case_index;
+    const std::vector<Case>& cases = prepared_.suite.cases;
+    // Predictions usually follow the suite's order: try the case after the last one first.
+    if (next_index_ < cases.size() && cases[next_index_].id == case_id) {
+      case_index = next_index_;
+    } else if (auto known = index_of_.find(case_id); known != index_of_.end()) {
+      case_index = known->second;
+    } else {
       std::fprintf(stderr,
                    "%s:%d: warning: prediction for '%s', which the suite does not have; "
                    "ignored\n",
                    path_.c_str(), line_number_, case_id.c_str());
       return true;
     }
-    const size_t case_index = known->second;
+    next_index_ = case_index + 1;
     if (!seen_.insert(Key(case_index, repeat)).second) {
       Problem(1, "a second prediction for case '" + case_id + "' repeat " + std::to_string(repeat) +
                      "; keep one line per case and repeat");
@@ -142,6 +148,7 @@ class PredictionReader {
   const PipelineConfig recorded_;  // replies in the protocol's own shape, offsets in code points
   std::unordered_map<std::string_view, size_t> index_of_;
   std::unordered_set<uint64_t> seen_;
+  size_t next_index_ = 0;
   int line_number_ = 0;
   int problems_ = 0;
 };

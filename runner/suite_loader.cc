@@ -10,6 +10,7 @@
 #include <filesystem>
 #include <fstream>
 #include <memory>
+#include <unordered_map>
 #include <utility>
 
 #include "runner/code_points.h"
@@ -352,6 +353,8 @@ class SuiteLoader {
   }
 
   void ReadJsonLines(const std::string& text, NodeChecker* check) {
+    suite_->cases.reserve(suite_->cases.size() +
+                          static_cast<size_t>(std::count(text.begin(), text.end(), '\n')) + 1);
     int line_number = 0;
     for (size_t start = 0; start < text.size();) {
       size_t end = text.find('\n', start);
@@ -511,9 +514,13 @@ class SuiteLoader {
       if (!IsNameOf(gold.id, "._:-")) {
         check->Error(*id, "invalid case id '" + gold.id + "'",
                      "use letters, digits, '.', '_', ':' and '-'");
-      } else if (auto [it, inserted] = case_ids_.emplace(gold.id, check->Pos(*id)); !inserted) {
+      } else if (auto [it, inserted] = case_ids_.emplace(
+                     gold.id, FirstId{suite_->cases.size(), id->line, id->column});
+                 !inserted) {
+        const FirstId& first = it->second;
+        const SourcePos where{suite_->cases[first.case_index].pos.file, first.line, first.column};
         check->Error(*id, "duplicate case id '" + gold.id + "'",
-                     "first defined at " + FormatPos(it->second));
+                     "first defined at " + FormatPos(where));
       }
     }
     std::string label = gold.id.empty() ? "the case" : "case '" + gold.id + "'";
@@ -787,7 +794,14 @@ class SuiteLoader {
   CorpusState corpus_state_ = CorpusState::kNone;
   bool reported_missing_corpus_ = false;
   std::vector<std::pair<std::string, std::string>> include_chain_;  // (canonical, as named)
-  std::map<std::string, SourcePos> case_ids_;
+  /// Where a case id was first written: the case's file is that of suite_->cases[case_index]
+  /// (so 20,000 ids do not each keep a copy of the file name).
+  struct FirstId {
+    size_t case_index;
+    int line;
+    int column;
+  };
+  std::unordered_map<std::string, FirstId> case_ids_;
   std::vector<std::pair<std::string, SourcePos>> threshold_tags_;
   Sha256 suite_hash_;
 };

@@ -246,6 +246,18 @@ TEST_CASE("plumb score with a bad predictions file leaves the earlier run as it 
   CHECK(run["repeat"] == 2);
   CHECK(run["aggregates"]["items"] == 4);
   CHECK(run["aggregates"]["errored"] == 1);
+  // Per case, each metric is first averaged over the repeats (SPEC 6.6), by hand with SQuAD's
+  // normalize_answer and f1_score: a "ten minutes" F1 1; b repeat 1 "blue car" vs "blue car"
+  // F1 1, repeat 0 "car" vs "blue car" P 1 R 1/2 F1 2/3, mean 5/6; c errored, F1 0.
+  CHECK(run["aggregates"]["metrics"]["token_f1"]["mean"] == Approx((1 + 5.0 / 6 + 0) / 3));
+  CHECK(run["aggregates"]["metrics"]["exact_match"]["mean"] == Approx((1 + 0.5 + 0) / 3));
+  CHECK(run["aggregates"]["unstable_cases"] == nlohmann::json::array({"b"}));
+  // Per case, each metric is first averaged over the repeats (SPEC 6.6), by hand with SQuAD's
+  // normalize_answer and f1_score: a "ten minutes" F1 1; b repeat 1 "blue car" vs "blue car"
+  // F1 1, repeat 0 "car" vs "blue car" P 1 R 1/2 F1 2/3, mean 5/6; c errored, F1 0.
+  CHECK(run["aggregates"]["metrics"]["token_f1"]["mean"] == Approx((1 + 5.0 / 6 + 0) / 3));
+  CHECK(run["aggregates"]["metrics"]["exact_match"]["mean"] == Approx((1 + 0.5 + 0) / 3));
+  CHECK(run["aggregates"]["unstable_cases"] == nlohmann::json::array({"b"}));
 
   // Then a file with a duplicate and a bad repeat: nothing is scored, the run above stays.
   WriteFile(dir + "/bad.jsonl",
