@@ -6,13 +6,11 @@ namespace plumb {
 
 std::string PipelineRequest::RequestLine(const std::string& id, const std::string& question,
                                          const nlohmann::json& input, int repeat) {
-  std::string line;
-  line.reserve(64 + id.size() + question.size());
-  JsonWriter w(&line);
+  JsonWriter w;
   // Keys in the order ToJson() would print them (sorted), so the wire form did not change.
   w.BeginObject().Member("id", id).Key("input").Value(input).Member("question", question);
   w.Member("repeat", repeat).EndObject();
-  return line;
+  return w.Take();
 }
 
 }  // namespace plumb

@@ -28,9 +28,7 @@ nlohmann::json RecordedBody(const std::string& body, nlohmann::json* parsed) {
 }
 
 std::string CaseRecordLine(const CaseRecord& r) {
-  std::string line;
-  line.reserve(512);
-  JsonWriter w(&line);
+  JsonWriter w;
   w.BeginObject().Member("id", r.id).Member("repeat", r.repeat).Key("request").Raw(r.request);
   w.Key("response").Value(r.response);
   w.Member("latency_ms", r.latency_ms).Member("attempts", r.attempts);
@@ -69,7 +67,7 @@ std::string CaseRecordLine(const CaseRecord& r) {
   w.EndObject().Member("pass", r.scores.pass).Member("abstained_scored", r.scores.abstained);
   if (!r.scores.warnings.empty()) w.Member("warnings", r.scores.warnings);
   w.EndObject();
-  return line;
+  return w.Take();
 }
 
 bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* error) {

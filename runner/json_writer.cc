@@ -1,5 +1,6 @@
 #include "runner/json_writer.h"
 
+#include <algorithm>
 #include <cassert>
 #include <charconv>
 #include <cmath>
@@ -44,14 +45,28 @@ size_t PlainRun(std::string_view text, size_t from) {
 
 }  // namespace
 
-void AppendJsonString(std::string_view text, std::string* out) {
-  out->push_back('"');
+void JsonWriter::Grow(size_t n) {
+  buffer_.resize(std::max({size_ + n, 2 * buffer_.size(), size_t{256}}));
+}
+
+std::string JsonWriter::Take() {
+  buffer_.resize(size_);
+  std::string text = std::move(buffer_);
+  buffer_.clear();
+  size_ = 0;
+  levels_.clear();
+  after_key_ = false;
+  return text;
+}
+
+void JsonWriter::PutString(std::string_view text) {
+  PutChar('"');
   size_t i = 0;
   const size_t n = text.size();
   while (i < n) {
     // Copy the longest run that needs no escaping in one go.
     const size_t run = PlainRun(text, i);
-    out->append(text.data() + i, run);
+    Put(text.data() + i, run);
     i += run;
     if (i >= n) break;
     const unsigned char c = static_cast<unsigned char>(text[i]);
@@ -59,60 +74,75 @@ void AppendJsonString(std::string_view text, std::string* out) {
       size_t next = i;
       const char32_t cp = metrics::NextCodePoint(text, &next);
       if (cp == metrics::kReplacementCharacter && text.substr(i, next - i) != "\xEF\xBF\xBD") {
-        out->append("\xEF\xBF\xBD");  // an ill-formed sequence
+        Put("\xEF\xBF\xBD");  // an ill-formed sequence
       } else {
-        out->append(text.data() + i, next - i);
+        Put(text.data() + i, next - i);
       }
       i = next;
       continue;
     }
     switch (c) {
       case '"':
-        out->append("\\\"");
+        Put("\\\"");
         break;
       case '\\':
-        out->append("\\\\");
+        Put("\\\\");
         break;
       case '\b':
-        out->append("\\b");
+        Put("\\b");
         break;
       case '\f':
-        out->append("\\f");
+        Put("\\f");
         break;
       case '\n':
-        out->append("\\n");
+        Put("\\n");
         break;
       case '\r':
-        out->append("\\r");
+        Put("\\r");
         break;
       case '\t':
-        out->append("\\t");
+        Put("\\t");
         break;
       default: {
         const char escaped[] = {'\\', 'u', '0', '0', kHex[c >> 4], kHex[c & 15]};
-        out->append(escaped, sizeof escaped);
+        Put(escaped, sizeof escaped);
       }
     }
     ++i;
   }
-  out->push_back('"');
+  PutChar('"');
+}
+
+void JsonWriter::PutDouble(double value) {
+  if (!std::isfinite(value)) {
+    Put("null");
+    return;
+  }
+  char* at = Room(32);
+  const std::to_chars_result result = std::to_chars(at, at + 32, value);
+  const std::string_view digits(at, static_cast<size_t>(result.ptr - at));
+  size_ += digits.size();
+  if (digits.find_first_of(".e") == std::string_view::npos) Put(".0");
+}
+
+void AppendJsonString(std::string_view text, std::string* out) {
+  JsonWriter w;
+  w.String(text);
+  out->append(w.Take());
 }
 
 void AppendJsonDouble(double value, std::string* out) {
-  if (!std::isfinite(value)) {
-    out->append("null");
-    return;
-  }
-  char buffer[32];
-  const std::to_chars_result result = std::to_chars(buffer, buffer + sizeof buffer, value);
-  const std::string_view digits(buffer, static_cast<size_t>(result.ptr - buffer));
-  out->append(digits);
-  if (digits.find_first_of(".e") == std::string_view::npos) out->append(".0");
+  JsonWriter w;
+  w.Double(value);
+  out->append(w.Take());
 }
 
 void JsonWriter::NewLine(size_t depth) {
-  out_->push_back('\n');
-  out_->append(depth * static_cast<size_t>(indent_), ' ');
+  const size_t spaces = depth * static_cast<size_t>(indent_);
+  char* at = Room(1 + spaces);
+  at[0] = '\n';
+  std::memset(at + 1, ' ', spaces);
+  size_ += 1 + spaces;
 }
 
 void JsonWriter::BeforeItem() {
@@ -122,21 +152,21 @@ void JsonWriter::BeforeItem() {
   }
   if (levels_.empty()) return;
   Level& level = levels_.back();
-  if (!level.empty) out_->push_back(',');
+  if (!level.empty) PutChar(',');
   level.empty = false;
   if (indent_ >= 0) NewLine(levels_.size());
 }
 
 JsonWriter& JsonWriter::BeginObject() {
   BeforeItem();
-  out_->push_back('{');
+  PutChar('{');
   levels_.push_back({});
   return *this;
 }
 
 JsonWriter& JsonWriter::BeginArray() {
   BeforeItem();
-  out_->push_back('[');
+  PutChar('[');
   levels_.push_back({});
   return *this;
 }
@@ -146,7 +176,7 @@ JsonWriter& JsonWriter::Close(char bracket) {
   const bool empty = levels_.back().empty;
   levels_.pop_back();
   if (!empty && indent_ >= 0) NewLine(levels_.size());
-  out_->push_back(bracket);
+  PutChar(bracket);
   return *this;
 }
 
@@ -156,47 +186,50 @@ JsonWriter& JsonWriter::EndArray() { return Close(']'); }
 JsonWriter& JsonWriter::Key(std::string_view key) {
   assert(!levels_.empty() && !after_key_);
   BeforeItem();
-  AppendJsonString(key, out_);
-  out_->append(indent_ >= 0 ? ": " : ":");
+  PutString(key);
+  if (indent_ >= 0) {
+    Put(": ", 2);
+  } else {
+    PutChar(':');
+  }
   after_key_ = true;
   return *this;
 }
 
 JsonWriter& JsonWriter::String(std::string_view text) {
   BeforeItem();
-  AppendJsonString(text, out_);
+  PutString(text);
   return *this;
 }
 
 JsonWriter& JsonWriter::Int(int64_t value) {
   BeforeItem();
-  char buffer[24];
-  const std::to_chars_result result = std::to_chars(buffer, buffer + sizeof buffer, value);
-  out_->append(buffer, static_cast<size_t>(result.ptr - buffer));
+  char* at = Room(24);
+  size_ += static_cast<size_t>(std::to_chars(at, at + 24, value).ptr - at);
   return *this;
 }
 
 JsonWriter& JsonWriter::Double(double value) {
   BeforeItem();
-  AppendJsonDouble(value, out_);
+  PutDouble(value);
   return *this;
 }
 
 JsonWriter& JsonWriter::Bool(bool value) {
   BeforeItem();
-  out_->append(value ? "true" : "false");
+  Put(value ? std::string_view("true") : std::string_view("false"));
   return *this;
 }
 
 JsonWriter& JsonWriter::Null() {
   BeforeItem();
-  out_->append("null");
+  Put("null");
   return *this;
 }
 
 JsonWriter& JsonWriter::Raw(std::string_view json) {
   BeforeItem();
-  out_->append(json);
+  Put(json);
   return *this;
 }
 
@@ -227,8 +260,8 @@ JsonWriter& JsonWriter::Value(const nlohmann::json& value) {
       return Int(value.get<int64_t>());
     case nlohmann::json::value_t::number_unsigned: {
       BeforeItem();
-      const std::string text = std::to_string(value.get<uint64_t>());
-      out_->append(text);
+      char* at = Room(24);
+      size_ += static_cast<size_t>(std::to_chars(at, at + 24, value.get<uint64_t>()).ptr - at);
       return *this;
     }
     case nlohmann::json::value_t::number_float:

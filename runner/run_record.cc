@@ -28,9 +28,7 @@ std::string BuildRunRecord(const RunContext& ctx, const RunAggregates& aggregate
                            const std::vector<ThresholdOutcome>& thresholds,
                            const RunVerdict& verdict) {
   const Suite& suite = *ctx.suite;
-  std::string text;
-  text.reserve(1024 + 512 * ctx.selected.size());
-  JsonWriter w(&text, 2);
+  JsonWriter w(2);
   w.BeginObject().Member("plumb_run", 1);
   w.Key("tool").BeginObject().Member("name", "plumb").Member("version", PLUMB_VERSION).EndObject();
   w.Key("suite")
@@ -106,8 +104,7 @@ std::string BuildRunRecord(const RunContext& ctx, const RunAggregates& aggregate
       .Member("reason", verdict.reason)
       .EndObject();
   w.EndObject();
-  text.push_back('\n');
-  return text;
+  return w.Take() + "\n";
 }
 
 bool WriteFileAtomically(const std::string& path, const std::string& contents, std::string* error) {

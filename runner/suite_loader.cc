@@ -729,8 +729,7 @@ class SuiteLoader {
   /// SHA-256 of "plumb-gold-v1\n" + the case's gold as compact JSON with keys in sorted order
   /// (the layout nlohmann's dump() gives; doubles in its spelling, so hashes stay stable).
   static std::string GoldHash(const Case& gold) {
-    std::string canonical = "plumb-gold-v1\n";
-    JsonWriter w(&canonical);
+    JsonWriter w;
     w.BeginObject().Member("answers", gold.answers).Key("number");
     if (gold.number) {
       w.BeginObject()
@@ -754,7 +753,7 @@ class SuiteLoader {
           .EndObject();
     }
     w.EndArray().Member("tags", gold.tags).EndObject();
-    return Sha256Hex(canonical);
+    return Sha256Hex("plumb-gold-v1\n" + w.Take());
   }
 
   void Finish() {

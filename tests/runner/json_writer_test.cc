@@ -55,9 +55,9 @@ nlohmann::json RandomTree(std::mt19937_64* rng, int depth) {
 }
 
 std::string Written(const nlohmann::json& value, int indent) {
-  std::string out;
-  JsonWriter(&out, indent).Value(value);
-  return out;
+  JsonWriter w(indent);
+  w.Value(value);
+  return w.Take();
 }
 
 TEST_CASE("json writer lays out and escapes exactly as nlohmann dump does", "[json_writer]") {
@@ -79,12 +79,11 @@ TEST_CASE("json writer lays out and escapes exactly as nlohmann dump does", "[js
 }
 
 TEST_CASE("json writer members keep the order they were written in", "[json_writer]") {
-  std::string out;
-  JsonWriter w(&out, 2);
+  JsonWriter w(2);
   w.BeginObject().Member("z", 1).Member("a", "x").Key("list").BeginArray().EndArray();
   w.Key("empty").BeginObject().EndObject().Member("tags", std::vector<std::string>{"t1", "t2"});
   w.EndObject();
-  CHECK(out ==
+  CHECK(w.Take() ==
         "{\n  \"z\": 1,\n  \"a\": \"x\",\n  \"list\": [],\n  \"empty\": {},\n  \"tags\": [\n"
         "    \"t1\",\n    \"t2\"\n  ]\n}");
 }
@@ -129,6 +128,25 @@ TEST_CASE("json writer prints doubles in the shortest form that reads back exact
     REQUIRE(back.is_number_float());
     REQUIRE(back.get<double>() == v);
   }
+}
+
+}  // namespace
+}  // namespace plumb
+
+namespace plumb {
+namespace {
+
+TEST_CASE("json writer grows its buffer across many pieces and starts again after take",
+          "[json_writer]") {
+  nlohmann::json big = nlohmann::json::array();
+  for (int i = 0; i < 20000; ++i) big.push_back({{"id", "c" + std::to_string(i)}, {"n", i}});
+  JsonWriter w(2);
+  w.Value(big);
+  const std::string text = w.Take();
+  CHECK(text.size() > 800000);
+  CHECK(text == big.dump(2));
+  w.BeginArray().Int(1).EndArray();
+  CHECK(w.Take() == "[\n  1\n]");
 }
 
 }  // namespace
