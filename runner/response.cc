@@ -5,12 +5,19 @@
 namespace plumb {
 namespace {
 
+/// True for "/name" with no further '/' and no '~' escape.
+bool IsOneMemberName(const std::string& pointer) {
+  for (size_t i = 1; i < pointer.size(); ++i) {
+    if (pointer[i] == '/' || pointer[i] == '~') return false;
+  }
+  return true;
+}
+
 const nlohmann::json* Resolve(const nlohmann::json& body, const std::string& pointer) {
   if (pointer.empty()) return &body;
   // The usual map entry is one member name without escapes ("/answer"): look it up directly
   // instead of parsing the pointer, which is most of the cost of reading a small reply.
-  if (body.is_object() && pointer[0] == '/' &&
-      pointer.find_first_of("/~", 1) == std::string::npos) {
+  if (body.is_object() && pointer[0] == '/' && IsOneMemberName(pointer)) {
     auto it = body.find(std::string_view(pointer).substr(1));
     return it == body.end() ? nullptr : &*it;
   }
