@@ -7,6 +7,7 @@
 
 #include "metrics/binomial_sampler.h"
 #include "metrics/percentile.h"
+#include "metrics/resample_sum.h"
 #include "metrics/seeded_random.h"
 
 namespace plumb::metrics {
@@ -167,17 +168,7 @@ Interval GroupedBootstrapMean(const std::vector<double>& values, int resamples, 
     if (tail_size == 0) {
       sum += static_cast<double>(left) * last_value;
     } else {
-      // As in PercentileBootstrapMean: four partial sums in a fixed order.
-      double s0 = 0, s1 = 0, s2 = 0, s3 = 0;
-      uint64_t i = 0;
-      for (; i + 4 <= left; i += 4) {
-        s0 += tail[random.UniformIndex(tail_size)];
-        s1 += tail[random.UniformIndex(tail_size)];
-        s2 += tail[random.UniformIndex(tail_size)];
-        s3 += tail[random.UniformIndex(tail_size)];
-      }
-      for (; i < left; ++i) s0 += tail[random.UniformIndex(tail_size)];
-      sum += (s0 + s1) + (s2 + s3);
+      sum += SumOfUniformDraws(tail, tail_size, left, random);
     }
     resample_mean = sum / static_cast<double>(n);
   }

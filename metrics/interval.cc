@@ -6,6 +6,7 @@
 #include <limits>
 
 #include "metrics/percentile.h"
+#include "metrics/resample_sum.h"
 #include "metrics/seeded_random.h"
 
 namespace plumb::metrics {
@@ -92,19 +93,7 @@ Interval PercentileBootstrapMean(const std::vector<double>& values, int resample
   const double* data = values.data();
   std::vector<double> means(static_cast<size_t>(resamples));
   for (double& resample_mean : means) {
-    // Four partial sums let the additions of consecutive draws overlap; the order is fixed, so
-    // the result is still deterministic. This loop is the whole cost of the drift bootstrap
-    // (n * B draws), see tests/bench/drift_stats_bench.cc.
-    double s0 = 0, s1 = 0, s2 = 0, s3 = 0;
-    size_t i = 0;
-    for (; i + 4 <= n; i += 4) {
-      s0 += data[random.UniformIndex(n)];
-      s1 += data[random.UniformIndex(n)];
-      s2 += data[random.UniformIndex(n)];
-      s3 += data[random.UniformIndex(n)];
-    }
-    for (; i < n; ++i) s0 += data[random.UniformIndex(n)];
-    resample_mean = ((s0 + s1) + (s2 + s3)) / static_cast<double>(n);
+    resample_mean = SumOfUniformDraws(data, n, n, random) / static_cast<double>(n);
   }
   std::sort(means.begin(), means.end());
   const double tail = (1 - confidence) / 2;
