@@ -60,6 +60,15 @@ std::string JsonWriter::Take() {
 }
 
 void JsonWriter::PutString(std::string_view text) {
+  // Most strings are short and plain (keys, ids, metric names): one check, one copy.
+  if (PlainRun(text, 0) == text.size()) {
+    char* at = Room(text.size() + 2);
+    at[0] = '"';
+    std::memcpy(at + 1, text.data(), text.size());
+    at[text.size() + 1] = '"';
+    size_ += text.size() + 2;
+    return;
+  }
   PutChar('"');
   size_t i = 0;
   const size_t n = text.size();
