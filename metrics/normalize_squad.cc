@@ -10,6 +10,8 @@
 // white_space_fix ' '.join(text.split()) with CPython's whitespace set.
 // Property tables come from ICU; CPython 3.11 ships Unicode 14 and ICU 72 Unicode 15, so the two
 // may differ on characters first assigned in Unicode 15 (the differential test excludes them).
+// Text whose bytes are all below 0x80 takes a one-pass, table-driven path (TokenizeAscii) with
+// the same result and no allocation; any other text is decoded to code points first.
 
 #include <unicode/uchar.h>
 
@@ -25,15 +27,17 @@ namespace plumb::metrics {
 namespace {
 
 // string.punctuation: !"#$%&'()*+,-./:;<=>?@[\]^_`{|}~
-bool IsAsciiPunctuation(char32_t c) {
+constexpr bool IsAsciiPunctuation(char32_t c) {
   return (c >= 0x21 && c <= 0x2F) || (c >= 0x3A && c <= 0x40) || (c >= 0x5B && c <= 0x60) ||
          (c >= 0x7B && c <= 0x7E);
 }
 
 // CPython's _Py_ascii_whitespace: \t \n \v \f \r, the four information separators, space.
-bool IsAsciiSpace(char32_t c) { return (c >= 0x09 && c <= 0x0D) || (c >= 0x1C && c <= 0x20); }
+constexpr bool IsAsciiSpace(char32_t c) {
+  return (c >= 0x09 && c <= 0x0D) || (c >= 0x1C && c <= 0x20);
+}
 
-bool IsAsciiWord(char32_t c) {
+constexpr bool IsAsciiWord(char32_t c) {
   return (c >= '0' && c <= '9') || (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || c == '_';
 }
 
@@ -121,62 +125,108 @@ class SquadTokenizer {
   bool in_word_ = false;
 };
 
-bool IsAscii(std::string_view text) {
-  for (char ch : text) {
-    if (static_cast<unsigned char>(ch) >= 0x80) return false;
+// What each byte is to the four steps, in one table: a \w character maps to its lowercase form
+// (all >= '0'; '_' is punctuation and already gone), anything else to a code below '0':
+// deleted by remove_punc, whitespace for split(), kept but neither \w nor whitespace (the
+// control characters 0x00..0x08, 0x0E..0x1B and 0x7F), or not ASCII at all.
+enum : unsigned char { kPunctuation, kSpace, kOther, kNotAscii, kFirstWordByte = '0' };
+
+struct AsciiTable {
+  unsigned char code[256];
+};
+
+constexpr AsciiTable MakeAsciiTable() {
+  AsciiTable table{};
+  for (int c = 0; c < 256; ++c) {
+    const char32_t cp = static_cast<char32_t>(c);
+    unsigned char code = kNotAscii;
+    if (c >= 0x80) {
+    } else if (IsAsciiPunctuation(cp)) {
+      code = kPunctuation;
+    } else if (IsAsciiSpace(cp)) {
+      code = kSpace;
+    } else if (IsAsciiWord(cp)) {
+      code = static_cast<unsigned char>(c >= 'A' && c <= 'Z' ? c + ('a' - 'A') : c);
+    } else {
+      code = kOther;
+    }
+    table.code[c] = code;
   }
+  return table;
+}
+
+constexpr AsciiTable kAscii = MakeAsciiTable();
+
+bool IsArticle(const char* word, size_t size) {
+  switch (size) {
+    case 1:
+      return word[0] == 'a';
+    case 2:
+      return word[0] == 'a' && word[1] == 'n';
+    case 3:
+      return word[0] == 't' && word[1] == 'h' && word[2] == 'e';
+    default:
+      return false;
+  }
+}
+
+// The four steps in one pass over all-ASCII text, where lowering is byte to byte: punctuation
+// is skipped (so it glues its neighbours before articles are looked for), letters are lowered,
+// a finished \w run equal to an article is cut out of its token as the regex's ' ' would, and
+// whitespace ends the token. Returns false, with `out` unspecified, at the first byte >= 0x80:
+// the whole text then takes the general path, since a non-ASCII neighbour can change what is a
+// word boundary or whitespace.
+bool TokenizeAscii(std::string_view text, TokenViews* out) {
+  // Output is never longer than the input, and tokens are separated by at least one byte.
+  char* chars = nullptr;
+  TokenViews::Span* spans = nullptr;
+  out->Reset(text.size(), text.size() / 2 + 1, &chars, &spans);
+  size_t count = 0;  // tokens appended
+  size_t n = 0;      // bytes written
+  size_t token = 0;  // where the current token starts in chars
+  auto end_token = [&](size_t end) {
+    if (end > token) spans[count++] = TokenViews::Span{token, end - token};
+  };
+  const unsigned char* p = reinterpret_cast<const unsigned char*>(text.data());
+  const unsigned char* const end = p + text.size();
+  while (p < end) {
+    unsigned char code = kAscii.code[*p];
+    if (code >= kFirstWordByte) {
+      // A \w run; punctuation inside it is deleted, so "t.he" is the article "the".
+      const size_t word = n;
+      do {
+        if (code != kPunctuation) chars[n++] = static_cast<char>(code);
+        if (++p == end) break;
+        code = kAscii.code[*p];
+      } while (code >= kFirstWordByte || code == kPunctuation);
+      if (IsArticle(chars + word, n - word)) {
+        end_token(word);
+        n = word;
+        token = n;
+      }
+      continue;
+    }
+    switch (code) {
+      case kPunctuation:
+        break;
+      case kSpace:
+        end_token(n);
+        token = n;
+        break;
+      case kOther:
+        chars[n++] = static_cast<char>(*p);
+        break;
+      default:  // kNotAscii
+        return false;
+    }
+    ++p;
+  }
+  end_token(n);
+  out->SetSize(count);
   return true;
 }
 
-// The same steps for all-ASCII text, where lowering is byte to byte: one pass lowers and drops
-// punctuation, a second splits on whitespace and cuts articles out of each piece.
-std::vector<std::string> NormalizeAscii(std::string_view text) {
-  // Answers are short; a stack buffer spares the allocation for the common case.
-  char stack_buffer[256];
-  std::string heap_buffer;
-  char* buffer = stack_buffer;
-  if (text.size() > sizeof stack_buffer) {
-    heap_buffer.resize(text.size());
-    buffer = heap_buffer.data();
-  }
-  size_t n = 0;
-  for (char ch : text) {
-    char c = ch;
-    if (c >= 'A' && c <= 'Z') c = static_cast<char>(c + ('a' - 'A'));
-    if (IsAsciiPunctuation(static_cast<unsigned char>(c))) continue;
-    buffer[n++] = c;
-  }
-  const std::string_view s(buffer, n);
-  std::vector<std::string> tokens;
-  tokens.reserve(n / 4 + 1);
-  auto emit = [&tokens, s](size_t begin, size_t end) {
-    if (begin < end) tokens.emplace_back(s.substr(begin, end - begin));
-  };
-  size_t i = 0;
-  while (i < n) {
-    while (i < n && IsAsciiSpace(static_cast<unsigned char>(s[i]))) ++i;
-    size_t piece = i;
-    while (i < n && !IsAsciiSpace(static_cast<unsigned char>(s[i]))) {
-      if (!IsAsciiWord(static_cast<unsigned char>(s[i]))) {
-        ++i;
-        continue;
-      }
-      const size_t word = i;
-      while (i < n && IsAsciiWord(static_cast<unsigned char>(s[i]))) ++i;
-      if (IsArticle(s.substr(word, i - word))) {
-        emit(piece, word);
-        piece = i;
-      }
-    }
-    emit(piece, i);
-  }
-  return tokens;
-}
-
-}  // namespace
-
-std::vector<std::string> NormalizeSquadTokens(std::string_view text) {
-  if (IsAscii(text)) return NormalizeAscii(text);
+std::vector<std::string> NormalizeGeneral(std::string_view text) {
   const std::u32string s = DecodeUtf8(text);
   SquadTokenizer tokenizer;
   auto feed = [&tokenizer](char32_t c) {
@@ -197,11 +247,28 @@ std::vector<std::string> NormalizeSquadTokens(std::string_view text) {
   return tokenizer.Finish();
 }
 
+}  // namespace
+
+std::vector<std::string> NormalizeSquadTokens(std::string_view text) {
+  TokenViews views;
+  if (!TokenizeAscii(text, &views)) return NormalizeGeneral(text);
+  std::vector<std::string> tokens;
+  tokens.reserve(views.size());
+  for (size_t i = 0; i < views.size(); ++i) tokens.emplace_back(views[i]);
+  return tokens;
+}
+
+void NormalizeSquadTokens(std::string_view text, TokenViews* out) {
+  if (!TokenizeAscii(text, out)) out->Assign(NormalizeGeneral(text));
+}
+
 std::string NormalizeSquad(std::string_view text) {
+  TokenViews tokens;
+  NormalizeSquadTokens(text, &tokens);
   std::string out;
-  for (const std::string& token : NormalizeSquadTokens(text)) {
-    if (!out.empty()) out.push_back(' ');
-    out += token;
+  for (size_t i = 0; i < tokens.size(); ++i) {
+    if (i > 0) out.push_back(' ');
+    out += tokens[i];
   }
   return out;
 }

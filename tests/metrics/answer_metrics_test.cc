@@ -99,3 +99,25 @@ TEST_CASE("Gold answers that normalize to nothing are dropped, as get_raw_scores
   CHECK(Squad(std::nullopt, {"!!!"}).token_f1 == 1);
   CHECK(Squad(std::string("cat"), {"!!!"}).token_f1 == 0);
 }
+
+TEST_CASE("ScoreAnswer on pure-ASCII answers matches TokenF1 on the token lists",
+          "[answer_metrics]") {
+  // compute_f1 of evaluate-v2.0.py by hand: pred "ferry closes ten" vs gold "ferry boarding
+  // closes ten minutes": num_same 3, precision 3/3, recall 3/5, F1 = 2 * 1 * 0.6 / 1.6, which
+  // in doubles is 0.7499999999999999 (/usr/bin/python3: p=1.0*3/3; r=1.0*3/5; (2*p*r)/(p+r)).
+  const NormalizedGold gold = NormalizeGold({"The ferry boarding closes ten minutes.", "ten"},
+                                            NormalizationProfile::kSquad, "en");
+  const auto scores =
+      ScoreAnswer(std::string("Ferry closes TEN"), gold, NormalizationProfile::kSquad, "en");
+  CHECK(scores.exact_match == 0);
+  CHECK(scores.token_f1 ==
+        TokenF1({"ferry", "closes", "ten"}, {"ferry", "boarding", "closes", "ten", "minutes"}));
+  CHECK(scores.token_f1 == 0.7499999999999999);
+  // Counter intersection: the repeated "ten" counts once against the one gold "ten";
+  // precision 1/2, recall 1/1, F1 = 2 * 0.5 * 1 / 1.5.
+  const auto repeated =
+      ScoreAnswer(std::string("ten ten"), gold, NormalizationProfile::kSquad, "en");
+  CHECK(repeated.token_f1 == (2 * 0.5 * 1.0) / (0.5 + 1.0));
+  CHECK(ScoreAnswer(std::string("a TEN!"), gold, NormalizationProfile::kSquad, "en").exact_match ==
+        1);
+}

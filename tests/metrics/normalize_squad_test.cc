@@ -110,3 +110,34 @@ TEST_CASE("SQuAD normalization decodes invalid UTF-8 as errors='replace'", "[nor
   // An encoded surrogate ED A0 80 is three maximal invalid subparts: three U+FFFD.
   CHECK(NormalizeSquad("\xED\xA0\x80") == "\xEF\xBF\xBD\xEF\xBF\xBD\xEF\xBF\xBD");
 }
+
+TEST_CASE("SQuAD token views give the same tokens, inline and past 256 bytes",
+          "[normalize_squad]") {
+  using plumb::metrics::TokenViews;
+  auto as_vector = [](const TokenViews& views) {
+    Tokens out;
+    for (size_t i = 0; i < views.size(); ++i) out.emplace_back(views[i]);
+    return out;
+  };
+  TokenViews views;
+  // Worked by hand as above: remove_punc glues "the,a" into "thea" (not an article) and "t'he"
+  // into "the" (an article); "AN" lowers to the article "an".
+  NormalizeSquadTokens(
+      "the,a t'he AN\x1d"
+      "Cat",
+      &views);
+  CHECK(as_vector(views) == Tokens{"thea", "cat"});
+  // 100 copies of "ten a " (600 bytes): lower and remove_punc change nothing, every "a" is an
+  // article, split() leaves 100 tokens "ten"; more than the inline buffers hold.
+  std::string long_text;
+  for (int i = 0; i < 100; ++i) long_text += "ten a ";
+  NormalizeSquadTokens(long_text, &views);
+  CHECK(as_vector(views) == Tokens(100, "ten"));
+  CHECK(NormalizeSquadTokens(long_text) == Tokens(100, "ten"));
+  // Refilled with short text after the heap was used; a non-ASCII letter takes the general
+  // path: "É" lowers to "é", which is \w, so "aé" is one word and no article.
+  NormalizeSquadTokens("A\xc3\x89 the", &views);
+  CHECK(as_vector(views) == Tokens{"a\xc3\xa9"});
+  NormalizeSquadTokens("", &views);
+  CHECK(views.empty());
+}

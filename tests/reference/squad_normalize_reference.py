@@ -174,6 +174,65 @@ def random_text(rng, assigned):
     return out
 
 
+# Pure-ASCII input takes plumb's one-pass path; these pieces aim at its edges: articles in any
+# case at the string's edges and glued by punctuation ("the,a" is "thea", "a.n" the article
+# "an"), every ASCII whitespace character (U+001C..U+001F included), the control characters that
+# are neither \w nor whitespace, digits, apostrophes, and answers longer than 256 bytes.
+ASCII_ARTICLES = ['a', 'an', 'the', 'A', 'AN', 'An', 'aN', 'The', 'THE', 'tHe', 'thE']
+ASCII_EDGE_WORDS = ['cat', 'theater', 'anna', 'then', 'ant', 'x', 'I', '1', '42', 'a1', '1a',
+                    'the1', '0the', "don't", "o'clock", 'ABC', 'Zz', 'ferry', 'boarding', 'ten',
+                    'thy', 'tha', 'THO', 'he', 'th', 'as', 'Am', 'n', 'e', 'aa', 'ann', 'thee']
+ASCII_GLUE = [',', '.', "'", '-', '_', ':', '!', '"', '(', ')', '/', '@', '`', '~', '\\', '^']
+ASCII_ALL_SPACE = ['\t', '\n', '\v', '\f', '\r', '\x1c', '\x1d', '\x1e', '\x1f', ' ']
+ASCII_ALL_CONTROL = [chr(c) for c in list(range(0x00, 0x09)) + list(range(0x0e, 0x1c)) + [0x7f]]
+
+
+def random_ascii_text(rng):
+    """A pure-ASCII string weighted toward the one-pass path's edge cases."""
+    def piece():
+        r = rng.random()
+        if r < 0.35:
+            return rng.choice(ASCII_ARTICLES)
+        if r < 0.65:
+            return rng.choice(ASCII_EDGE_WORDS)
+        if r < 0.75:  # an article glued to something by punctuation, e.g. "the,a" or "t'he"
+            art = rng.choice(ASCII_ARTICLES)
+            cut = rng.randint(0, len(art))
+            return art[:cut] + rng.choice(ASCII_GLUE) + art[cut:]
+        if r < 0.85:
+            return rng.choice(ASCII_GLUE) * rng.randint(1, 2)
+        if r < 0.92:
+            return rng.choice(ASCII_ALL_CONTROL)
+        return chr(rng.randint(0x00, 0x7f))
+
+    def separator():
+        r = rng.random()
+        if r < 0.45:
+            return ' '
+        if r < 0.65:
+            return ''.join(rng.choice(ASCII_ALL_SPACE) for _ in range(rng.randint(1, 3)))
+        if r < 0.8:
+            return rng.choice(ASCII_GLUE)
+        if r < 0.9:
+            return rng.choice(ASCII_ALL_CONTROL)
+        return ''
+
+    parts = []
+    if rng.random() < 0.3:
+        parts.append(rng.choice(ASCII_ARTICLES) + separator())
+    for i in range(rng.randint(0, 8)):
+        if i:
+            parts.append(separator())
+        parts.append(piece())
+    if rng.random() < 0.3:
+        parts.append(separator() + rng.choice(ASCII_ARTICLES))
+    text = ''.join(parts)
+    if rng.random() < 0.03:  # past the inline buffers: 256 bytes, 129 tokens
+        while len(text) < 300:
+            text += separator() + piece() + ' a'
+    return text.encode('ascii')
+
+
 def mutate(rng, text, assigned):
     """A related text, so pairs share tokens and F1 takes values strictly between 0 and 1."""
     words = text.split(b' ')
@@ -216,6 +275,10 @@ def main():
     parser.add_argument('--seed', type=int, help='replay a run (default: a fresh random seed)')
     parser.add_argument('--strings', type=int, default=6000, help='random strings (>= 5000)')
     parser.add_argument('--pairs', type=int, default=4000, help='random scored questions')
+    parser.add_argument('--ascii-strings', type=int, default=20000,
+                        help='random pure-ASCII strings aimed at the one-pass path')
+    parser.add_argument('--ascii-pairs', type=int, default=4000,
+                        help='random scored questions of pure-ASCII text')
     parser.add_argument('--no-probes', action='store_true',
                         help='skip the per-code-point probes of every assigned character')
     args = parser.parse_args()
@@ -226,6 +289,8 @@ def main():
 
     texts = [random_text(rng, assigned) for _ in range(args.strings)]
     texts += [b'', b' ', b'The Cat!', b'\xc4\xb0', 'ΟΔΟΣ'.encode(), b'a an the', b'...']
+    ascii_texts = [random_ascii_text(rng) for _ in range(args.ascii_strings)]
+    texts += ascii_texts
     if not args.no_probes:
         for cp in range(0x80):
             texts += [p.encode('utf-8') for p in probes(cp)]
@@ -242,6 +307,22 @@ def main():
             pred = mutate(rng, rng.choice(golds), assigned)
         else:
             pred = random_text(rng, assigned)
+        questions.append((pred, golds))
+
+    for _ in range(args.ascii_pairs):
+        golds = [random_ascii_text(rng) for _ in range(rng.choice([0, 1, 1, 2, 3]))]
+        shape = rng.random()
+        if shape < 0.05:
+            pred = None
+        elif shape < 0.5 and golds:
+            pred = rng.choice(golds)
+            words = pred.split(b' ')
+            rng.shuffle(words)
+            pred = b' '.join(words[: rng.randint(1, len(words))])
+        elif shape < 0.6 and golds:
+            pred = rng.choice(golds).upper()
+        else:
+            pred = random_ascii_text(rng)
         questions.append((pred, golds))
 
     lines = ['N ' + hexfield(t) for t in texts]
@@ -279,9 +360,10 @@ def main():
 
     f1_strictly_between = sum(1 for (p, g), got in zip(questions, answers[len(texts):])
                               if 0 < float(got.split(' ')[1]) < 1)
-    print('squad_normalize_reference: %d normalize_answer inputs (%d random strings), '
-          '%d scored questions (%d with 0 < F1 < 1)'
-          % (len(texts), args.strings, len(questions), f1_strictly_between))
+    print('squad_normalize_reference: %d normalize_answer inputs (%d random strings, %d of them '
+          'pure ASCII, %d longer than 256 bytes), %d scored questions (%d with 0 < F1 < 1)'
+          % (len(texts), args.strings + len(ascii_texts), len(ascii_texts),
+             sum(1 for t in ascii_texts if len(t) > 256), len(questions), f1_strictly_between))
     if mismatches:
         print('squad_normalize_reference: %d mismatches; first ones:' % len(mismatches))
         for m in mismatches[:15]:
