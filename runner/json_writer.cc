@@ -134,18 +134,6 @@ void JsonWriter::PutDouble(double value) {
   if (digits.find_first_of(".e") == std::string_view::npos) Put(".0");
 }
 
-void AppendJsonString(std::string_view text, std::string* out) {
-  JsonWriter w;
-  w.String(text);
-  out->append(w.Take());
-}
-
-void AppendJsonDouble(double value, std::string* out) {
-  JsonWriter w;
-  w.Double(value);
-  out->append(w.Take());
-}
-
 void JsonWriter::NewLine(size_t depth) {
   const size_t spaces = depth * static_cast<size_t>(indent_);
   char* at = Room(1 + spaces);

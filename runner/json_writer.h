@@ -101,13 +101,6 @@ class JsonWriter {
   bool after_key_ = false;
 };
 
-/// `text` as a JSON string literal (quotes included), escaped as JsonWriter::String does.
-void AppendJsonString(std::string_view text, std::string* out);
-
-/// The shortest decimal form of a finite double that reads back to the same value, with ".0"
-/// added when it would otherwise read back as an integer; "null" for NaN and infinities.
-void AppendJsonDouble(double value, std::string* out);
-
 }  // namespace plumb
 
 #endif  // PLUMB_RUNNER_JSON_WRITER_H_

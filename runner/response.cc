@@ -196,12 +196,4 @@ bool ParseResponseJson(const nlohmann::json& body, const ResponseMap& map, Respo
   return true;
 }
 
-nlohmann::json SourceRefToJson(const SourceRef& ref) {
-  nlohmann::json out = {{"doc", ref.doc}};
-  if (ref.start) out["start"] = *ref.start;
-  if (ref.end) out["end"] = *ref.end;
-  if (ref.quote) out["quote"] = *ref.quote;
-  return out;
-}
-
 }  // namespace plumb

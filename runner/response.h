@@ -62,8 +62,6 @@ bool ParseResponse(std::string_view body, const ResponseMap& map, Response* out,
 bool ParseResponseJson(const nlohmann::json& body, const ResponseMap& map, Response* out,
                        std::string* error);
 
-nlohmann::json SourceRefToJson(const SourceRef& ref);
-
 }  // namespace plumb
 
 #endif  // PLUMB_RUNNER_RESPONSE_H_

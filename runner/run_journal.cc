@@ -34,10 +34,6 @@ RunJournal::~RunJournal() {
   ::close(fd_);
 }
 
-bool RunJournal::Append(const nlohmann::json& record, std::string* error) {
-  return AppendLine(record.dump(-1, ' ', false, nlohmann::json::error_handler_t::replace), error);
-}
-
 bool RunJournal::AppendLine(std::string line, std::string* error) {
   line.push_back('\n');
   std::lock_guard<std::mutex> lock(mutex_);

@@ -31,9 +31,8 @@ class RunJournal {
   RunJournal(const RunJournal&) = delete;
   RunJournal& operator=(const RunJournal&) = delete;
 
-  /// Appends `record` as one line. Thread-safe. Invalid UTF-8 in strings is replaced by U+FFFD.
-  bool Append(const nlohmann::json& record, std::string* error);
-  /// Appends `line` (one JSON value, no newline in it) and a newline, in one write. Thread-safe.
+  /// Appends `line` (one JSON value, no newline in it) and a newline: in one write, or into the
+  /// buffer of a buffered journal. Thread-safe.
   bool AppendLine(std::string line, std::string* error);
   /// Writes what a buffered journal holds. Thread-safe; a no-op without a buffer.
   bool Flush(std::string* error);

@@ -54,6 +54,12 @@ nlohmann::json RandomTree(std::mt19937_64* rng, int depth) {
   }
 }
 
+std::string StringText(std::string_view text) {
+  JsonWriter w;
+  w.String(text);
+  return w.Take();
+}
+
 std::string Written(const nlohmann::json& value, int indent) {
   JsonWriter w(indent);
   w.Value(value);
@@ -92,11 +98,9 @@ TEST_CASE("json writer replaces ill-formed utf-8 with one U+FFFD per maximal sub
           "[json_writer]") {
   // Unicode 15 §3.9, Table 3-8: "\xF1\x80\x80" is one maximal subpart, "\xE1\x80" another,
   // "\xC2" and "\x80" one each.
-  std::string out;
-  AppendJsonString("a\xF1\x80\x80\xE1\x80\xC2\x80z\xEF\xBF\xBD", &out);
+  std::string out = StringText("a\xF1\x80\x80\xE1\x80\xC2\x80z\xEF\xBF\xBD");
   CHECK(out == "\"a\xEF\xBF\xBD\xEF\xBF\xBD\xC2\x80z\xEF\xBF\xBD\"");
-  out.clear();
-  AppendJsonString("\xED\xA0\x80", &out);  // an encoded surrogate: three subparts
+  out = StringText("\xED\xA0\x80");  // an encoded surrogate: three subparts
   CHECK(out == "\"\xEF\xBF\xBD\xEF\xBF\xBD\xEF\xBF\xBD\"");
   CHECK(nlohmann::json::accept(out));
 }
@@ -104,9 +108,9 @@ TEST_CASE("json writer replaces ill-formed utf-8 with one U+FFFD per maximal sub
 TEST_CASE("json writer prints doubles in the shortest form that reads back exactly",
           "[json_writer]") {
   auto text = [](double v) {
-    std::string out;
-    AppendJsonDouble(v, &out);
-    return out;
+    JsonWriter w;
+    w.Double(v);
+    return w.Take();
   };
   // Shortest round-trip digits (the C++17 to_chars guarantee, [charconv.to.chars]).
   CHECK(text(0.1) == "0.1");
