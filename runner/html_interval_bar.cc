@@ -3,6 +3,8 @@
 #include <algorithm>
 #include <cstdio>
 
+#include "runner/html_report_parts.h"
+
 namespace plumb {
 namespace {
 
@@ -12,12 +14,6 @@ constexpr double kHeight = 14;
 std::string Num(double v) {
   char buffer[32];
   std::snprintf(buffer, sizeof buffer, "%.1f", v);
-  return buffer;
-}
-
-std::string Fixed(double v) {
-  char buffer[32];
-  std::snprintf(buffer, sizeof buffer, "%.3f", v);
   return buffer;
 }
 
@@ -51,15 +47,16 @@ void AppendBar(std::string* out, double mean, double low, double high, double fr
 
 void AppendUnitIntervalBar(std::string* out, double mean, double low, double high,
                            std::optional<double> floor) {
-  std::string title = "mean " + Fixed(mean) + ", 95% interval " + Fixed(low) + " to " + Fixed(high);
-  if (floor) title += ", floor " + Fixed(*floor);
+  std::string title = "mean " + FormatScore(mean) + ", 95% interval " + FormatScore(low) + " to " +
+                      FormatScore(high);
+  if (floor) title += ", floor " + FormatScore(*floor);
   AppendBar(out, mean, low, high, 0, 1, floor, "floor", title);
 }
 
 void AppendDeltaIntervalBar(std::string* out, double delta, double low, double high, double range) {
   if (!(range > 0)) range = 1;
-  const std::string title =
-      "delta " + Fixed(delta) + ", 95% interval " + Fixed(low) + " to " + Fixed(high);
+  const std::string title = "delta " + FormatScore(delta) + ", 95% interval " + FormatScore(low) +
+                            " to " + FormatScore(high);
   AppendBar(out, delta, low, high, -range, range, 0.0, "zero", title);
 }
 
