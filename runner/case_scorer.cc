@@ -3,9 +3,13 @@
 #include "metrics/citation_metrics.h"
 #include "metrics/number_match.h"
 #include "metrics/retrieval_metrics.h"
+#include "runner/parallel_chunks.h"
 
 namespace plumb {
 namespace {
+
+// Below this many cases per thread, preparing them on one thread is quicker.
+constexpr size_t kCasesPerChunk = 2000;
 
 std::vector<metrics::GoldSpanRef> GoldRefs(const Case& c) {
   std::vector<metrics::GoldSpanRef> gold;
@@ -34,18 +38,27 @@ std::unique_ptr<CaseScorer> CaseScorer::Create(const Suite& suite, Corpus* corpu
                                                std::string* error) {
   std::unique_ptr<CaseScorer> scorer(new CaseScorer(suite, corpus));
   scorer->prepared_.resize(suite.cases.size());
-  for (size_t i = 0; i < suite.cases.size(); ++i) {
-    const Case& c = suite.cases[i];
-    PreparedCase& prepared = scorer->prepared_[i];
-    prepared.gold = metrics::NormalizeGold(c.answers, suite.normalize, suite.lang);
-    if (!c.patterns.empty()) {
+  // Cases are prepared independently; a failed chunk keeps its first error, and the error of
+  // the earliest chunk is the one reported (the case that comes first in the suite).
+  std::vector<std::string> errors(static_cast<size_t>(WorkerCount()));
+  ForEachChunk(suite.cases.size(), kCasesPerChunk, [&](size_t chunk, size_t begin, size_t end) {
+    for (size_t i = begin; i < end; ++i) {
+      const Case& c = suite.cases[i];
+      PreparedCase& prepared = scorer->prepared_[i];
+      prepared.gold = metrics::NormalizeGold(c.answers, suite.normalize, suite.lang);
+      if (c.patterns.empty()) continue;
       std::string pattern_error;
       if (!metrics::PatternSet::Compile(c.patterns, &prepared.patterns, &pattern_error)) {
-        *error = "case '" + c.id + "': " + pattern_error;
-        return nullptr;
+        errors[chunk] = "case '" + c.id + "': " + pattern_error;
+        return;
       }
       prepared.has_patterns = true;
     }
+  });
+  for (const std::string& chunk_error : errors) {
+    if (chunk_error.empty()) continue;
+    *error = chunk_error;
+    return nullptr;
   }
   return scorer;
 }

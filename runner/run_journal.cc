@@ -45,6 +45,16 @@ bool RunJournal::AppendLine(std::string line, std::string* error) {
   return written;
 }
 
+bool RunJournal::AppendLines(std::string_view lines, std::string* error) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  if (buffer_bytes_ == 0) return WriteAll(lines, error);
+  pending_.append(lines);
+  if (pending_.size() < buffer_bytes_) return true;
+  const bool written = WriteAll(pending_, error);
+  pending_.clear();
+  return written;
+}
+
 bool RunJournal::Flush(std::string* error) {
   std::lock_guard<std::mutex> lock(mutex_);
   if (pending_.empty()) return true;
@@ -53,7 +63,7 @@ bool RunJournal::Flush(std::string* error) {
   return written;
 }
 
-bool RunJournal::WriteAll(const std::string& data, std::string* error) {
+bool RunJournal::WriteAll(std::string_view data, std::string* error) {
   const char* at = data.data();
   size_t left = data.size();
   while (left > 0) {

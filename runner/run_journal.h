@@ -15,6 +15,7 @@
 #include <mutex>
 #include <nlohmann/json.hpp>
 #include <string>
+#include <string_view>
 #include <vector>
 
 namespace plumb {
@@ -34,13 +35,15 @@ class RunJournal {
   /// Appends `line` (one JSON value, no newline in it) and a newline: in one write, or into the
   /// buffer of a buffered journal. Thread-safe.
   bool AppendLine(std::string line, std::string* error);
+  /// Appends `lines`: whole lines, each already ending in a newline, kept together. Thread-safe.
+  bool AppendLines(std::string_view lines, std::string* error);
   /// Writes what a buffered journal holds. Thread-safe; a no-op without a buffer.
   bool Flush(std::string* error);
 
  private:
   RunJournal(int fd, size_t buffer_bytes) : fd_(fd), buffer_bytes_(buffer_bytes) {}
   /// Writes all of `data`; the caller holds mutex_.
-  bool WriteAll(const std::string& data, std::string* error);
+  bool WriteAll(std::string_view data, std::string* error);
 
   int fd_;
   size_t buffer_bytes_;

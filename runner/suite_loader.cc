@@ -19,6 +19,7 @@
 #include "runner/json_writer.h"
 #include "runner/jsonl_reader.h"
 #include "runner/node_checker.h"
+#include "runner/parallel_chunks.h"
 #include "runner/pipeline_config_loader.h"
 #include "runner/sha256.h"
 #include "runner/source_node.h"
@@ -46,6 +47,9 @@ const std::vector<std::string> kCaseMetrics = {
 const std::vector<std::string> kRunMetrics = {"abstain_precision", "abstain_recall",
                                               "pass_rate",         "error_rate",
                                               "latency_p50_ms",    "latency_p95_ms"};
+
+// Below this many cases per thread, hashing on one thread is quicker than starting another.
+constexpr size_t kCasesPerChunk = 2000;
 
 bool Contains(const std::vector<std::string>& names, const std::string& name) {
   return std::find(names.begin(), names.end(), name) != names.end();
@@ -757,7 +761,10 @@ class SuiteLoader {
   }
 
   void Finish() {
-    for (Case& gold : suite_->cases) gold.gold_hash = GoldHash(gold);
+    std::vector<Case>& cases = suite_->cases;
+    ForEachChunk(cases.size(), kCasesPerChunk, [&cases](size_t, size_t begin, size_t end) {
+      for (size_t i = begin; i < end; ++i) cases[i].gold_hash = GoldHash(cases[i]);
+    });
     suite_->suite_hash = suite_hash_.HexDigest();
     for (const auto& [tag, pos] : threshold_tags_) {
       bool used = false;

@@ -1,0 +1,213 @@
+#include "runner/prediction_reader.h"
+
+#include <algorithm>
+#include <cerrno>
+#include <cstdio>
+#include <cstring>
+#include <memory>
+
+#include "runner/case_record.h"
+#include "runner/parallel_chunks.h"
+
+namespace plumb {
+namespace {
+
+// Repeats are numbered from 0; a bound keeps the (case, repeat) key unambiguous.
+constexpr int64_t kMaxRepeat = (1 << 20) - 1;
+// The file is read this many bytes at a time (a longer line is read whole).
+constexpr size_t kBlockBytes = 4 << 20;
+// Below this many lines per thread, scoring on one thread is quicker than starting another.
+constexpr size_t kLinesPerChunk = 1000;
+
+bool IsBlank(std::string_view line) {
+  return line.find_first_not_of(" \t\r") == std::string_view::npos;
+}
+
+struct FileCloser {
+  void operator()(std::FILE* f) const { std::fclose(f); }
+};
+
+}  // namespace
+
+PredictionReader::PredictionReader(const std::string& path, const PreparedSuite& prepared,
+                                   RunJournal* journal)
+    : path_(path), prepared_(prepared), journal_(journal) {
+  const std::vector<Case>& cases = prepared.suite.cases;
+  index_of_.reserve(cases.size());
+  for (size_t i = 0; i < cases.size(); ++i) index_of_.emplace(cases[i].id, i);
+}
+
+bool PredictionReader::ReadAll(std::vector<CaseOutcome>* outcomes, int* max_repeat,
+                               std::string* error) {
+  std::unique_ptr<std::FILE, FileCloser> file(std::fopen(path_.c_str(), "rb"));
+  if (file == nullptr) {
+    *error = "cannot read predictions file " + path_ + ": " + std::strerror(errno);
+    return false;
+  }
+  std::string buffer;  // the unread rest of the last block, then the next block
+  std::vector<Line> lines;
+  int line_number = 0;
+  for (bool at_end = false; !at_end;) {
+    const size_t kept = buffer.size();
+    buffer.resize(kept + kBlockBytes);
+    const size_t got = std::fread(buffer.data() + kept, 1, kBlockBytes, file.get());
+    buffer.resize(kept + got);
+    if (got < kBlockBytes) {
+      if (std::ferror(file.get())) {
+        *error = "cannot read predictions file " + path_ + ": " + std::strerror(errno);
+        return false;
+      }
+      at_end = true;
+    }
+    // Whole lines only, until the end of the file; a line longer than a block is read on.
+    const size_t last_newline = buffer.rfind('\n');
+    const size_t complete =
+        at_end ? buffer.size() : (last_newline == std::string::npos ? 0 : last_newline + 1);
+    if (complete == 0 && !at_end) continue;
+    lines.clear();
+    for (size_t start = 0; start < complete;) {
+      size_t end = buffer.find('\n', start);
+      if (end == std::string::npos || end > complete) end = complete;
+      const std::string_view text(buffer.data() + start, end - start);
+      ++line_number;
+      if (!IsBlank(text)) lines.push_back({text, line_number});
+      start = end + 1;
+    }
+    if (!ScoreBlock(lines, outcomes, max_repeat, error)) return false;
+    buffer.erase(0, complete);
+  }
+  if (problems_ > 0) {
+    *error = std::to_string(problems_) + " problem" + (problems_ == 1 ? "" : "s") + " in " + path_ +
+             "; nothing was scored";
+    return false;
+  }
+  // A case with no reply at all is one errored item, so it counts against the run.
+  for (size_t i = 0; i < prepared_.suite.cases.size(); ++i) {
+    if (seen_.count(Key(i, 0)) == 0 && !RecordMissing(i, outcomes, error)) return false;
+  }
+  return true;
+}
+
+bool PredictionReader::ScoreBlock(const std::vector<Line>& lines,
+                                  std::vector<CaseOutcome>* outcomes, int* max_repeat,
+                                  std::string* error) {
+  std::vector<Chunk> chunks(static_cast<size_t>(WorkerCount()));
+  const size_t used =
+      ForEachChunk(lines.size(), kLinesPerChunk, [&](size_t chunk, size_t begin, size_t end) {
+        ScoreChunk(lines, begin, end, &chunks[chunk]);
+      });
+  for (size_t i = 0; i < used; ++i) {
+    if (!Merge(chunks[i], outcomes, max_repeat, error)) return false;
+  }
+  return true;
+}
+
+void PredictionReader::ScoreChunk(const std::vector<Line>& lines, size_t begin, size_t end,
+                                  Chunk* chunk) const {
+  const std::vector<Case>& cases = prepared_.suite.cases;
+  chunk->results.reserve(end - begin);
+  size_t next_index = 0;  // predictions usually follow the suite's order: try this case first
+  for (size_t i = begin; i < end; ++i) {
+    const Line& line = lines[i];
+    LineResult& result = chunk->results.emplace_back();
+    result.line_number = line.number;
+    nlohmann::json json;
+    try {
+      json = nlohmann::json::parse(line.text);
+    } catch (const nlohmann::json::parse_error& e) {
+      result.column = static_cast<int>(e.byte);
+      result.message =
+          std::string("not valid JSON (") + e.what() + "); each line must hold one reply object";
+      continue;
+    }
+    auto id = json.is_object() ? json.find("id") : json.end();
+    if (!json.is_object() || id == json.end() || !id->is_string()) {
+      result.message = "a prediction must be a JSON object with a string \"id\" naming its case";
+      continue;
+    }
+    if (auto it = json.find("repeat"); it != json.end()) {
+      if (!it->is_number_integer() || it->get<int64_t>() < 0 || it->get<int64_t>() > kMaxRepeat) {
+        result.message = "\"repeat\" must be an integer from 0 to " + std::to_string(kMaxRepeat);
+        continue;
+      }
+      result.repeat = it->get<int>();
+    }
+    const std::string& case_id = id->get_ref<const std::string&>();
+    if (next_index < cases.size() && cases[next_index].id == case_id) {
+      result.case_index = next_index;
+    } else if (auto known = index_of_.find(case_id); known != index_of_.end()) {
+      result.case_index = known->second;
+    } else {
+      result.kind = LineResult::Kind::kUnknownCase;
+      result.message = case_id;
+      continue;
+    }
+    next_index = result.case_index + 1;
+    CallResult call;
+    if (auto it = json.find("latency_ms"); it != json.end() && it->is_number()) {
+      call.latency_ms = it->get<double>();
+    }
+    call.body = std::string(line.text);
+    const CaseRecord record =
+        MakeCaseRecord(cases[result.case_index], result.repeat, call, recorded_, *prepared_.scorer,
+                       result.case_index, &json);
+    result.kind = LineResult::Kind::kScored;
+    result.journal_begin = chunk->journal.size();
+    chunk->journal += CaseRecordLine(record);
+    chunk->journal += '\n';
+    result.journal_end = chunk->journal.size();
+    result.outcome = OutcomeOf(record, result.case_index);
+  }
+}
+
+bool PredictionReader::Merge(Chunk& chunk, std::vector<CaseOutcome>* outcomes, int* max_repeat,
+                             std::string* error) {
+  const std::vector<Case>& cases = prepared_.suite.cases;
+  for (LineResult& result : chunk.results) {
+    switch (result.kind) {
+      case LineResult::Kind::kProblem:
+        Problem(result.line_number, result.column, result.message);
+        continue;
+      case LineResult::Kind::kUnknownCase:
+        std::fprintf(stderr,
+                     "%s:%d: warning: prediction for '%s', which the suite does not have; "
+                     "ignored\n",
+                     path_.c_str(), result.line_number, result.message.c_str());
+        continue;
+      case LineResult::Kind::kScored:
+        break;
+    }
+    if (!seen_.insert(Key(result.case_index, result.repeat)).second) {
+      Problem(result.line_number, 1,
+              "a second prediction for case '" + cases[result.case_index].id + "' repeat " +
+                  std::to_string(result.repeat) + "; keep one line per case and repeat");
+      continue;
+    }
+    *max_repeat = std::max(*max_repeat, result.repeat);
+    if (problems_ > 0) continue;  // nothing will be kept; only look for more problems
+    const std::string_view record(chunk.journal.data() + result.journal_begin,
+                                  result.journal_end - result.journal_begin);
+    if (!journal_->AppendLines(record, error)) return false;
+    outcomes->push_back(std::move(result.outcome));
+  }
+  return true;
+}
+
+void PredictionReader::Problem(int line_number, int column, const std::string& message) {
+  std::fprintf(stderr, "%s:%d:%d: error: %s\n", path_.c_str(), line_number, column,
+               message.c_str());
+  ++problems_;
+}
+
+bool PredictionReader::RecordMissing(size_t case_index, std::vector<CaseOutcome>* outcomes,
+                                     std::string* error) {
+  CallResult call;
+  call.error = "no prediction for this case in " + path_;
+  const CaseRecord record = MakeCaseRecord(prepared_.suite.cases[case_index], 0, call, recorded_,
+                                           *prepared_.scorer, case_index, nullptr);
+  if (!journal_->AppendLine(CaseRecordLine(record), error)) return false;
+  outcomes->push_back(OutcomeOf(record, case_index));
+  return true;
+}
+
+}  // namespace plumb

@@ -1,0 +1,83 @@
+#ifndef PLUMB_RUNNER_PREDICTION_READER_H_
+#define PLUMB_RUNNER_PREDICTION_READER_H_
+
+/// PredictionReader scores a file of recorded replies for `plumb score` (SPEC §8): one reply
+/// object per line, with the "id" of its case and an optional "repeat". The file is read in
+/// blocks; the lines of a block are parsed and scored on several threads (each reply is held
+/// only while its block is scored, so memory grows with the number of cases, not with reply
+/// sizes) and then taken in file order: records go to the journal in that order, and every bad
+/// line is printed with its line and column. Any bad line makes the whole file unusable; the
+/// caller then discards the journal. Cases with no reply are recorded last, as errored items.
+///
+/// The PreparedSuite and the journal must outlive the reader; one reader reads one file once.
+
+#include <cstdint>
+#include <string>
+#include <string_view>
+#include <unordered_map>
+#include <unordered_set>
+#include <vector>
+
+#include "runner/prepared_suite.h"
+#include "runner/run_journal.h"
+#include "runner/scheduler.h"
+
+namespace plumb {
+
+class PredictionReader {
+ public:
+  PredictionReader(const std::string& path, const PreparedSuite& prepared, RunJournal* journal);
+  PredictionReader(const PredictionReader&) = delete;
+  PredictionReader& operator=(const PredictionReader&) = delete;
+
+  /// False with *error set when the file cannot be read, holds a bad line, or the journal
+  /// cannot be written; `max_repeat` is the highest repeat number seen.
+  bool ReadAll(std::vector<CaseOutcome>* outcomes, int* max_repeat, std::string* error);
+
+ private:
+  struct Line {
+    std::string_view text;
+    int number = 0;
+  };
+  /// What one line came to; `journal_begin`/`journal_end` delimit its record in the chunk's text.
+  struct LineResult {
+    enum class Kind { kProblem, kUnknownCase, kScored };
+    Kind kind = Kind::kProblem;
+    int line_number = 0;
+    int column = 1;
+    std::string message;  // kProblem: what is wrong; kUnknownCase: the id
+    size_t case_index = 0;
+    int repeat = 0;
+    size_t journal_begin = 0;
+    size_t journal_end = 0;
+    CaseOutcome outcome;
+  };
+  struct Chunk {
+    std::string journal;  // the records of its scored lines, each ending in a newline
+    std::vector<LineResult> results;
+  };
+
+  /// Scores one block's lines; safe to call from several threads on disjoint chunks.
+  void ScoreChunk(const std::vector<Line>& lines, size_t begin, size_t end, Chunk* chunk) const;
+  bool ScoreBlock(const std::vector<Line>& lines, std::vector<CaseOutcome>* outcomes,
+                  int* max_repeat, std::string* error);
+  /// Takes one chunk's results in order: duplicates, problems, then records and outcomes.
+  bool Merge(Chunk& chunk, std::vector<CaseOutcome>* outcomes, int* max_repeat, std::string* error);
+  void Problem(int line_number, int column, const std::string& message);
+  bool RecordMissing(size_t case_index, std::vector<CaseOutcome>* outcomes, std::string* error);
+  static uint64_t Key(size_t case_index, int repeat) {
+    return (static_cast<uint64_t>(case_index) << 20) ^ static_cast<uint64_t>(repeat);
+  }
+
+  const std::string& path_;
+  const PreparedSuite& prepared_;
+  RunJournal* journal_;
+  const PipelineConfig recorded_;  // replies in the protocol's own shape, offsets in code points
+  std::unordered_map<std::string_view, size_t> index_of_;
+  std::unordered_set<uint64_t> seen_;
+  int problems_ = 0;
+};
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_PREDICTION_READER_H_
