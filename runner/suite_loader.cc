@@ -48,8 +48,10 @@ const std::vector<std::string> kRunMetrics = {"abstain_precision", "abstain_reca
                                               "pass_rate",         "error_rate",
                                               "latency_p50_ms",    "latency_p95_ms"};
 
-// Below this many cases per thread, hashing on one thread is quicker than starting another.
+// Below this many cases per thread, reading or hashing them on one thread is quicker than
+// starting another.
 constexpr size_t kCasesPerChunk = 2000;
+constexpr char kNoCorpusMessage[] = "this suite has gold sources but no corpus";
 
 bool Contains(const std::vector<std::string>& names, const std::string& name) {
   return std::find(names.begin(), names.end(), name) != names.end();
@@ -356,9 +358,15 @@ class SuiteLoader {
     include_chain_.pop_back();
   }
 
+  /// The lines of a JSONL include are parsed and read in chunks on several threads, each chunk
+  /// with its own checker and diagnostics; the cases are then added and the diagnostics kept in
+  /// file order, as if read on one thread.
   void ReadJsonLines(const std::string& text, NodeChecker* check) {
-    suite_->cases.reserve(suite_->cases.size() +
-                          static_cast<size_t>(std::count(text.begin(), text.end(), '\n')) + 1);
+    struct Line {
+      std::string_view text;
+      int number;
+    };
+    std::vector<Line> lines;
     int line_number = 0;
     for (size_t start = 0; start < text.size();) {
       size_t end = text.find('\n', start);
@@ -368,13 +376,47 @@ class SuiteLoader {
       ++line_number;
       start = end + 1;
       if (line.find_first_not_of(" \t") == std::string_view::npos) continue;
-      SourceNode root;
-      Diagnostic error;
-      if (!ReadJsonLine(line, check->file(), line_number, &root, &error)) {
-        errors_->push_back(error);
-        continue;
+      lines.push_back({line, line_number});
+    }
+    struct Chunk {
+      Diagnostics errors;
+      Diagnostics warnings;
+      std::vector<ReadCaseOut> cases;
+      bool reported_missing_corpus = false;
+    };
+    std::vector<Chunk> chunks(static_cast<size_t>(WorkerCount()));
+    const size_t used =
+        ForEachChunk(lines.size(), kCasesPerChunk, [&](size_t index, size_t begin, size_t end) {
+          Chunk& chunk = chunks[index];
+          // A chunk reports a missing corpus once at most; so does the whole load, below.
+          chunk.reported_missing_corpus = reported_missing_corpus_;
+          NodeChecker chunk_check(check->file(), &chunk.errors, &chunk.warnings);
+          chunk.cases.reserve(end - begin);
+          for (size_t i = begin; i < end; ++i) {
+            SourceNode root;
+            Diagnostic error;
+            if (!ReadJsonLine(lines[i].text, check->file(), lines[i].number, &root, &error)) {
+              chunk.errors.push_back(std::move(error));
+              continue;
+            }
+            ReadCaseOut out;
+            if (ReadCaseFields(root, &chunk_check, &chunk.reported_missing_corpus, &out)) {
+              chunk.cases.push_back(std::move(out));
+            }
+          }
+        });
+    suite_->cases.reserve(suite_->cases.size() + lines.size());
+    for (size_t index = 0; index < used; ++index) {
+      Chunk& chunk = chunks[index];
+      for (Diagnostic& error : chunk.errors) {
+        if (error.message == kNoCorpusMessage) {
+          if (reported_missing_corpus_) continue;
+          reported_missing_corpus_ = true;
+        }
+        errors_->push_back(std::move(error));
       }
-      ReadCase(root, check);
+      for (Diagnostic& warning : chunk.warnings) warnings_->push_back(std::move(warning));
+      for (ReadCaseOut& out : chunk.cases) AddCase(std::move(out), check);
     }
   }
 
@@ -502,10 +544,45 @@ class SuiteLoader {
   }
 
   void ReadCase(const SourceNode& node, NodeChecker* check) {
+    ReadCaseOut out;
+    if (ReadCaseFields(node, check, &reported_missing_corpus_, &out))
+      AddCase(std::move(out), check);
+  }
+
+  /// A case as read from its node, before AddCase registers its id and appends it.
+  struct ReadCaseOut {
     Case gold;
+    bool register_id = false;  // the id is well formed, so it takes part in the duplicate check
+    int id_line = 0;
+    int id_column = 0;
+  };
+
+  /// Appends a case read by ReadCaseFields, in file order: a repeated id is reported here,
+  /// naming where it was first defined.
+  void AddCase(ReadCaseOut out, NodeChecker* check) {
+    if (out.register_id) {
+      auto [it, inserted] =
+          case_ids_.emplace(out.gold.id, FirstId{suite_->cases.size(), out.id_line, out.id_column});
+      if (!inserted) {
+        const FirstId& first = it->second;
+        const SourcePos where{suite_->cases[first.case_index].pos.file, first.line, first.column};
+        errors_->push_back({SourcePos{check->file(), out.id_line, out.id_column},
+                            "duplicate case id '" + out.gold.id + "'",
+                            "first defined at " + FormatPos(where)});
+      }
+    }
+    suite_->cases.push_back(std::move(out.gold));
+  }
+
+  /// Reads and checks one case's fields, reporting through `check`. Touches no loader state
+  /// but `*reported_missing_corpus` (so chunks of a JSONL file can be read on several threads,
+  /// each with its own flag and checker). False when the node is not a mapping (nothing to add).
+  bool ReadCaseFields(const SourceNode& node, NodeChecker* check, bool* reported_missing_corpus,
+                      ReadCaseOut* out) const {
+    Case& gold = out->gold;
     gold.pos = check->Pos(node);
     auto keys = check->Keys(node, kCaseKeys, "in a case", "a case");
-    if (!node.IsMapping()) return;
+    if (!node.IsMapping()) return false;
     auto field = [&](const char* key) -> const SourceNode* {
       auto it = keys.find(key);
       return it == keys.end() ? nullptr : &it->second->value;
@@ -518,13 +595,10 @@ class SuiteLoader {
       if (!IsNameOf(gold.id, "._:-")) {
         check->Error(*id, "invalid case id '" + gold.id + "'",
                      "use letters, digits, '.', '_', ':' and '-'");
-      } else if (auto [it, inserted] = case_ids_.emplace(
-                     gold.id, FirstId{suite_->cases.size(), id->line, id->column});
-                 !inserted) {
-        const FirstId& first = it->second;
-        const SourcePos where{suite_->cases[first.case_index].pos.file, first.line, first.column};
-        check->Error(*id, "duplicate case id '" + gold.id + "'",
-                     "first defined at " + FormatPos(where));
+      } else {
+        out->register_id = true;
+        out->id_line = id->line;
+        out->id_column = id->column;
       }
     }
     std::string label = gold.id.empty() ? "the case" : "case '" + gold.id + "'";
@@ -564,7 +638,9 @@ class SuiteLoader {
     }
 
     if (const SourceNode* number = field("number")) ReadNumber(*number, check, &gold);
-    if (const SourceNode* sources = field("sources")) ReadSources(*sources, check, &gold);
+    if (const SourceNode* sources = field("sources")) {
+      ReadSources(*sources, check, reported_missing_corpus, &gold);
+    }
 
     if (const SourceNode* tags = field("tags")) {
       std::vector<const SourceNode*> nodes;
@@ -580,10 +656,10 @@ class SuiteLoader {
     if (const SourceNode* input = field("input")) {
       if (check->Mapping(*input, "input")) gold.input = SourceNodeToJson(*input);
     }
-    suite_->cases.push_back(std::move(gold));
+    return true;
   }
 
-  void ReadNumber(const SourceNode& node, NodeChecker* check, Case* gold) {
+  static void ReadNumber(const SourceNode& node, NodeChecker* check, Case* gold) {
     auto keys = check->Keys(node, kNumberKeys, "in 'number'", "'number'");
     if (!node.IsMapping()) return;
     NumberGold number;
@@ -609,7 +685,8 @@ class SuiteLoader {
     if (ok) gold->number = number;
   }
 
-  void ReadSources(const SourceNode& list, NodeChecker* check, Case* gold) {
+  void ReadSources(const SourceNode& list, NodeChecker* check, bool* reported_missing_corpus,
+                   Case* gold) const {
     if (!check->Sequence(list, "sources", "sources ({doc, quote} or {doc, start, end})")) return;
     for (const SourceNode& item : list.items) {
       auto keys = check->Keys(item, kSourceKeys, "in a source", "a source");
@@ -657,10 +734,10 @@ class SuiteLoader {
       if (!ok) continue;
 
       if (corpus_state_ == CorpusState::kNone) {
-        if (!reported_missing_corpus_) {
-          check->Error(item, "this suite has gold sources but no corpus",
+        if (!*reported_missing_corpus) {
+          check->Error(item, kNoCorpusMessage,
                        "add 'corpus: DIR' (relative to the suite file) to the suite file");
-          reported_missing_corpus_ = true;
+          *reported_missing_corpus = true;
         }
         continue;
       }

@@ -990,3 +990,64 @@ TEST_CASE("the demo suite loads without errors or warnings") {
 }
 }  // namespace
 }  // namespace plumb
+
+namespace plumb {
+namespace {
+
+TEST_CASE("a long JSONL include read in chunks reports as if read line by line") {
+  // 6,000 lines: with two or more CPUs the loader reads them in chunks on several threads. The
+  // problems sit in different chunks; they must come out in file order, a duplicate id must
+  // name the line of the first, and a missing corpus is reported once, at the first source.
+  TempDir dir;
+  std::string suite = dir.Write("suite.yaml", "plumb: 1\nname: t\ninclude: [gen.jsonl]\n");
+  std::string text;
+  for (int i = 1; i <= 6000; ++i) {
+    std::string line = "{\"id\": \"c" + std::to_string(i) +
+                       "\", \"question\": \"Q\", \"answers\": [\"a\"], \"tags\": [\"t\"]}";
+    if (i == 10) line = "{\"id\": \"c10\", oops}";
+    if (i == 2500) {
+      line =
+          "{\"id\": \"c2500\", \"question\": \"Q\", \"answers\": [\"a\"], "
+          "\"sources\": [{\"doc\": \"d.md\", \"quote\": \"x\"}]}";
+    }
+    if (i == 3100) line = "{\"id\": \"c5\", \"question\": \"Q\", \"answers\": [\"a\"]}";
+    if (i == 4500) line = "{\"id\": \"c4500\", \"question\": \"Q\", \"answerz\": [\"a\"]}";
+    if (i == 5900) {
+      line =
+          "{\"id\": \"c5900\", \"question\": \"Q\", \"answers\": [\"a\"], "
+          "\"sources\": [{\"doc\": \"d.md\", \"quote\": \"y\"}]}";
+    }
+    text += line + "\n";
+  }
+  std::string gen = dir.Write("gen.jsonl", text);
+  Loaded r = Load(suite);
+  INFO(FormatDiagnostics(r.errors));
+  REQUIRE(r.errors.size() == 5);
+  // {"id": "c10", oops}: the 'o' at column 15 is where the parser stops.
+  CheckAt(r.errors[0], gen, 10, 15);
+  CHECK(r.errors[0].message.find("not valid JSON") == 0);
+  // The first gold source (its '{' at column 64): only it reports the missing corpus, not the
+  // source on line 5900.
+  CheckAt(r.errors[1], gen, 2500, 64);
+  CHECK(r.errors[1].message == "this suite has gold sources but no corpus");
+  // {"id": "c5", ...}: the id value at column 8; c5 was first defined on line 5, same column.
+  CheckAt(r.errors[2], gen, 3100, 8);
+  CHECK(r.errors[2].message == "duplicate case id 'c5'");
+  CHECK(r.errors[2].hint == "first defined at " + gen + ":5:8");
+  // On one line, by column: the case (column 1) has no answers; "answerz" is at column 34.
+  CheckAt(r.errors[3], gen, 4500, 1);
+  CHECK(r.errors[3].message == "case 'c4500' has no 'answers'");
+  CheckAt(r.errors[4], gen, 4500, 34);
+  CHECK(r.errors[4].message == "unknown key 'answerz' in a case");
+  CHECK(r.errors[4].hint == "did you mean 'answers'?");
+  // Every line but the one that is not JSON became a case, in file order.
+  REQUIRE(r.suite.cases.size() == 5999);
+  CHECK(r.suite.cases[8].id == "c9");
+  CHECK(r.suite.cases[9].id == "c11");
+  CHECK(r.suite.cases[5998].id == "c6000");
+  CHECK(r.suite.cases[5998].pos.line == 6000);
+  CHECK(r.suite.cases[5998].tags == std::vector<std::string>{"t"});
+}
+
+}  // namespace
+}  // namespace plumb
