@@ -29,6 +29,12 @@ nlohmann::json RecordedBody(const std::string& body, nlohmann::json* parsed) {
 
 std::string CaseRecordLine(const CaseRecord& r) {
   JsonWriter w;
+  WriteCaseRecord(r, &w);
+  return w.Take();
+}
+
+void WriteCaseRecord(const CaseRecord& r, JsonWriter* out) {
+  JsonWriter& w = *out;
   w.BeginObject().Member("id", r.id).Member("repeat", r.repeat).Key("request").Raw(r.request);
   w.Key("response").Value(r.response);
   w.Member("latency_ms", r.latency_ms).Member("attempts", r.attempts);
@@ -67,7 +73,6 @@ std::string CaseRecordLine(const CaseRecord& r) {
   w.EndObject().Member("pass", r.scores.pass).Member("abstained_scored", r.scores.abstained);
   if (!r.scores.warnings.empty()) w.Member("warnings", r.scores.warnings);
   w.EndObject();
-  return w.Take();
 }
 
 bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* error) {

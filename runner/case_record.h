@@ -11,6 +11,7 @@
 
 #include "runner/adapter.h"
 #include "runner/case_scores.h"
+#include "runner/json_writer.h"
 #include "runner/response.h"
 
 namespace plumb {
@@ -35,6 +36,8 @@ struct CaseRecord {
 
 /// The record as one journal line of compact JSON, without the newline.
 std::string CaseRecordLine(const CaseRecord& record);
+/// The same, appended to a compact (indent < 0) writer at its top level.
+void WriteCaseRecord(const CaseRecord& record, JsonWriter* out);
 /// Reads a record written by CaseRecordLine; false with a reason when fields are missing.
 bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* record, std::string* error);
 

@@ -46,7 +46,22 @@ size_t PlainRun(std::string_view text, size_t from) {
 }  // namespace
 
 void JsonWriter::Grow(size_t n) {
-  buffer_.resize(std::max({size_ + n, 2 * buffer_.size(), size_t{256}}));
+  // Doubling, but within the reserved capacity first: resize() up to it does not reallocate.
+  size_t target = std::max({size_ + n, 2 * buffer_.size(), size_t{256}});
+  if (size_ + n <= buffer_.capacity()) target = std::min(target, buffer_.capacity());
+  buffer_.resize(target);
+}
+
+void JsonWriter::Clear() {
+  size_ = 0;
+  levels_.clear();
+  after_key_ = false;
+}
+
+JsonWriter& JsonWriter::EndLine() {
+  assert(levels_.empty() && !after_key_);
+  PutChar('\n');
+  return *this;
 }
 
 std::string JsonWriter::Take() {
@@ -227,6 +242,16 @@ JsonWriter& JsonWriter::Null() {
 JsonWriter& JsonWriter::Raw(std::string_view json) {
   BeforeItem();
   Put(json);
+  return *this;
+}
+
+JsonWriter& JsonWriter::Members(std::string_view members) {
+  assert(!levels_.empty() && !after_key_);
+  if (members.empty()) return *this;
+  Level& level = levels_.back();
+  if (!level.empty) PutChar(',');
+  level.empty = false;
+  Put(members);
   return *this;
 }
 

@@ -32,9 +32,23 @@ namespace plumb {
 class JsonWriter {
  public:
   explicit JsonWriter(int indent = -1) : indent_(indent) {}
+  /// A writer for members that go inside `depth` open objects of another writer with the same
+  /// indent (see Members): parts of one document written on several threads. It starts in an
+  /// empty object at that depth; write Key and value pairs only, and close nothing.
+  JsonWriter(int indent, size_t depth) : indent_(indent), levels_(depth) {}
 
   /// The text written so far; the writer starts again empty.
   std::string Take();
+  /// The text written so far, valid until the next write.
+  std::string_view text() const { return std::string_view(buffer_.data(), size_); }
+  size_t size() const { return size_; }
+  /// Starts again empty but keeps the buffer, for a writer reused across many documents.
+  void Clear();
+  /// Room for `bytes` of text in all, set aside at once: a writer whose size is known roughly
+  /// then grows without copying what it holds (and touching fresh memory) at each doubling.
+  void Reserve(size_t bytes) { buffer_.reserve(bytes); }
+  /// A newline after a top-level value: the separator of JSON lines.
+  JsonWriter& EndLine();
 
   JsonWriter& BeginObject();
   JsonWriter& EndObject();
@@ -53,6 +67,9 @@ class JsonWriter {
   JsonWriter& Value(const nlohmann::json& value);
   /// Text that is already one complete JSON value (not checked), copied as it is.
   JsonWriter& Raw(std::string_view json);
+  /// Members written by a JsonWriter(indent, depth) whose depth is this writer's current one,
+  /// placed after the members written so far. Empty text adds nothing.
+  JsonWriter& Members(std::string_view members);
 
   /// Key(key) followed by the value: shorthands for the common member forms.
   JsonWriter& Member(std::string_view key, std::string_view text) { return Key(key).String(text); }

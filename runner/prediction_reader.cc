@@ -16,8 +16,12 @@ namespace {
 constexpr int64_t kMaxRepeat = (1 << 20) - 1;
 // The file is read this many bytes at a time (a longer line is read whole).
 constexpr size_t kBlockBytes = 4 << 20;
-// Below this many lines per thread, scoring on one thread is quicker than starting another.
+// A thread's share of a block is at least this many lines, or this many bytes of long lines:
+// below that, scoring on one thread is quicker than starting another.
 constexpr size_t kLinesPerChunk = 1000;
+constexpr size_t kBytesPerChunk = 64 << 10;
+// A journal record is the reply twice (as given and as read) and about this much besides.
+constexpr size_t kRecordBytes = 512;
 
 bool IsBlank(std::string_view line) {
   return line.find_first_not_of(" \t\r") == std::string_view::npos;
@@ -31,7 +35,10 @@ struct FileCloser {
 
 PredictionReader::PredictionReader(const std::string& path, const PreparedSuite& prepared,
                                    RunJournal* journal)
-    : path_(path), prepared_(prepared), journal_(journal) {
+    : path_(path),
+      prepared_(prepared),
+      journal_(journal),
+      chunks_(static_cast<size_t>(WorkerCount())) {
   const std::vector<Case>& cases = prepared.suite.cases;
   index_of_.reserve(cases.size());
   for (size_t i = 0; i < cases.size(); ++i) index_of_.emplace(cases[i].id, i);
@@ -91,13 +98,16 @@ bool PredictionReader::ReadAll(std::vector<CaseOutcome>* outcomes, int* max_repe
 bool PredictionReader::ScoreBlock(const std::vector<Line>& lines,
                                   std::vector<CaseOutcome>* outcomes, int* max_repeat,
                                   std::string* error) {
-  std::vector<Chunk> chunks(static_cast<size_t>(WorkerCount()));
+  if (lines.empty()) return true;
+  const size_t bytes = static_cast<size_t>(lines.back().text.end() - lines.front().text.begin());
+  const size_t line_bytes = std::max<size_t>(bytes / lines.size(), 1);
+  const size_t min_chunk = std::clamp<size_t>(kBytesPerChunk / line_bytes, 1, kLinesPerChunk);
   const size_t used =
-      ForEachChunk(lines.size(), kLinesPerChunk, [&](size_t chunk, size_t begin, size_t end) {
-        ScoreChunk(lines, begin, end, &chunks[chunk]);
+      ForEachChunk(lines.size(), min_chunk, [&](size_t chunk, size_t begin, size_t end) {
+        ScoreChunk(lines, begin, end, &chunks_[chunk]);
       });
   for (size_t i = 0; i < used; ++i) {
-    if (!Merge(chunks[i], outcomes, max_repeat, error)) return false;
+    if (!Merge(chunks_[i], outcomes, max_repeat, error)) return false;
   }
   return true;
 }
@@ -105,7 +115,11 @@ bool PredictionReader::ScoreBlock(const std::vector<Line>& lines,
 void PredictionReader::ScoreChunk(const std::vector<Line>& lines, size_t begin, size_t end,
                                   Chunk* chunk) const {
   const std::vector<Case>& cases = prepared_.suite.cases;
+  chunk->results.clear();
   chunk->results.reserve(end - begin);
+  chunk->journal.Clear();
+  const size_t bytes = static_cast<size_t>(lines[end - 1].text.end() - lines[begin].text.begin());
+  chunk->journal.Reserve(2 * bytes + kRecordBytes * (end - begin));
   size_t next_index = 0;  // predictions usually follow the suite's order: try this case first
   for (size_t i = begin; i < end; ++i) {
     const Line& line = lines[i];
@@ -153,8 +167,8 @@ void PredictionReader::ScoreChunk(const std::vector<Line>& lines, size_t begin, 
                        result.case_index, &json);
     result.kind = LineResult::Kind::kScored;
     result.journal_begin = chunk->journal.size();
-    chunk->journal += CaseRecordLine(record);
-    chunk->journal += '\n';
+    WriteCaseRecord(record, &chunk->journal);
+    chunk->journal.EndLine();
     result.journal_end = chunk->journal.size();
     result.outcome = OutcomeOf(record, result.case_index);
   }
@@ -163,6 +177,16 @@ void PredictionReader::ScoreChunk(const std::vector<Line>& lines, size_t begin, 
 bool PredictionReader::Merge(Chunk& chunk, std::vector<CaseOutcome>* outcomes, int* max_repeat,
                              std::string* error) {
   const std::vector<Case>& cases = prepared_.suite.cases;
+  const std::string_view journal = chunk.journal.text();
+  // Records kept one after another go to the journal together.
+  size_t run_begin = 0, run_end = 0;
+  auto flush = [&] {
+    const bool written =
+        run_end == run_begin ||
+        journal_->AppendLines(journal.substr(run_begin, run_end - run_begin), error);
+    run_begin = run_end = 0;
+    return written;
+  };
   for (LineResult& result : chunk.results) {
     switch (result.kind) {
       case LineResult::Kind::kProblem:
@@ -185,12 +209,12 @@ bool PredictionReader::Merge(Chunk& chunk, std::vector<CaseOutcome>* outcomes, i
     }
     *max_repeat = std::max(*max_repeat, result.repeat);
     if (problems_ > 0) continue;  // nothing will be kept; only look for more problems
-    const std::string_view record(chunk.journal.data() + result.journal_begin,
-                                  result.journal_end - result.journal_begin);
-    if (!journal_->AppendLines(record, error)) return false;
+    if (result.journal_begin != run_end && !flush()) return false;
+    if (run_end == run_begin) run_begin = result.journal_begin;
+    run_end = result.journal_end;
     outcomes->push_back(std::move(result.outcome));
   }
-  return true;
+  return problems_ > 0 || flush();
 }
 
 void PredictionReader::Problem(int line_number, int column, const std::string& message) {

@@ -18,6 +18,7 @@
 #include <unordered_set>
 #include <vector>
 
+#include "runner/json_writer.h"
 #include "runner/prepared_suite.h"
 #include "runner/run_journal.h"
 #include "runner/scheduler.h"
@@ -52,8 +53,9 @@ class PredictionReader {
     size_t journal_end = 0;
     CaseOutcome outcome;
   };
+  /// One thread's share of a block; kept from block to block so its buffers are reused.
   struct Chunk {
-    std::string journal;  // the records of its scored lines, each ending in a newline
+    JsonWriter journal;  // the records of its scored lines, each ending in a newline
     std::vector<LineResult> results;
   };
 
@@ -75,6 +77,7 @@ class PredictionReader {
   const PipelineConfig recorded_;  // replies in the protocol's own shape, offsets in code points
   std::unordered_map<std::string_view, size_t> index_of_;
   std::unordered_set<uint64_t> seen_;
+  std::vector<Chunk> chunks_;
   int problems_ = 0;
 };
 

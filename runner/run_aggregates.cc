@@ -57,13 +57,31 @@ void AverageRepeats(CaseValues* v) {
 std::vector<MetricAggregate> Summarize(const Suite& suite,
                                        const std::vector<const CaseValues*>& cases,
                                        const std::vector<bool>& abstention_case) {
-  std::map<std::string, std::vector<double>> values;
+  // One column of per-case values per metric. The cases mostly define the same metrics, in the
+  // same (id) order, so the column after the last one filled is tried first.
+  std::vector<std::pair<std::string_view, std::vector<double>>> columns;
+  std::vector<double> pass_rate, error_rate;
+  pass_rate.reserve(cases.size());
+  error_rate.reserve(cases.size());
   int64_t abstained = 0, abstained_right = 0, abstention_cases = 0, abstention_cases_hit = 0;
   for (size_t i = 0; i < cases.size(); ++i) {
     const CaseValues& v = *cases[i];
-    for (const auto& [metric, mean] : *v.means) values[metric].push_back(mean);
-    values["pass_rate"].push_back(static_cast<double>(v.passes) / v.repeats);
-    values["error_rate"].push_back(static_cast<double>(v.errors) / v.repeats);
+    size_t column = 0;
+    for (const auto& [metric, mean] : *v.means) {
+      if (column >= columns.size() || columns[column].first != metric) {
+        column = static_cast<size_t>(
+            std::find_if(columns.begin(), columns.end(),
+                         [&metric = metric](const auto& c) { return c.first == metric; }) -
+            columns.begin());
+        if (column == columns.size()) {
+          columns.emplace_back(metric, std::vector<double>());
+          columns.back().second.reserve(cases.size());
+        }
+      }
+      columns[column++].second.push_back(mean);
+    }
+    pass_rate.push_back(static_cast<double>(v.passes) / v.repeats);
+    error_rate.push_back(static_cast<double>(v.errors) / v.repeats);
     // Abstention rates count every (case, repeat): each repeat is one decision to abstain.
     abstained += v.abstentions;
     if (abstention_case[i]) {
@@ -72,6 +90,14 @@ std::vector<MetricAggregate> Summarize(const Suite& suite,
       abstention_cases_hit += v.abstentions;
     }
   }
+  auto values_of = [&](const std::string& metric) -> const std::vector<double>* {
+    if (metric == "pass_rate") return &pass_rate;
+    if (metric == "error_rate") return &error_rate;
+    for (const auto& [name, values] : columns) {
+      if (name == metric) return &values;
+    }
+    return nullptr;
+  };
   std::vector<MetricAggregate> out;
   for (const std::string& metric : DisplayOrder(suite)) {
     if (metric == "abstain_precision" || metric == "abstain_recall") {
@@ -86,9 +112,9 @@ std::vector<MetricAggregate> Summarize(const Suite& suite,
       out.push_back({metric, s});
       continue;
     }
-    auto it = values.find(metric);
-    if (it == values.end() || it->second.empty()) continue;
-    out.push_back({metric, metrics::SummarizeMetric(it->second, IsBinaryMetric(metric))});
+    const std::vector<double>* values = values_of(metric);
+    if (values == nullptr || values->empty()) continue;
+    out.push_back({metric, metrics::SummarizeMetric(*values, IsBinaryMetric(metric))});
   }
   return out;
 }

@@ -22,13 +22,69 @@ std::string AbsolutePath(const std::string& path) {
   return realpath(path.c_str(), resolved) != nullptr ? std::string(resolved) : path;
 }
 
+// Bytes of layout around one case's gold in run.json, and around each list item and source.
+constexpr size_t kCaseEntryBytes = 256;
+constexpr size_t kItemBytes = 16;
+constexpr size_t kSourceEntryBytes = 192;
+// Bytes of run.json besides the cases: the header and the run's aggregates, and per tag and
+// metric in the tag's aggregates.
+constexpr size_t kRecordBytes = 64 << 10;
+constexpr size_t kTagBytes = 192;
+
 }  // namespace
+
+std::string RunRecordCaseMembers(const RunContext& ctx) {
+  const Suite& suite = *ctx.suite;
+  JsonWriter w(2, 2);  // inside the record's object and its "cases" object
+  // About the text's size (keys, indentation and the hashes besides the gold's own text), so the
+  // buffer is set aside once instead of growing through every doubling.
+  size_t bytes = 0;
+  for (size_t index : ctx.selected) {
+    const Case& c = suite.cases[index];
+    bytes += kCaseEntryBytes + c.id.size() + c.question.size();
+    for (const std::string& text : c.answers) bytes += text.size() + kItemBytes;
+    for (const std::string& text : c.patterns) bytes += text.size() + kItemBytes;
+    for (const std::string& text : c.tags) bytes += text.size() + kItemBytes;
+    for (const GoldSpan& span : c.sources) {
+      bytes += kSourceEntryBytes + span.doc.size() + span.text.size();
+    }
+  }
+  w.Reserve(bytes);
+  for (size_t index : ctx.selected) {
+    const Case& c = suite.cases[index];
+    w.Key(c.id).BeginObject().Member("gold_hash", c.gold_hash).Member("question", c.question);
+    w.Member("answers", c.answers).Member("patterns", c.patterns).Member("tags", c.tags);
+    w.Key("sources").BeginArray();
+    for (const GoldSpan& span : c.sources) {
+      w.BeginObject()
+          .Member("doc", span.doc)
+          .Member("start", span.start)
+          .Member("end", span.end)
+          .Member("text", span.text)
+          .Member("text_sha256", Sha256Hex(span.text))
+          .EndObject();
+    }
+    w.EndArray().Member("line", c.pos.line);
+    if (c.number) {
+      w.Key("number")
+          .BeginObject()
+          .Member("value", c.number->value)
+          .Member("tolerance", c.number->tolerance)
+          .Member("unit", c.number->unit)
+          .EndObject();
+    }
+    w.EndObject();
+  }
+  return w.Take();
+}
 
 std::string BuildRunRecord(const RunContext& ctx, const RunAggregates& aggregates,
                            const std::vector<ThresholdOutcome>& thresholds,
-                           const RunVerdict& verdict) {
+                           const RunVerdict& verdict, std::string_view case_members) {
   const Suite& suite = *ctx.suite;
   JsonWriter w(2);
+  w.Reserve(case_members.size() + kRecordBytes +
+            kTagBytes * aggregates.tags.size() * (aggregates.metrics.size() + 1));
   w.BeginObject().Member("plumb_run", 1);
   w.Key("tool").BeginObject().Member("name", "plumb").Member("version", PLUMB_VERSION).EndObject();
   w.Key("suite")
@@ -68,34 +124,7 @@ std::string BuildRunRecord(const RunContext& ctx, const RunAggregates& aggregate
       .Member("repeat", ctx.repeat)
       .Member("jobs", ctx.jobs)
       .Member("resumed", ctx.resumed);
-  // The gold itself travels with the run, so reports and drift need no suite file.
-  w.Key("cases").BeginObject();
-  for (size_t index : ctx.selected) {
-    const Case& c = suite.cases[index];
-    w.Key(c.id).BeginObject().Member("gold_hash", c.gold_hash).Member("question", c.question);
-    w.Member("answers", c.answers).Member("patterns", c.patterns).Member("tags", c.tags);
-    w.Key("sources").BeginArray();
-    for (const GoldSpan& span : c.sources) {
-      w.BeginObject()
-          .Member("doc", span.doc)
-          .Member("start", span.start)
-          .Member("end", span.end)
-          .Member("text", span.text)
-          .Member("text_sha256", Sha256Hex(span.text))
-          .EndObject();
-    }
-    w.EndArray().Member("line", c.pos.line);
-    if (c.number) {
-      w.Key("number")
-          .BeginObject()
-          .Member("value", c.number->value)
-          .Member("tolerance", c.number->tolerance)
-          .Member("unit", c.number->unit)
-          .EndObject();
-    }
-    w.EndObject();
-  }
-  w.EndObject();
+  w.Key("cases").BeginObject().Members(case_members).EndObject();
   w.Key("aggregates").Value(AggregatesToJson(aggregates));
   w.Key("thresholds").Value(ThresholdsToJson(thresholds));
   w.Key("verdict")
@@ -104,7 +133,9 @@ std::string BuildRunRecord(const RunContext& ctx, const RunAggregates& aggregate
       .Member("reason", verdict.reason)
       .EndObject();
   w.EndObject();
-  return w.Take() + "\n";
+  std::string text = w.Take();
+  text += '\n';
+  return text;
 }
 
 bool WriteFileAtomically(const std::string& path, const std::string& contents, std::string* error) {

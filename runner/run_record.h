@@ -9,6 +9,7 @@
 #include <map>
 #include <nlohmann/json.hpp>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "runner/case_selection.h"
@@ -33,10 +34,16 @@ struct RunContext {
   bool resumed = false;
 };
 
-/// The run.json text: JSON indented by two spaces, members in a fixed order, one trailing newline.
+/// The members of run.json's "cases" object: each selected case with its gold, so reports and
+/// drift need no suite file. A step of its own, so FinishRun can write it on a second thread
+/// while the aggregates are computed.
+std::string RunRecordCaseMembers(const RunContext& context);
+
+/// The run.json text: JSON indented by two spaces, members in a fixed order, one trailing
+/// newline. `case_members` is RunRecordCaseMembers(context).
 std::string BuildRunRecord(const RunContext& context, const RunAggregates& aggregates,
                            const std::vector<ThresholdOutcome>& thresholds,
-                           const RunVerdict& verdict);
+                           const RunVerdict& verdict, std::string_view case_members);
 
 /// Writes `contents` to `path` through a temporary file in the same directory and rename(2),
 /// so readers see the old file or the new one, never half of one. Not fsynced (see the .cc).

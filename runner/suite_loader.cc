@@ -378,10 +378,15 @@ class SuiteLoader {
       if (line.find_first_not_of(" \t") == std::string_view::npos) continue;
       lines.push_back({line, line_number});
     }
+    // Each line's case is read into its own slot of the suite's list; the list is closed up
+    // over the lines that gave no case afterwards, as the ids are registered in file order.
+    const size_t base = suite_->cases.size();
+    suite_->cases.resize(base + lines.size());
+    std::vector<CaseId> ids(lines.size());
+    std::vector<char> added(lines.size(), 0);
     struct Chunk {
       Diagnostics errors;
       Diagnostics warnings;
-      std::vector<ReadCaseOut> cases;
       bool reported_missing_corpus = false;
     };
     std::vector<Chunk> chunks(static_cast<size_t>(WorkerCount()));
@@ -391,7 +396,6 @@ class SuiteLoader {
           // A chunk reports a missing corpus once at most; so does the whole load, below.
           chunk.reported_missing_corpus = reported_missing_corpus_;
           NodeChecker chunk_check(check->file(), &chunk.errors, &chunk.warnings);
-          chunk.cases.reserve(end - begin);
           for (size_t i = begin; i < end; ++i) {
             SourceNode root;
             Diagnostic error;
@@ -399,13 +403,10 @@ class SuiteLoader {
               chunk.errors.push_back(std::move(error));
               continue;
             }
-            ReadCaseOut out;
-            if (ReadCaseFields(root, &chunk_check, &chunk.reported_missing_corpus, &out)) {
-              chunk.cases.push_back(std::move(out));
-            }
+            added[i] = ReadCaseFields(root, &chunk_check, &chunk.reported_missing_corpus,
+                                      &suite_->cases[base + i], &ids[i]);
           }
         });
-    suite_->cases.reserve(suite_->cases.size() + lines.size());
     for (size_t index = 0; index < used; ++index) {
       Chunk& chunk = chunks[index];
       for (Diagnostic& error : chunk.errors) {
@@ -416,8 +417,15 @@ class SuiteLoader {
         errors_->push_back(std::move(error));
       }
       for (Diagnostic& warning : chunk.warnings) warnings_->push_back(std::move(warning));
-      for (ReadCaseOut& out : chunk.cases) AddCase(std::move(out), check);
     }
+    size_t kept = base;
+    for (size_t i = 0; i < lines.size(); ++i) {
+      if (!added[i]) continue;
+      if (kept != base + i) suite_->cases[kept] = std::move(suite_->cases[base + i]);
+      RegisterId(kept, ids[i], check);
+      ++kept;
+    }
+    suite_->cases.resize(kept);
   }
 
   void ReadRetrievalK(const SourceNode& node, NodeChecker* check) {
@@ -544,42 +552,41 @@ class SuiteLoader {
   }
 
   void ReadCase(const SourceNode& node, NodeChecker* check) {
-    ReadCaseOut out;
-    if (ReadCaseFields(node, check, &reported_missing_corpus_, &out))
-      AddCase(std::move(out), check);
+    Case gold;
+    CaseId id;
+    if (!ReadCaseFields(node, check, &reported_missing_corpus_, &gold, &id)) return;
+    suite_->cases.push_back(std::move(gold));
+    RegisterId(suite_->cases.size() - 1, id, check);
   }
 
-  /// A case as read from its node, before AddCase registers its id and appends it.
-  struct ReadCaseOut {
-    Case gold;
-    bool register_id = false;  // the id is well formed, so it takes part in the duplicate check
-    int id_line = 0;
-    int id_column = 0;
+  /// Where a case's id was written, when it is well formed (and so checked for duplicates).
+  struct CaseId {
+    bool register_id = false;
+    int line = 0;
+    int column = 0;
   };
 
-  /// Appends a case read by ReadCaseFields, in file order: a repeated id is reported here,
+  /// Registers the id of suite_->cases[index], in file order: a repeated id is reported here,
   /// naming where it was first defined.
-  void AddCase(ReadCaseOut out, NodeChecker* check) {
-    if (out.register_id) {
-      auto [it, inserted] =
-          case_ids_.emplace(out.gold.id, FirstId{suite_->cases.size(), out.id_line, out.id_column});
-      if (!inserted) {
-        const FirstId& first = it->second;
-        const SourcePos where{suite_->cases[first.case_index].pos.file, first.line, first.column};
-        errors_->push_back({SourcePos{check->file(), out.id_line, out.id_column},
-                            "duplicate case id '" + out.gold.id + "'",
-                            "first defined at " + FormatPos(where)});
-      }
-    }
-    suite_->cases.push_back(std::move(out.gold));
+  void RegisterId(size_t index, const CaseId& id, NodeChecker* check) {
+    if (!id.register_id) return;
+    const std::string& name = suite_->cases[index].id;
+    auto [it, inserted] = case_ids_.emplace(name, FirstId{index, id.line, id.column});
+    if (inserted) return;
+    const FirstId& first = it->second;
+    const SourcePos where{suite_->cases[first.case_index].pos.file, first.line, first.column};
+    errors_->push_back({SourcePos{check->file(), id.line, id.column},
+                        "duplicate case id '" + name + "'",
+                        "first defined at " + FormatPos(where)});
   }
 
-  /// Reads and checks one case's fields, reporting through `check`. Touches no loader state
-  /// but `*reported_missing_corpus` (so chunks of a JSONL file can be read on several threads,
-  /// each with its own flag and checker). False when the node is not a mapping (nothing to add).
+  /// Reads and checks one case's fields into *gold, reporting through `check`. Touches no loader
+  /// state but `*reported_missing_corpus` (so chunks of a JSONL file can be read on several
+  /// threads, each with its own flag and checker). False when the node is not a mapping
+  /// (nothing to add).
   bool ReadCaseFields(const SourceNode& node, NodeChecker* check, bool* reported_missing_corpus,
-                      ReadCaseOut* out) const {
-    Case& gold = out->gold;
+                      Case* out, CaseId* case_id) const {
+    Case& gold = *out;
     gold.pos = check->Pos(node);
     auto keys = check->Keys(node, kCaseKeys, "in a case", "a case");
     if (!node.IsMapping()) return false;
@@ -596,9 +603,7 @@ class SuiteLoader {
         check->Error(*id, "invalid case id '" + gold.id + "'",
                      "use letters, digits, '.', '_', ':' and '-'");
       } else {
-        out->register_id = true;
-        out->id_line = id->line;
-        out->id_column = id->column;
+        *case_id = CaseId{true, id->line, id->column};
       }
     }
     std::string label = gold.id.empty() ? "the case" : "case '" + gold.id + "'";

@@ -155,3 +155,34 @@ TEST_CASE("json writer grows its buffer across many pieces and starts again afte
 
 }  // namespace
 }  // namespace plumb
+
+namespace plumb {
+namespace {
+
+TEST_CASE("json writer members written apart read as if written in one writer", "[json_writer]") {
+  // The oracle is nlohmann's dump() of the whole object, as for the trees above: an object at
+  // depth 2 whose members come from the main writer and from two part writers, one of them
+  // empty, in compact and indented layouts.
+  const nlohmann::json inner = {
+      {"a", 1}, {"b", {1, 2}}, {"c", "x"}, {"d", nlohmann::json::object()}};
+  for (int indent : {-1, 2}) {
+    JsonWriter part1(indent, 2), empty(indent, 2), part2(indent, 2);
+    part1.Key("b").Value(inner["b"]).Key("c").Value(inner["c"]);
+    part2.Key("d").Value(inner["d"]);
+    JsonWriter w(indent);
+    w.BeginObject().Key("outer").BeginObject().Key("a").Value(inner["a"]);
+    w.Members(part1.Take()).Members(empty.Take()).Members(part2.Take());
+    w.EndObject().EndObject();
+    CHECK(w.Take() == nlohmann::json{{"outer", inner}}.dump(indent));
+    // The first members may come from a part writer too.
+    JsonWriter first(indent, 2);
+    first.Key("a").Value(inner["a"]).Key("b").Value(inner["b"]);
+    JsonWriter w2(indent);
+    w2.BeginObject().Key("outer").BeginObject().Members(first.Take()).Key("c").Value(inner["c"]);
+    w2.Key("d").Value(inner["d"]).EndObject().EndObject();
+    CHECK(w2.Take() == nlohmann::json{{"outer", inner}}.dump(indent));
+  }
+}
+
+}  // namespace
+}  // namespace plumb
