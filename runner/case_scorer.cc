@@ -8,6 +8,8 @@
 namespace plumb {
 namespace {
 
+// Metrics a case usually defines besides recall@K (room set aside in one allocation).
+constexpr size_t kUsualMetrics = 4;
 // Below this many cases per thread, preparing them on one thread is quicker.
 constexpr size_t kCasesPerChunk = 2000;
 
@@ -124,6 +126,7 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
   const Case& c = suite_.cases[case_index];
   const PreparedCase& prepared = prepared_[case_index];
   CaseScores scores;
+  scores.values.reserve(kUsualMetrics + suite_.retrieval_k.size());
   scores.abstention_case = c.answers.empty();
   if (response == nullptr) {
     ScoreErroredCase(c, &scores);

@@ -54,7 +54,7 @@ void JsonWriter::Grow(size_t n) {
 
 void JsonWriter::Clear() {
   size_ = 0;
-  levels_.clear();
+  levels_.Clear();
   after_key_ = false;
 }
 
@@ -69,7 +69,7 @@ std::string JsonWriter::Take() {
   std::string text = std::move(buffer_);
   buffer_.clear();
   size_ = 0;
-  levels_.clear();
+  levels_.Clear();
   after_key_ = false;
   return text;
 }
@@ -163,30 +163,30 @@ void JsonWriter::BeforeItem() {
     return;
   }
   if (levels_.empty()) return;
-  Level& level = levels_.back();
-  if (!level.empty) PutChar(',');
-  level.empty = false;
+  char& empty = levels_.Back();
+  if (!empty) PutChar(',');
+  empty = 0;
   if (indent_ >= 0) NewLine(levels_.size());
 }
 
 JsonWriter& JsonWriter::BeginObject() {
   BeforeItem();
   PutChar('{');
-  levels_.push_back({});
+  levels_.Push();
   return *this;
 }
 
 JsonWriter& JsonWriter::BeginArray() {
   BeforeItem();
   PutChar('[');
-  levels_.push_back({});
+  levels_.Push();
   return *this;
 }
 
 JsonWriter& JsonWriter::Close(char bracket) {
   assert(!levels_.empty() && !after_key_);
-  const bool empty = levels_.back().empty;
-  levels_.pop_back();
+  const bool empty = levels_.Back() != 0;
+  levels_.Pop();
   if (!empty && indent_ >= 0) NewLine(levels_.size());
   PutChar(bracket);
   return *this;
@@ -248,9 +248,9 @@ JsonWriter& JsonWriter::Raw(std::string_view json) {
 JsonWriter& JsonWriter::Members(std::string_view members) {
   assert(!levels_.empty() && !after_key_);
   if (members.empty()) return *this;
-  Level& level = levels_.back();
-  if (!level.empty) PutChar(',');
-  level.empty = false;
+  char& empty = levels_.Back();
+  if (!empty) PutChar(',');
+  empty = 0;
   Put(members);
   return *this;
 }

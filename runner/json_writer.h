@@ -107,14 +107,44 @@ class JsonWriter {
   void PutString(std::string_view text);
   void PutDouble(double value);
 
-  struct Level {
-    bool empty = true;
+  /// Per open container, innermost last: 1 while it has no item yet. The first levels live in
+  /// the writer itself, so a writer allocates nothing for its nesting in practice.
+  class LevelStack {
+   public:
+    explicit LevelStack(size_t depth = 0) {
+      for (size_t i = 0; i < depth; ++i) Push();
+    }
+    bool empty() const { return size_ == 0; }
+    size_t size() const { return size_; }
+    void Push() {
+      if (size_ < kInline) {
+        inline_[size_] = 1;
+      } else {
+        overflow_.push_back(1);
+      }
+      ++size_;
+    }
+    void Pop() {
+      --size_;
+      if (size_ >= kInline) overflow_.pop_back();
+    }
+    char& Back() { return size_ <= kInline ? inline_[size_ - 1] : overflow_.back(); }
+    void Clear() {
+      size_ = 0;
+      overflow_.clear();
+    }
+
+   private:
+    static constexpr size_t kInline = 32;
+    char inline_[kInline];
+    std::vector<char> overflow_;
+    size_t size_ = 0;
   };
 
   std::string buffer_;  // [0, size_) is the text; the rest is room
   size_t size_ = 0;
   int indent_;
-  std::vector<Level> levels_;
+  LevelStack levels_;
   bool after_key_ = false;
 };
 

@@ -20,15 +20,14 @@ void NodeChecker::WrongType(const SourceNode& node, std::string_view field,
         "expected " + std::string(expected) + ", got " + DescribeNode(node));
 }
 
-std::map<std::string, const SourceEntry*> NodeChecker::Keys(const SourceNode& mapping,
-                                                            const std::vector<std::string>& valid,
-                                                            std::string_view place,
-                                                            std::string_view what) {
-  std::map<std::string, const SourceEntry*> keys;
+KeyIndex NodeChecker::Keys(const SourceNode& mapping, const std::vector<std::string>& valid,
+                           std::string_view place, std::string_view what) {
+  KeyIndex keys;
   if (!mapping.IsMapping()) {
     Error(mapping, "expected " + std::string(what) + " (a mapping), got " + DescribeNode(mapping));
     return keys;
   }
+  keys.reserve(mapping.entries.size());
   for (const SourceEntry& entry : mapping.entries) {
     std::string key;
     if (!ScalarAsString(entry.key, &key)) {
@@ -112,6 +111,8 @@ bool NodeChecker::StringList(const SourceNode& node, std::string_view field,
                              std::vector<const SourceNode*>* item_nodes) {
   if (!Sequence(node, field, "strings")) return false;
   bool ok = true;
+  out->reserve(out->size() + node.items.size());
+  if (item_nodes != nullptr) item_nodes->reserve(item_nodes->size() + node.items.size());
   for (const SourceNode& item : node.items) {
     std::string value;
     if (!ScalarAsString(item, &value)) {

@@ -5,6 +5,7 @@
 /// the offending node ("wrong type for 'answers'; expected a list of strings, got a mapping").
 /// The suite loader and the pipeline-config reader validate with it, one NodeChecker per file.
 
+#include <algorithm>
 #include <cstdint>
 #include <map>
 #include <string>
@@ -15,6 +16,37 @@
 #include "runner/source_node.h"
 
 namespace plumb {
+
+/// The entries of a mapping by key, first occurrence, as NodeChecker::Keys finds them. Ordered
+/// by key like the std::map it replaces, but a flat list: a mapping holds a handful of keys (a
+/// case at most eight), so this costs one allocation where a map costs one per key.
+class KeyIndex {
+ public:
+  using value_type = std::pair<std::string, const SourceEntry*>;
+  using const_iterator = std::vector<value_type>::const_iterator;
+
+  const_iterator find(std::string_view key) const {
+    return std::find_if(entries_.begin(), entries_.end(),
+                        [key](const value_type& entry) { return entry.first == key; });
+  }
+  size_t count(std::string_view key) const { return find(key) != end() ? 1 : 0; }
+  /// Adds `key` unless present; the iterator points at its entry either way.
+  std::pair<const_iterator, bool> emplace(std::string key, const SourceEntry* entry) {
+    auto it =
+        std::lower_bound(entries_.begin(), entries_.end(), key,
+                         [](const value_type& a, const std::string& b) { return a.first < b; });
+    if (it != entries_.end() && it->first == key) return {it, false};
+    it = entries_.emplace(it, std::move(key), entry);
+    return {it, true};
+  }
+  void reserve(size_t n) { entries_.reserve(n); }
+  const_iterator begin() const { return entries_.begin(); }
+  const_iterator end() const { return entries_.end(); }
+  size_t size() const { return entries_.size(); }
+
+ private:
+  std::vector<value_type> entries_;
+};
 
 class NodeChecker {
  public:
@@ -32,9 +64,8 @@ class NodeChecker {
   /// "did you mean"), a repeated key and a non-scalar key; those are left out. `place` finishes
   /// "unknown key 'x' ..." (e.g. "in a case"). Reports and returns {} when `mapping` is not a
   /// mapping (`what` names it: "a case").
-  std::map<std::string, const SourceEntry*> Keys(const SourceNode& mapping,
-                                                 const std::vector<std::string>& valid,
-                                                 std::string_view place, std::string_view what);
+  KeyIndex Keys(const SourceNode& mapping, const std::vector<std::string>& valid,
+                std::string_view place, std::string_view what);
 
   // Each read reports "wrong type for 'FIELD'" at `node` with "expected X, got Y" and returns
   // false when the node does not have the type. `field` names the key being read.

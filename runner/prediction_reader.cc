@@ -170,7 +170,7 @@ void PredictionReader::ScoreChunk(const std::vector<Line>& lines, size_t begin, 
     WriteCaseRecord(record, &chunk->journal);
     chunk->journal.EndLine();
     result.journal_end = chunk->journal.size();
-    result.outcome = OutcomeOf(record, result.case_index);
+    result.outcome = OutcomeOf(std::move(record), result.case_index);
   }
 }
 

@@ -55,6 +55,14 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
   return record;
 }
 
+CaseOutcome OutcomeOf(CaseRecord&& record, size_t case_index) {
+  CaseScores scores = std::move(record.scores);
+  record.scores = CaseScores();
+  CaseOutcome outcome = OutcomeOf(record, case_index);
+  outcome.scores = std::move(scores);
+  return outcome;
+}
+
 CaseOutcome OutcomeOf(const CaseRecord& record, size_t case_index) {
   CaseOutcome outcome;
   outcome.case_index = case_index;

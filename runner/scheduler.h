@@ -70,6 +70,8 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
                           const PipelineConfig& pipeline, const CaseScorer& scorer,
                           size_t case_index, nlohmann::json* parsed_body = nullptr);
 CaseOutcome OutcomeOf(const CaseRecord& record, size_t case_index);
+/// The same, taking the scores out of a record that is no longer needed.
+CaseOutcome OutcomeOf(CaseRecord&& record, size_t case_index);
 
 }  // namespace plumb
 

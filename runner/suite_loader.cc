@@ -274,8 +274,7 @@ class SuiteLoader {
   }
 
   // `include` and `cases` in the order they are written.
-  void ReadCasesAndIncludes(const std::map<std::string, const SourceEntry*>& keys,
-                            NodeChecker* check) {
+  void ReadCasesAndIncludes(const KeyIndex& keys, NodeChecker* check) {
     std::vector<const SourceEntry*> parts;
     for (const char* key : {"include", "cases"}) {
       if (auto it = keys.find(key); it != keys.end()) parts.push_back(it->second);
@@ -331,7 +330,7 @@ class SuiteLoader {
       } else if (root.IsMapping()) {
         // Only cases (and further includes) belong in an included file; anything else would
         // silently not apply, so it is an error rather than ignored.
-        std::map<std::string, const SourceEntry*> keys;
+        KeyIndex keys;
         for (const SourceEntry& entry : root.entries) {
           std::string key;
           ScalarAsString(entry.key, &key);

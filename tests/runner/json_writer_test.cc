@@ -186,3 +186,23 @@ TEST_CASE("json writer members written apart read as if written in one writer", 
 
 }  // namespace
 }  // namespace plumb
+
+namespace plumb {
+namespace {
+
+TEST_CASE("json writer nests deeper than the levels it keeps inline", "[json_writer]") {
+  // Replies are untrusted and may nest deeply; dump() stays the oracle past the inline levels.
+  nlohmann::json tree = {{"leaf", 1}};
+  for (int depth = 0; depth < 100; ++depth) {
+    tree = depth % 2 == 0 ? nlohmann::json::array({tree, depth}) : nlohmann::json{{"k", tree}};
+  }
+  JsonWriter compact;
+  compact.Value(tree);
+  CHECK(compact.Take() == tree.dump());
+  JsonWriter indented(2);
+  indented.Value(tree);
+  CHECK(indented.Take() == tree.dump(2));
+}
+
+}  // namespace
+}  // namespace plumb
