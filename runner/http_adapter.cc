@@ -1,6 +1,5 @@
 #include "runner/http_adapter.h"
 
-#include <curl/curl.h>
 #include <errno.h>
 #include <signal.h>
 
@@ -10,6 +9,7 @@
 #include <set>
 #include <thread>
 
+#include "runner/curl_library.h"
 #include "runner/excerpt.h"
 #include "runner/human_units.h"
 #include "runner/request_template.h"
@@ -128,11 +128,6 @@ bool HasHeader(const std::map<std::string, ExpandedString>& headers, std::string
   return false;
 }
 
-void InitCurlOnce() {
-  static std::once_flag once;
-  std::call_once(once, [] { curl_global_init(CURL_GLOBAL_DEFAULT); });
-}
-
 }  // namespace
 
 /// One slot's transfer: the easy handle, the request it sends and the reply it collects. The
@@ -197,7 +192,7 @@ struct HttpAdapter::EventLoop {
   bool stopping = false;
 
   ~EventLoop() {
-    if (multi != nullptr) curl_multi_cleanup(multi);
+    if (multi != nullptr) Curl().multi_cleanup(multi);
   }
 
   // False when the loop has stopped (Shutdown): the transfer was not taken.
@@ -207,7 +202,7 @@ struct HttpAdapter::EventLoop {
       if (stopping) return false;
       pending.push_back(t);
     }
-    curl_multi_wakeup(multi);
+    Curl().multi_wakeup(multi);
     return true;
   }
 
@@ -216,7 +211,7 @@ struct HttpAdapter::EventLoop {
       std::lock_guard<std::mutex> lock(mutex);
       stopping = true;
     }
-    curl_multi_wakeup(multi);
+    Curl().multi_wakeup(multi);
     if (thread.joinable()) thread.join();
   }
 
@@ -243,9 +238,9 @@ struct HttpAdapter::EventLoop {
         incoming.swap(pending);
       }
       for (Transfer* t : incoming) {
-        const CURLMcode added = curl_multi_add_handle(multi, t->easy);
+        const CURLMcode added = Curl().multi_add_handle(multi, t->easy);
         if (added != CURLM_OK) {
-          snprintf(t->error_buffer, sizeof t->error_buffer, "%s", curl_multi_strerror(added));
+          snprintf(t->error_buffer, sizeof t->error_buffer, "%s", Curl().multi_strerror(added));
           Complete(t, CURLE_FAILED_INIT, false);
           continue;
         }
@@ -253,22 +248,22 @@ struct HttpAdapter::EventLoop {
       }
       incoming.clear();
       int running = 0;
-      curl_multi_perform(multi, &running);
+      Curl().multi_perform(multi, &running);
       int left = 0;
-      while (CURLMsg* message = curl_multi_info_read(multi, &left)) {
+      while (CURLMsg* message = Curl().multi_info_read(multi, &left)) {
         if (message->msg != CURLMSG_DONE) continue;
         CURL* easy = message->easy_handle;
         const CURLcode code = message->data.result;  // `message` dies with the removal below
         Transfer* t = nullptr;
-        curl_easy_getinfo(easy, CURLINFO_PRIVATE, reinterpret_cast<char**>(&t));
-        curl_multi_remove_handle(multi, easy);
+        Curl().easy_getinfo(easy, CURLINFO_PRIVATE, reinterpret_cast<char**>(&t));
+        Curl().multi_remove_handle(multi, easy);
         active.erase(t);
         Complete(t, code, false);
       }
-      curl_multi_poll(multi, nullptr, 0, 1000, nullptr);
+      Curl().multi_poll(multi, nullptr, 0, 1000, nullptr);
     }
     for (Transfer* t : active) {
-      curl_multi_remove_handle(multi, t->easy);
+      Curl().multi_remove_handle(multi, t->easy);
       Complete(t, CURLE_ABORTED_BY_CALLBACK, true);
     }
     for (Transfer* t : incoming) Complete(t, CURLE_ABORTED_BY_CALLBACK, true);
@@ -360,7 +355,7 @@ bool HttpAdapter::Init(const PipelineConfig& config, int slots, std::string* err
   if (config.rate_per_second > 0) rate_ = std::make_unique<RateLimiter>(config.rate_per_second);
 
   signal(SIGPIPE, SIG_IGN);
-  InitCurlOnce();
+  if (LoadCurlLibrary(error) == nullptr) return false;
   if (insecure_) {
     std::fprintf(stderr,
                  "plumb: warning: pipeline '%s' has insecure: true; TLS certificates are not "
@@ -369,61 +364,62 @@ bool HttpAdapter::Init(const PipelineConfig& config, int slots, std::string* err
   }
 
   loop_ = std::make_unique<EventLoop>();
-  loop_->multi = curl_multi_init();
+  loop_->multi = Curl().multi_init();
   if (loop_->multi == nullptr) {
     *error = "libcurl could not create a multi handle";
     return false;
   }
-  curl_multi_setopt(loop_->multi, CURLMOPT_MAX_TOTAL_CONNECTIONS, long(slots));
-  curl_multi_setopt(loop_->multi, CURLMOPT_MAX_HOST_CONNECTIONS, long(slots));
-  curl_multi_setopt(loop_->multi, CURLMOPT_MAXCONNECTS, long(slots));
+  Curl().multi_setopt(loop_->multi, CURLMOPT_MAX_TOTAL_CONNECTIONS, long(slots));
+  Curl().multi_setopt(loop_->multi, CURLMOPT_MAX_HOST_CONNECTIONS, long(slots));
+  Curl().multi_setopt(loop_->multi, CURLMOPT_MAXCONNECTS, long(slots));
 
-  const bool http2 = (curl_version_info(CURLVERSION_NOW)->features & CURL_VERSION_HTTP2) != 0;
+  const bool http2 = (Curl().version_info(CURLVERSION_NOW)->features & CURL_VERSION_HTTP2) != 0;
   const long connect_ms = std::min<long>(kConnectTimeout.count(), long(config.timeout_ms));
   for (int i = 0; i < slots; ++i) {
     auto t = std::make_unique<Transfer>();
-    t->easy = curl_easy_init();
+    t->easy = Curl().easy_init();
     if (t->easy == nullptr) {
       *error = "libcurl could not create a transfer handle";
       return false;
     }
     t->cap = max_response_bytes_;
     CURL* e = t->easy;
-    curl_easy_setopt(e, CURLOPT_PRIVATE, t.get());
-    curl_easy_setopt(e, CURLOPT_NOSIGNAL, 1L);
-    curl_easy_setopt(e, CURLOPT_ERRORBUFFER, t->error_buffer);
-    curl_easy_setopt(e, CURLOPT_WRITEFUNCTION, &Transfer::OnBody);
-    curl_easy_setopt(e, CURLOPT_WRITEDATA, t.get());
-    curl_easy_setopt(e, CURLOPT_HEADERFUNCTION, &Transfer::OnHeader);
-    curl_easy_setopt(e, CURLOPT_HEADERDATA, t.get());
-    curl_easy_setopt(e, CURLOPT_PROTOCOLS_STR, "http,https");
-    curl_easy_setopt(e, CURLOPT_TIMEOUT_MS, long(config.timeout_ms));
-    curl_easy_setopt(e, CURLOPT_CONNECTTIMEOUT_MS, connect_ms);
-    curl_easy_setopt(e, CURLOPT_MAXFILESIZE_LARGE, curl_off_t(max_response_bytes_));
-    curl_easy_setopt(e, CURLOPT_HTTP_VERSION,
-                     http2 ? long(CURL_HTTP_VERSION_2TLS) : long(CURL_HTTP_VERSION_1_1));
-    curl_easy_setopt(e, CURLOPT_SSL_VERIFYPEER, insecure_ ? 0L : 1L);
-    curl_easy_setopt(e, CURLOPT_SSL_VERIFYHOST, insecure_ ? 0L : 2L);
-    curl_easy_setopt(e, CURLOPT_TCP_KEEPALIVE, 1L);
-    curl_easy_setopt(e, CURLOPT_ACCEPT_ENCODING, "");  // what libcurl can decode; cap applies after
-    curl_easy_setopt(e, CURLOPT_USERAGENT, "plumb/" PLUMB_VERSION);
+    Curl().easy_setopt(e, CURLOPT_PRIVATE, t.get());
+    Curl().easy_setopt(e, CURLOPT_NOSIGNAL, 1L);
+    Curl().easy_setopt(e, CURLOPT_ERRORBUFFER, t->error_buffer);
+    Curl().easy_setopt(e, CURLOPT_WRITEFUNCTION, &Transfer::OnBody);
+    Curl().easy_setopt(e, CURLOPT_WRITEDATA, t.get());
+    Curl().easy_setopt(e, CURLOPT_HEADERFUNCTION, &Transfer::OnHeader);
+    Curl().easy_setopt(e, CURLOPT_HEADERDATA, t.get());
+    Curl().easy_setopt(e, CURLOPT_PROTOCOLS_STR, "http,https");
+    Curl().easy_setopt(e, CURLOPT_TIMEOUT_MS, long(config.timeout_ms));
+    Curl().easy_setopt(e, CURLOPT_CONNECTTIMEOUT_MS, connect_ms);
+    Curl().easy_setopt(e, CURLOPT_MAXFILESIZE_LARGE, curl_off_t(max_response_bytes_));
+    Curl().easy_setopt(e, CURLOPT_HTTP_VERSION,
+                       http2 ? long(CURL_HTTP_VERSION_2TLS) : long(CURL_HTTP_VERSION_1_1));
+    Curl().easy_setopt(e, CURLOPT_SSL_VERIFYPEER, insecure_ ? 0L : 1L);
+    Curl().easy_setopt(e, CURLOPT_SSL_VERIFYHOST, insecure_ ? 0L : 2L);
+    Curl().easy_setopt(e, CURLOPT_TCP_KEEPALIVE, 1L);
+    Curl().easy_setopt(e, CURLOPT_ACCEPT_ENCODING,
+                       "");  // what libcurl can decode; cap applies after
+    Curl().easy_setopt(e, CURLOPT_USERAGENT, "plumb/" PLUMB_VERSION);
     if (method_ == "GET") {
-      curl_easy_setopt(e, CURLOPT_HTTPGET, 1L);
+      Curl().easy_setopt(e, CURLOPT_HTTPGET, 1L);
     } else {
-      curl_easy_setopt(e, CURLOPT_POST, 1L);
-      if (method_ != "POST") curl_easy_setopt(e, CURLOPT_CUSTOMREQUEST, method_.c_str());
+      Curl().easy_setopt(e, CURLOPT_POST, 1L);
+      if (method_ != "POST") Curl().easy_setopt(e, CURLOPT_CUSTOMREQUEST, method_.c_str());
     }
     slots_.push_back(std::move(t));
   }
   for (const std::string& line : header_lines) {
-    curl_slist* grown = curl_slist_append(headers_, line.c_str());
+    curl_slist* grown = Curl().slist_append(headers_, line.c_str());
     if (grown == nullptr) {
       *error = "out of memory building the request headers";
       return false;
     }
     headers_ = grown;
   }
-  for (auto& t : slots_) curl_easy_setopt(t->easy, CURLOPT_HTTPHEADER, headers_);
+  for (auto& t : slots_) Curl().easy_setopt(t->easy, CURLOPT_HTTPHEADER, headers_);
 
   EventLoop* loop = loop_.get();
   loop_->thread = std::thread([loop] { loop->Run(); });
@@ -433,10 +429,10 @@ bool HttpAdapter::Init(const PipelineConfig& config, int slots, std::string* err
 HttpAdapter::~HttpAdapter() {
   Shutdown();
   for (auto& t : slots_) {
-    if (t->easy != nullptr) curl_easy_cleanup(t->easy);
+    if (t->easy != nullptr) Curl().easy_cleanup(t->easy);
   }
   loop_.reset();  // the multi handle goes after its easy handles
-  if (headers_ != nullptr) curl_slist_free_all(headers_);
+  if (headers_ != nullptr) Curl().slist_free_all(headers_);
 }
 
 std::string HttpAdapter::Redact(std::string text) const {
@@ -451,10 +447,10 @@ bool HttpAdapter::SleepUnlessInterrupted(std::chrono::milliseconds delay) {
 HttpAdapter::Attempted HttpAdapter::Attempt(Transfer& t, const std::string& url) {
   Attempted a;
   CURL* e = t.easy;
-  curl_easy_setopt(e, CURLOPT_URL, url.c_str());
+  Curl().easy_setopt(e, CURLOPT_URL, url.c_str());
   if (method_ != "GET") {
-    curl_easy_setopt(e, CURLOPT_POSTFIELDSIZE_LARGE, curl_off_t(t.request_body.size()));
-    curl_easy_setopt(e, CURLOPT_POSTFIELDS, t.request_body.data());
+    Curl().easy_setopt(e, CURLOPT_POSTFIELDSIZE_LARGE, curl_off_t(t.request_body.size()));
+    Curl().easy_setopt(e, CURLOPT_POSTFIELDS, t.request_body.data());
   }
   if (t.response.capacity() > kKeptBufferBytes) std::string().swap(t.response);
   t.response.clear();
@@ -479,9 +475,9 @@ HttpAdapter::Attempted HttpAdapter::Attempt(Transfer& t, const std::string& url)
     return a;
   }
   a.latency_ms = std::chrono::duration<double, std::milli>(t.end - t.start).count();
-  curl_easy_getinfo(e, CURLINFO_RESPONSE_CODE, &a.status);
+  Curl().easy_getinfo(e, CURLINFO_RESPONSE_CODE, &a.status);
   const std::string detail =
-      t.error_buffer[0] != '\0' ? t.error_buffer : curl_easy_strerror(t.code);
+      t.error_buffer[0] != '\0' ? t.error_buffer : Curl().easy_strerror(t.code);
 
   switch (t.code) {
     case CURLE_OK:
@@ -507,7 +503,7 @@ HttpAdapter::Attempted HttpAdapter::Attempt(Transfer& t, const std::string& url)
       // Whether the request went out tells a connect timeout (retried: nothing reached the
       // server) from a server that took the request and never answered (not retried).
       long request_bytes = 0;
-      curl_easy_getinfo(e, CURLINFO_REQUEST_SIZE, &request_bytes);
+      Curl().easy_getinfo(e, CURLINFO_REQUEST_SIZE, &request_bytes);
       if (request_bytes == 0) {
         a.error = "could not connect within " +
                   FormatDuration(std::min(timeout_, std::chrono::milliseconds(kConnectTimeout)));
@@ -527,7 +523,7 @@ HttpAdapter::Attempted HttpAdapter::Attempt(Transfer& t, const std::string& url)
     case CURLE_RECV_ERROR:
     case CURLE_SEND_ERROR: {
       long os_errno = 0;
-      curl_easy_getinfo(e, CURLINFO_OS_ERRNO, &os_errno);
+      Curl().easy_getinfo(e, CURLINFO_OS_ERRNO, &os_errno);
       a.error = os_errno == ECONNRESET || os_errno == EPIPE ? "connection reset"
                                                             : "network error: " + detail;
       a.service_failed = true;

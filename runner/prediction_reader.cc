@@ -51,37 +51,48 @@ bool PredictionReader::ReadAll(std::vector<CaseOutcome>* outcomes, int* max_repe
     *error = "cannot read predictions file " + path_ + ": " + std::strerror(errno);
     return false;
   }
-  std::string buffer;  // the unread rest of the last block, then the next block
+  // The unread rest of the last block, then the next block. Not zero-filled: only the bytes
+  // read are ever touched, so a small file costs no more memory than its size.
+  size_t capacity = kBlockBytes;
+  std::unique_ptr<char[]> buffer(new char[capacity]);
+  size_t size = 0;
   std::vector<Line> lines;
   int line_number = 0;
   for (bool at_end = false; !at_end;) {
-    const size_t kept = buffer.size();
-    buffer.resize(kept + kBlockBytes);
-    const size_t got = std::fread(buffer.data() + kept, 1, kBlockBytes, file.get());
-    buffer.resize(kept + got);
-    if (got < kBlockBytes) {
+    if (size == capacity) {  // a line longer than the buffer: read on into a larger one
+      std::unique_ptr<char[]> larger(new char[2 * capacity]);
+      std::memcpy(larger.get(), buffer.get(), size);
+      buffer = std::move(larger);
+      capacity *= 2;
+    }
+    const size_t wanted = capacity - size;
+    const size_t got = std::fread(buffer.get() + size, 1, wanted, file.get());
+    size += got;
+    if (got < wanted) {
       if (std::ferror(file.get())) {
         *error = "cannot read predictions file " + path_ + ": " + std::strerror(errno);
         return false;
       }
       at_end = true;
     }
-    // Whole lines only, until the end of the file; a line longer than a block is read on.
-    const size_t last_newline = buffer.rfind('\n');
+    // Whole lines only, until the end of the file.
+    const std::string_view data(buffer.get(), size);
+    const size_t last_newline = data.rfind('\n');
     const size_t complete =
-        at_end ? buffer.size() : (last_newline == std::string::npos ? 0 : last_newline + 1);
+        at_end ? size : (last_newline == std::string_view::npos ? 0 : last_newline + 1);
     if (complete == 0 && !at_end) continue;
     lines.clear();
     for (size_t start = 0; start < complete;) {
-      size_t end = buffer.find('\n', start);
-      if (end == std::string::npos || end > complete) end = complete;
-      const std::string_view text(buffer.data() + start, end - start);
+      size_t end = data.find('\n', start);
+      if (end == std::string_view::npos || end > complete) end = complete;
+      const std::string_view text = data.substr(start, end - start);
       ++line_number;
       if (!IsBlank(text)) lines.push_back({text, line_number});
       start = end + 1;
     }
     if (!ScoreBlock(lines, outcomes, max_repeat, error)) return false;
-    buffer.erase(0, complete);
+    std::memmove(buffer.get(), buffer.get() + complete, size - complete);
+    size -= complete;
   }
   if (problems_ > 0) {
     *error = std::to_string(problems_) + " problem" + (problems_ == 1 ? "" : "s") + " in " + path_ +
