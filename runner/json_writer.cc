@@ -245,6 +245,12 @@ JsonWriter& JsonWriter::Raw(std::string_view json) {
   return *this;
 }
 
+JsonWriter& JsonWriter::MarkFilled() {
+  assert(!levels_.empty());
+  levels_.Back() = 0;
+  return *this;
+}
+
 JsonWriter& JsonWriter::Members(std::string_view members) {
   assert(!levels_.empty() && !after_key_);
   if (members.empty()) return *this;

@@ -49,6 +49,12 @@ class JsonWriter {
   void Reserve(size_t bytes) { buffer_.reserve(bytes); }
   /// A newline after a top-level value: the separator of JSON lines.
   JsonWriter& EndLine();
+  /// Drops the text written so far but keeps the nesting: for a writer whose text is handed
+  /// out in pieces as it grows.
+  void DropText() { size_ = 0; }
+  /// Counts the innermost open container as holding items already (written by another writer,
+  /// see JsonWriter(indent, depth)), so the next item gets its comma and the close its newline.
+  JsonWriter& MarkFilled();
 
   JsonWriter& BeginObject();
   JsonWriter& EndObject();

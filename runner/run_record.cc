@@ -9,6 +9,7 @@
 #include <cstring>
 #include <ctime>
 
+#include "runner/atomic_file.h"
 #include "runner/json_writer.h"
 #include "runner/sha256.h"
 
@@ -22,34 +23,15 @@ std::string AbsolutePath(const std::string& path) {
   return realpath(path.c_str(), resolved) != nullptr ? std::string(resolved) : path;
 }
 
-// Bytes of layout around one case's gold in run.json, and around each list item and source.
-constexpr size_t kCaseEntryBytes = 256;
-constexpr size_t kItemBytes = 16;
-constexpr size_t kSourceEntryBytes = 192;
-// Bytes of run.json besides the cases: the header and the run's aggregates, and per tag and
-// metric in the tag's aggregates.
-constexpr size_t kRecordBytes = 64 << 10;
-constexpr size_t kTagBytes = 192;
+// The case entries are handed out in pieces of about this size.
+constexpr size_t kPieceBytes = 256 << 10;
 
 }  // namespace
 
-std::string RunRecordCaseMembers(const RunContext& ctx) {
+bool WriteRunRecordCases(const RunContext& ctx, const std::function<bool(std::string_view)>& sink) {
   const Suite& suite = *ctx.suite;
   JsonWriter w(2, 2);  // inside the record's object and its "cases" object
-  // About the text's size (keys, indentation and the hashes besides the gold's own text), so the
-  // buffer is set aside once instead of growing through every doubling.
-  size_t bytes = 0;
-  for (size_t index : ctx.selected) {
-    const Case& c = suite.cases[index];
-    bytes += kCaseEntryBytes + c.id.size() + c.question.size();
-    for (const std::string& text : c.answers) bytes += text.size() + kItemBytes;
-    for (const std::string& text : c.patterns) bytes += text.size() + kItemBytes;
-    for (const std::string& text : c.tags) bytes += text.size() + kItemBytes;
-    for (const GoldSpan& span : c.sources) {
-      bytes += kSourceEntryBytes + span.doc.size() + span.text.size();
-    }
-  }
-  w.Reserve(bytes);
+  w.Reserve(2 * kPieceBytes);
   for (size_t index : ctx.selected) {
     const Case& c = suite.cases[index];
     w.Key(c.id).BeginObject().Member("gold_hash", c.gold_hash).Member("question", c.question);
@@ -74,17 +56,17 @@ std::string RunRecordCaseMembers(const RunContext& ctx) {
           .EndObject();
     }
     w.EndObject();
+    if (w.size() >= kPieceBytes) {
+      if (!sink(w.text())) return false;
+      w.DropText();
+    }
   }
-  return w.Take();
+  return w.size() == 0 || sink(w.text());
 }
 
-std::string BuildRunRecord(const RunContext& ctx, const RunAggregates& aggregates,
-                           const std::vector<ThresholdOutcome>& thresholds,
-                           const RunVerdict& verdict, std::string_view case_members) {
+std::string RunRecordHead(const RunContext& ctx) {
   const Suite& suite = *ctx.suite;
   JsonWriter w(2);
-  w.Reserve(case_members.size() + kRecordBytes +
-            kTagBytes * aggregates.tags.size() * (aggregates.metrics.size() + 1));
   w.BeginObject().Member("plumb_run", 1);
   w.Key("tool").BeginObject().Member("name", "plumb").Member("version", PLUMB_VERSION).EndObject();
   w.Key("suite")
@@ -124,7 +106,16 @@ std::string BuildRunRecord(const RunContext& ctx, const RunAggregates& aggregate
       .Member("repeat", ctx.repeat)
       .Member("jobs", ctx.jobs)
       .Member("resumed", ctx.resumed);
-  w.Key("cases").BeginObject().Members(case_members).EndObject();
+  w.Key("cases").BeginObject();
+  return w.Take();
+}
+
+std::string RunRecordTail(const RunContext& ctx, const RunAggregates& aggregates,
+                          const std::vector<ThresholdOutcome>& thresholds,
+                          const RunVerdict& verdict) {
+  JsonWriter w(2, 2);  // inside the record's object and its "cases" object
+  if (!ctx.selected.empty()) w.MarkFilled();
+  w.EndObject().MarkFilled();
   w.Key("aggregates").Value(AggregatesToJson(aggregates));
   w.Key("thresholds").Value(ThresholdsToJson(thresholds));
   w.Key("verdict")
@@ -139,24 +130,10 @@ std::string BuildRunRecord(const RunContext& ctx, const RunAggregates& aggregate
 }
 
 bool WriteFileAtomically(const std::string& path, const std::string& contents, std::string* error) {
-  const std::string temp = path + ".tmp." + std::to_string(getpid());
-  std::FILE* f = std::fopen(temp.c_str(), "wb");
-  if (f == nullptr) {
-    *error = "cannot write " + temp + ": " + std::strerror(errno);
-    return false;
-  }
-  const bool written = std::fwrite(contents.data(), 1, contents.size(), f) == contents.size();
-  // No fsync: like the journal, the record is safe from a crash of plumb (rename is atomic),
-  // not from a power cut, which a CI run answers by running again; fsync of a large run.json
-  // costs more wall time than the scoring.
-  const bool flushed = std::fflush(f) == 0;
-  const bool closed = std::fclose(f) == 0;
-  if (!written || !flushed || !closed || std::rename(temp.c_str(), path.c_str()) != 0) {
-    *error = "cannot write " + path + ": " + std::strerror(errno);
-    std::remove(temp.c_str());
-    return false;
-  }
-  return true;
+  std::unique_ptr<AtomicFile> file = AtomicFile::Open(path, error);
+  if (file == nullptr) return false;
+  file->Write(contents);
+  return file->Commit(error);
 }
 
 std::string NowIso8601() {

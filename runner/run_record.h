@@ -6,6 +6,7 @@
 /// span fingerprints, corpus fingerprint, pipeline config with secrets as "***", labels, times,
 /// shard, aggregates, thresholds and the verdict. It is also what `--json` prints.
 
+#include <functional>
 #include <map>
 #include <nlohmann/json.hpp>
 #include <string>
@@ -34,19 +35,21 @@ struct RunContext {
   bool resumed = false;
 };
 
-/// The members of run.json's "cases" object: each selected case with its gold, so reports and
-/// drift need no suite file. A step of its own, so FinishRun can write it on a second thread
-/// while the aggregates are computed.
-std::string RunRecordCaseMembers(const RunContext& context);
-
-/// The run.json text: JSON indented by two spaces, members in a fixed order, one trailing
-/// newline. `case_members` is RunRecordCaseMembers(context).
-std::string BuildRunRecord(const RunContext& context, const RunAggregates& aggregates,
-                           const std::vector<ThresholdOutcome>& thresholds,
-                           const RunVerdict& verdict, std::string_view case_members);
-
+/// run.json comes in three parts: RunRecordHead, the case entries of WriteRunRecordCases, and
+/// RunRecordTail; together, JSON indented by two spaces with members in a fixed order and one
+/// trailing newline. The case entries are most of the file and depend on the suite alone, so
+/// FinishRun writes them on a second thread while the aggregates are computed, straight to the
+/// file instead of holding them.
+std::string RunRecordHead(const RunContext& context);
+/// The case entries: each selected case with its gold, so reports and drift need no suite file.
+/// They are handed to `sink` in pieces of about 256 KiB; false as soon as `sink` returns false.
+bool WriteRunRecordCases(const RunContext& context,
+                         const std::function<bool(std::string_view)>& sink);
+std::string RunRecordTail(const RunContext& context, const RunAggregates& aggregates,
+                          const std::vector<ThresholdOutcome>& thresholds,
+                          const RunVerdict& verdict);
 /// Writes `contents` to `path` through a temporary file in the same directory and rename(2),
-/// so readers see the old file or the new one, never half of one. Not fsynced (see the .cc).
+/// so readers see the old file or the new one, never half of one (runner/atomic_file.h).
 bool WriteFileAtomically(const std::string& path, const std::string& contents, std::string* error);
 
 /// The current time as "2026-12-01T22:03:56Z".

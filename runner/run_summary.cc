@@ -1,8 +1,10 @@
 #include "runner/run_summary.h"
 
 #include <cstdio>
+#include <memory>
 #include <thread>
 
+#include "runner/atomic_file.h"
 #include "runner/summary_table.h"
 
 namespace plumb {
@@ -11,23 +13,35 @@ bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, boo
                const std::string& run_dir, bool json, double seconds, FinishedRun* finished,
                std::string* error) {
   const Suite& suite = *context.suite;
-  // The record's case block depends on the suite alone: written meanwhile on a second thread.
-  std::string case_members;
-  std::thread case_writer([&] { case_members = RunRecordCaseMembers(context); });
+  context.finished_at = NowIso8601();
+  // An interrupted run keeps its journal but gets no run.json: it is not a finished run, and
+  // --resume writes the record once the work is complete.
+  std::unique_ptr<AtomicFile> file;
+  if (!run_dir.empty() && !interrupted) {
+    file = AtomicFile::Open(run_dir + "/run.json", error);
+    if (file == nullptr) return false;
+  }
+  // The head and the case entries depend on the suite alone: written meanwhile on a second
+  // thread, straight to the file (and kept only for --json, which prints the record).
+  const std::string head = RunRecordHead(context);
+  std::string cases;
+  std::thread case_writer([&] {
+    if (file != nullptr) file->Write(head);
+    WriteRunRecordCases(context, [&](std::string_view piece) {
+      if (json) cases.append(piece);
+      return file == nullptr || file->Write(piece);
+    });
+  });
   const RunAggregates aggregates = AggregateRun(suite, outcomes);
   const std::vector<ThresholdOutcome> thresholds = EvaluateThresholds(suite.thresholds, aggregates);
   finished->verdict = DecideRunVerdict(aggregates, thresholds, suite.max_error_rate, interrupted);
-  context.finished_at = NowIso8601();
   case_writer.join();
-  finished->record =
-      BuildRunRecord(context, aggregates, thresholds, finished->verdict, case_members);
-  // An interrupted run keeps its journal but gets no run.json: it is not a finished run, and
-  // --resume writes the record once the work is complete.
-  if (!run_dir.empty() && !interrupted) {
-    if (!WriteFileAtomically(run_dir + "/run.json", finished->record, error)) {
-      return false;
-    }
+  const std::string tail = RunRecordTail(context, aggregates, thresholds, finished->verdict);
+  if (file != nullptr) {
+    file->Write(tail);
+    if (!file->Commit(error)) return false;
   }
+  if (json) finished->record = head + cases + tail;
   if (!json) {
     SummaryHeader header{suite.name, context.pipeline_name, seconds, context.repeat};
     const std::string table =

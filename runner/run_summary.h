@@ -17,7 +17,7 @@ namespace plumb {
 
 struct FinishedRun {
   RunVerdict verdict;
-  std::string record;  // the run.json text (what --json prints)
+  std::string record;  // with `json` only: the run.json text (what --json prints)
 };
 
 /// `run_dir` empty: no run.json is written. `seconds` is the wall time shown in the table.
