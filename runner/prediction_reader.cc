@@ -15,7 +15,7 @@ namespace {
 // Repeats are numbered from 0; a bound keeps the (case, repeat) key unambiguous.
 constexpr int64_t kMaxRepeat = (1 << 20) - 1;
 // The file is read this many bytes at a time (a longer line is read whole).
-constexpr size_t kBlockBytes = 4 << 20;
+constexpr size_t kBlockBytes = 256 << 10;
 // A thread's share of a block is at least this many lines, or this many bytes of long lines:
 // below that, scoring on one thread is quicker than starting another.
 constexpr size_t kLinesPerChunk = 1000;

@@ -277,8 +277,8 @@ TEST_CASE("plumb score with a bad predictions file leaves the earlier run as it 
 }
 
 TEST_CASE("plumb score keeps file order when the replies are scored in blocks on several threads") {
-  // 6,000 cases and replies of about 1 KiB: more than one 4 MiB block and, with two or more
-  // CPUs, several chunks per block. Replies come in reverse suite order; even cases are
+  // 6,000 cases and replies of about 1 KiB: many blocks of the reader (256 KiB each) and, with two
+  // or more CPUs, several chunks per block. Replies come in reverse suite order; even cases are
   // answered with their gold answer, odd ones with a wrong word.
   const int n = 6000;
   const std::string dir = MakeTempDir();
