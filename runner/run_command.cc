@@ -13,6 +13,7 @@
 #include "runner/adapter_factory.h"
 #include "runner/drift_command.h"
 #include "runner/interrupt.h"
+#include "runner/keep_until_exit.h"
 #include "runner/prepared_suite.h"
 #include "runner/run_journal.h"
 #include "runner/run_reader.h"
@@ -268,7 +269,8 @@ bool MakeDirectories(const std::string& dir, std::string* error) {
 }
 
 int RunCommand(const RunOptions& options) {
-  PreparedSuite prepared;
+  auto owned = std::make_unique<PreparedSuite>();
+  PreparedSuite& prepared = *owned;
   if (!PrepareSuite(options.suite_path, options.pipelines_file, /*expand_env=*/true, &prepared)) {
     return kExitUsage;
   }
@@ -335,6 +337,7 @@ int RunCommand(const RunOptions& options) {
                                        : (runs.empty() ? nlohmann::json::object() : runs[0]);
     std::printf("%s\n", out.dump(2).c_str());
   }
+  KeepUntilExit(std::move(owned));
   return code;
 }
 

@@ -8,6 +8,7 @@
 #include <cstring>
 #include <memory>
 
+#include "runner/keep_until_exit.h"
 #include "runner/prediction_reader.h"
 #include "runner/prepared_suite.h"
 #include "runner/run_command.h"
@@ -22,7 +23,8 @@ namespace plumb {
 constexpr size_t kJournalBuffer = 1 << 20;
 
 int ScoreCommand(const ScoreOptions& options) {
-  PreparedSuite prepared;
+  auto owned = std::make_unique<PreparedSuite>();
+  PreparedSuite& prepared = *owned;
   if (!PrepareSuite(options.suite_path, "", /*expand_env=*/false, &prepared)) return 2;
   const Suite& suite = prepared.suite;
 
@@ -37,7 +39,8 @@ int ScoreCommand(const ScoreOptions& options) {
   // predictions file leaves an earlier run in this directory as it was.
   const std::string journal_path = run_dir + "/cases.jsonl";
   const std::string pending_path = journal_path + ".pending." + std::to_string(getpid());
-  std::vector<CaseOutcome> outcomes;
+  auto owned_outcomes = std::make_unique<std::vector<CaseOutcome>>();
+  std::vector<CaseOutcome>& outcomes = *owned_outcomes;
   outcomes.reserve(suite.cases.size());
   int max_repeat = 0;
   {
@@ -86,6 +89,8 @@ int ScoreCommand(const ScoreOptions& options) {
     }
   }
   if (options.json) std::fputs(finished.record.c_str(), stdout);
+  KeepUntilExit(std::move(owned));
+  KeepUntilExit(std::move(owned_outcomes));
   return finished.verdict.code;
 }
 

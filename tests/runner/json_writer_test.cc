@@ -206,3 +206,29 @@ TEST_CASE("json writer nests deeper than the levels it keeps inline", "[json_wri
 
 }  // namespace
 }  // namespace plumb
+
+namespace plumb {
+namespace {
+
+TEST_CASE("json writer finds a byte to escape at every position of short and long strings",
+          "[json_writer]") {
+  // The plain-run scan reads 16 bytes at a time, overlaps the last 16, and pads strings shorter
+  // than 16: one byte that needs escaping (or is UTF-8, or is the plain DEL) at each position of
+  // strings of 0 to 40 bytes, against dump().
+  const char* const kBytes[] = {"\"", "\\", "\n", "\x01", "\x1f", "\x7f", "\xC3\xA9", " ", "~"};
+  int compared = 0;
+  for (size_t length = 0; length <= 40; ++length) {
+    for (size_t at = 0; at < std::max<size_t>(length, 1); ++at) {
+      for (const char* special : kBytes) {
+        std::string text(length, 'x');
+        if (length > 0) text.replace(at, 1, special);
+        CHECK(StringText(text) == nlohmann::json(text).dump());
+        ++compared;
+      }
+    }
+  }
+  CHECK(compared > 7000);
+}
+
+}  // namespace
+}  // namespace plumb
