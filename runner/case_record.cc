@@ -36,7 +36,12 @@ std::string CaseRecordLine(const CaseRecord& r) {
 void WriteCaseRecord(const CaseRecord& r, JsonWriter* out) {
   JsonWriter& w = *out;
   w.BeginObject().Member("id", r.id).Member("repeat", r.repeat).Key("request").Raw(r.request);
-  w.Key("response").Value(r.response);
+  w.Key("response");
+  if (r.response_json.empty()) {
+    w.Value(r.response);
+  } else {
+    w.Raw(r.response_json);
+  }
   w.Member("latency_ms", r.latency_ms).Member("attempts", r.attempts);
   if (r.error.empty()) {
     w.Key("answer");

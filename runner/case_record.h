@@ -23,9 +23,10 @@ inline constexpr size_t kMaxRecordedBody = 64 * 1024;
 struct CaseRecord {
   std::string id;
   int repeat = 0;
-  std::string request;      // as sent: compact JSON (PipelineRequest::ToLine)
-  nlohmann::json response;  // the parsed reply, or {"excerpt", "bytes"} when large or invalid
-  Response parsed;          // empty when the call errored
+  std::string request;        // as sent: compact JSON (PipelineRequest::ToLine)
+  nlohmann::json response;    // the parsed reply, or {"excerpt", "bytes"} when large or invalid
+  std::string response_json;  // when not empty: the "response" as JSON text, used instead
+  Response parsed;            // empty when the call errored
   double latency_ms = 0;
   int attempts = 1;
   std::string error;  // empty when the reply was valid

@@ -7,6 +7,7 @@
 #include <memory>
 
 #include "runner/case_record.h"
+#include "runner/flat_reply.h"
 #include "runner/parallel_chunks.h"
 
 namespace plumb {
@@ -125,7 +126,6 @@ bool PredictionReader::ScoreBlock(const std::vector<Line>& lines,
 
 void PredictionReader::ScoreChunk(const std::vector<Line>& lines, size_t begin, size_t end,
                                   Chunk* chunk) const {
-  const std::vector<Case>& cases = prepared_.suite.cases;
   chunk->results.clear();
   chunk->results.reserve(end - begin);
   chunk->journal.Clear();
@@ -136,46 +136,10 @@ void PredictionReader::ScoreChunk(const std::vector<Line>& lines, size_t begin, 
     const Line& line = lines[i];
     LineResult& result = chunk->results.emplace_back();
     result.line_number = line.number;
-    nlohmann::json json;
-    try {
-      json = nlohmann::json::parse(line.text);
-    } catch (const nlohmann::json::parse_error& e) {
-      result.column = static_cast<int>(e.byte);
-      result.message =
-          std::string("not valid JSON (") + e.what() + "); each line must hold one reply object";
-      continue;
-    }
-    auto id = json.is_object() ? json.find("id") : json.end();
-    if (!json.is_object() || id == json.end() || !id->is_string()) {
-      result.message = "a prediction must be a JSON object with a string \"id\" naming its case";
-      continue;
-    }
-    if (auto it = json.find("repeat"); it != json.end()) {
-      if (!it->is_number_integer() || it->get<int64_t>() < 0 || it->get<int64_t>() > kMaxRepeat) {
-        result.message = "\"repeat\" must be an integer from 0 to " + std::to_string(kMaxRepeat);
-        continue;
-      }
-      result.repeat = it->get<int>();
-    }
-    const std::string& case_id = id->get_ref<const std::string&>();
-    if (next_index < cases.size() && cases[next_index].id == case_id) {
-      result.case_index = next_index;
-    } else if (auto known = index_of_.find(case_id); known != index_of_.end()) {
-      result.case_index = known->second;
-    } else {
-      result.kind = LineResult::Kind::kUnknownCase;
-      result.message = case_id;
-      continue;
-    }
-    next_index = result.case_index + 1;
-    CallResult call;
-    if (auto it = json.find("latency_ms"); it != json.end() && it->is_number()) {
-      call.latency_ms = it->get<double>();
-    }
-    call.body = std::string(line.text);
-    const CaseRecord record =
-        MakeCaseRecord(cases[result.case_index], result.repeat, call, recorded_, *prepared_.scorer,
-                       result.case_index, &json);
+    CaseRecord record;
+    LineRead read = ReadFlat(line, chunk, &next_index, &result, &record);
+    if (read == LineRead::kDeclined) read = ReadGeneral(line, &next_index, &result, &record);
+    if (read != LineRead::kRecord) continue;
     result.kind = LineResult::Kind::kScored;
     result.journal_begin = chunk->journal.size();
     WriteCaseRecord(record, &chunk->journal);
@@ -183,6 +147,76 @@ void PredictionReader::ScoreChunk(const std::vector<Line>& lines, size_t begin, 
     result.journal_end = chunk->journal.size();
     result.outcome = OutcomeOf(std::move(record), result.case_index);
   }
+}
+
+bool PredictionReader::FindCase(std::string_view id, size_t* next_index, LineResult* result) const {
+  const std::vector<Case>& cases = prepared_.suite.cases;
+  if (*next_index < cases.size() && cases[*next_index].id == id) {
+    result->case_index = *next_index;
+  } else if (auto known = index_of_.find(id); known != index_of_.end()) {
+    result->case_index = known->second;
+  } else {
+    result->kind = LineResult::Kind::kUnknownCase;
+    result->message = std::string(id);
+    return false;
+  }
+  *next_index = result->case_index + 1;
+  return true;
+}
+
+PredictionReader::LineRead PredictionReader::ReadFlat(const Line& line, Chunk* chunk,
+                                                      size_t* next_index, LineResult* result,
+                                                      CaseRecord* record) const {
+  FlatPrediction prediction;
+  if (line.text.size() > kMaxRecordedBody ||
+      !ReadFlatPrediction(line.text, kMaxRepeat, &chunk->flat, &prediction)) {
+    return LineRead::kDeclined;
+  }
+  result->repeat = prediction.repeat;
+  if (!FindCase(prediction.id, next_index, result)) return LineRead::kNoRecord;
+  chunk->scratch.Clear();
+  chunk->flat.Write(&chunk->scratch);
+  *record = MakeReadCaseRecord(prepared_.suite.cases[result->case_index], prediction.repeat,
+                               prediction.latency_ms, *prepared_.scorer, result->case_index,
+                               std::move(prediction.parsed), std::string(chunk->scratch.text()));
+  return LineRead::kRecord;
+}
+
+PredictionReader::LineRead PredictionReader::ReadGeneral(const Line& line, size_t* next_index,
+                                                         LineResult* result,
+                                                         CaseRecord* record) const {
+  nlohmann::json json;
+  try {
+    json = nlohmann::json::parse(line.text);
+  } catch (const nlohmann::json::parse_error& e) {
+    result->column = static_cast<int>(e.byte);
+    result->message =
+        std::string("not valid JSON (") + e.what() + "); each line must hold one reply object";
+    return LineRead::kNoRecord;
+  }
+  auto id = json.is_object() ? json.find("id") : json.end();
+  if (!json.is_object() || id == json.end() || !id->is_string()) {
+    result->message = "a prediction must be a JSON object with a string \"id\" naming its case";
+    return LineRead::kNoRecord;
+  }
+  if (auto it = json.find("repeat"); it != json.end()) {
+    if (!it->is_number_integer() || it->get<int64_t>() < 0 || it->get<int64_t>() > kMaxRepeat) {
+      result->message = "\"repeat\" must be an integer from 0 to " + std::to_string(kMaxRepeat);
+      return LineRead::kNoRecord;
+    }
+    result->repeat = it->get<int>();
+  }
+  if (!FindCase(id->get_ref<const std::string&>(), next_index, result)) {
+    return LineRead::kNoRecord;
+  }
+  CallResult call;
+  if (auto it = json.find("latency_ms"); it != json.end() && it->is_number()) {
+    call.latency_ms = it->get<double>();
+  }
+  call.body = std::string(line.text);
+  *record = MakeCaseRecord(prepared_.suite.cases[result->case_index], result->repeat, call,
+                           recorded_, *prepared_.scorer, result->case_index, &json);
+  return LineRead::kRecord;
 }
 
 bool PredictionReader::Merge(Chunk& chunk, std::vector<CaseOutcome>* outcomes, int* max_repeat,

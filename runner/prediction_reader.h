@@ -18,6 +18,8 @@
 #include <unordered_set>
 #include <vector>
 
+#include "runner/case_record.h"
+#include "runner/flat_reply.h"
 #include "runner/json_writer.h"
 #include "runner/prepared_suite.h"
 #include "runner/run_journal.h"
@@ -57,8 +59,20 @@ class PredictionReader {
   struct Chunk {
     JsonWriter journal;  // the records of its scored lines, each ending in a newline
     std::vector<LineResult> results;
+    FlatReply flat;      // scratch for ReadFlat
+    JsonWriter scratch;  // scratch for ReadFlat
   };
+  enum class LineRead { kRecord, kNoRecord, kDeclined };
 
+  /// The common flat reply (runner/flat_reply.h) read without a JSON tree; kDeclined leaves the
+  /// line to ReadGeneral. kNoRecord: the line names a case the suite does not have.
+  LineRead ReadFlat(const Line& line, Chunk* chunk, size_t* next_index, LineResult* result,
+                    CaseRecord* record) const;
+  /// Any line, through nlohmann::json; kNoRecord with the problem in *result.
+  LineRead ReadGeneral(const Line& line, size_t* next_index, LineResult* result,
+                       CaseRecord* record) const;
+  /// Sets result->case_index (trying *next_index first), or marks the case unknown.
+  bool FindCase(std::string_view id, size_t* next_index, LineResult* result) const;
   /// Scores one block's lines; safe to call from several threads on disjoint chunks.
   void ScoreChunk(const std::vector<Line>& lines, size_t begin, size_t end, Chunk* chunk) const;
   bool ScoreBlock(const std::vector<Line>& lines, std::vector<CaseOutcome>* outcomes,

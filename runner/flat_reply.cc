@@ -1,0 +1,326 @@
+#include "runner/flat_reply.h"
+
+#include <algorithm>
+#include <charconv>
+
+#include "runner/code_points.h"
+
+namespace plumb {
+namespace {
+
+// A number nlohmann reads as a double may be written with up to this many digits and still be
+// read the same way by std::from_chars (both round correctly; the limit only keeps the
+// accepted forms few and plain).
+constexpr size_t kMaxNumberDigits = 17;
+
+class FlatScanner {
+ public:
+  explicit FlatScanner(std::string_view text) : text_(text) {}
+
+  bool Read(FlatReply* reply) {
+    SkipSpace();
+    if (!Take('{')) return false;
+    SkipSpace();
+    if (Take('}')) return AtEnd();
+    while (true) {
+      std::string_view key;
+      if (!Key(&key)) return false;
+      SkipSpace();
+      if (!Take(':')) return false;
+      SkipSpace();
+      FlatValue value;
+      if (!Value(&value)) return false;
+      reply->members.emplace_back(key, std::move(value));
+      SkipSpace();
+      if (Take(',')) {
+        SkipSpace();
+        continue;
+      }
+      if (!Take('}')) return false;
+      break;
+    }
+    if (!AtEnd()) return false;
+    auto& members = reply->members;
+    std::sort(members.begin(), members.end(),
+              [](const auto& a, const auto& b) { return a.first < b.first; });
+    for (size_t i = 1; i < members.size(); ++i) {
+      if (members[i].first == members[i - 1].first) return false;  // nlohmann keeps the last
+    }
+    return true;
+  }
+
+ private:
+  bool AtEnd() {
+    SkipSpace();
+    return at_ == text_.size();
+  }
+  void SkipSpace() {
+    while (at_ < text_.size() &&
+           (text_[at_] == ' ' || text_[at_] == '\t' || text_[at_] == '\n' || text_[at_] == '\r')) {
+      ++at_;
+    }
+  }
+  bool Take(char c) {
+    if (at_ < text_.size() && text_[at_] == c) {
+      ++at_;
+      return true;
+    }
+    return false;
+  }
+
+  // A key without escapes: the bytes between the quotes, checked as a string's are.
+  bool Key(std::string_view* key) {
+    if (!Take('"')) return false;
+    const size_t start = at_;
+    while (at_ < text_.size() && text_[at_] != '"') {
+      if (text_[at_] == '\\') return false;
+      ++at_;
+    }
+    if (at_ == text_.size()) return false;
+    *key = text_.substr(start, at_ - start);
+    ++at_;
+    return WellFormed(*key);
+  }
+
+  // No control characters, and well-formed UTF-8 (what nlohmann checks as it reads).
+  static bool WellFormed(std::string_view text) {
+    bool ascii = true;
+    for (unsigned char c : text) {
+      if (c < 0x20) return false;
+      ascii = ascii && c < 0x80;
+    }
+    size_t bad = 0;
+    return ascii || IsValidUtf8(text, &bad);
+  }
+
+  bool Value(FlatValue* value) {
+    if (at_ >= text_.size()) return false;
+    switch (text_[at_]) {
+      case '"':
+        value->kind = FlatValue::Kind::kString;
+        return String(&value->text);
+      case 't':
+        value->kind = FlatValue::Kind::kTrue;
+        return Word("true");
+      case 'f':
+        value->kind = FlatValue::Kind::kFalse;
+        return Word("false");
+      case 'n':
+        value->kind = FlatValue::Kind::kNull;
+        return Word("null");
+      default:
+        return Number(value);
+    }
+  }
+
+  bool Word(std::string_view word) {
+    if (text_.substr(at_, word.size()) != word) return false;
+    at_ += word.size();
+    return true;
+  }
+
+  static int HexDigit(char c) {
+    if (c >= '0' && c <= '9') return c - '0';
+    if (c >= 'a' && c <= 'f') return c - 'a' + 10;
+    if (c >= 'A' && c <= 'F') return c - 'A' + 10;
+    return -1;
+  }
+
+  bool Hex4(uint32_t* out) {
+    if (at_ + 4 > text_.size()) return false;
+    uint32_t v = 0;
+    for (int i = 0; i < 4; ++i) {
+      const int d = HexDigit(text_[at_ + i]);
+      if (d < 0) return false;
+      v = v * 16 + static_cast<uint32_t>(d);
+    }
+    at_ += 4;
+    *out = v;
+    return true;
+  }
+
+  // RFC 8259 §7: runs of plain bytes are copied whole; escapes decoded; a surrogate must come
+  // in a pair. The raw bytes must be well-formed UTF-8 without controls.
+  bool String(std::string* out) {
+    ++at_;  // the opening quote
+    size_t run = at_;
+    while (true) {
+      while (at_ < text_.size() && text_[at_] != '"' && text_[at_] != '\\') ++at_;
+      if (at_ >= text_.size()) return false;
+      const std::string_view plain = text_.substr(run, at_ - run);
+      if (!WellFormed(plain)) return false;
+      out->append(plain);
+      if (text_[at_] == '"') {
+        ++at_;
+        return true;
+      }
+      ++at_;  // the backslash
+      if (at_ >= text_.size()) return false;
+      const char e = text_[at_++];
+      switch (e) {
+        case '"':
+        case '\\':
+        case '/':
+          out->push_back(e);
+          break;
+        case 'b':
+          out->push_back('\b');
+          break;
+        case 'f':
+          out->push_back('\f');
+          break;
+        case 'n':
+          out->push_back('\n');
+          break;
+        case 'r':
+          out->push_back('\r');
+          break;
+        case 't':
+          out->push_back('\t');
+          break;
+        case 'u': {
+          uint32_t cp;
+          if (!Hex4(&cp)) return false;
+          if (cp >= 0xDC00 && cp <= 0xDFFF) return false;  // a low surrogate first
+          if (cp >= 0xD800 && cp <= 0xDBFF) {
+            uint32_t low;
+            if (!Take('\\') || !Take('u') || !Hex4(&low) || low < 0xDC00 || low > 0xDFFF) {
+              return false;
+            }
+            cp = 0x10000 + ((cp - 0xD800) << 10) + (low - 0xDC00);
+          }
+          AppendUtf8(static_cast<char32_t>(cp), out);
+          break;
+        }
+        default:
+          return false;
+      }
+      run = at_;
+    }
+  }
+
+  // -?(0|[1-9][0-9]*)(\.[0-9]+)? with no more than kMaxNumberDigits digits; no exponent.
+  bool Number(FlatValue* value) {
+    const size_t start = at_;
+    Take('-');
+    const size_t int_start = at_;
+    while (at_ < text_.size() && text_[at_] >= '0' && text_[at_] <= '9') ++at_;
+    const size_t int_digits = at_ - int_start;
+    if (int_digits == 0 || (int_digits > 1 && text_[int_start] == '0')) return false;
+    size_t frac_digits = 0;
+    bool fraction = false;
+    if (Take('.')) {
+      fraction = true;
+      const size_t frac_start = at_;
+      while (at_ < text_.size() && text_[at_] >= '0' && text_[at_] <= '9') ++at_;
+      frac_digits = at_ - frac_start;
+      if (frac_digits == 0) return false;
+    }
+    if (at_ < text_.size() && (text_[at_] == 'e' || text_[at_] == 'E')) return false;
+    if (int_digits + frac_digits > kMaxNumberDigits) return false;
+    const char* first = text_.data() + start;
+    const char* last = text_.data() + at_;
+    if (!fraction) {
+      value->kind = FlatValue::Kind::kInteger;
+      return std::from_chars(first, last, value->integer).ec == std::errc();
+    }
+    value->kind = FlatValue::Kind::kDouble;
+    return std::from_chars(first, last, value->number).ec == std::errc();
+  }
+
+  std::string_view text_;
+  size_t at_ = 0;
+};
+
+}  // namespace
+
+const FlatValue* FlatReply::Find(std::string_view key) const {
+  for (const auto& [name, value] : members) {
+    if (name == key) return &value;
+  }
+  return nullptr;
+}
+
+void FlatReply::Write(JsonWriter* out) const {
+  JsonWriter& w = *out;
+  w.BeginObject();
+  for (const auto& [key, value] : members) {
+    w.Key(key);
+    switch (value.kind) {
+      case FlatValue::Kind::kString:
+        w.String(value.text);
+        break;
+      case FlatValue::Kind::kInteger:
+        w.Int(value.integer);
+        break;
+      case FlatValue::Kind::kDouble:
+        w.Double(value.number);
+        break;
+      case FlatValue::Kind::kTrue:
+        w.Bool(true);
+        break;
+      case FlatValue::Kind::kFalse:
+        w.Bool(false);
+        break;
+      case FlatValue::Kind::kNull:
+        w.Null();
+        break;
+    }
+  }
+  w.EndObject();
+}
+
+bool ReadFlatReply(std::string_view line, FlatReply* reply) {
+  reply->members.clear();
+  FlatScanner scanner(line);
+  return scanner.Read(reply);
+}
+
+}  // namespace plumb
+
+namespace plumb {
+
+bool ReadFlatPrediction(std::string_view line, int64_t max_repeat, FlatReply* reply,
+                        FlatPrediction* out) {
+  using Kind = FlatValue::Kind;
+  if (!ReadFlatReply(line, reply)) return false;
+  const FlatValue* id = reply->Find("id");
+  if (id == nullptr || id->kind != Kind::kString) return false;
+  out->id = id->text;
+  out->repeat = 0;
+  if (const FlatValue* repeat = reply->Find("repeat")) {
+    if (repeat->kind != Kind::kInteger || repeat->integer < 0 || repeat->integer > max_repeat) {
+      return false;
+    }
+    out->repeat = static_cast<int>(repeat->integer);
+  }
+  if (reply->Find("citations") != nullptr || reply->Find("retrieved") != nullptr ||
+      reply->Find("usage") != nullptr) {
+    return false;
+  }
+  out->parsed = Response();
+  const FlatValue* answer = reply->Find("answer");
+  if (answer == nullptr) return false;
+  if (answer->kind == Kind::kString) {
+    out->parsed.answer = answer->text;
+  } else if (answer->kind != Kind::kNull) {
+    return false;
+  }
+  out->parsed.abstained = !out->parsed.answer.has_value();
+  if (const FlatValue* abstained = reply->Find("abstained")) {
+    if (abstained->kind == Kind::kTrue) {
+      out->parsed.abstained = true;
+      out->parsed.answer.reset();
+    } else if (abstained->kind != Kind::kFalse && abstained->kind != Kind::kNull) {
+      return false;
+    }
+  }
+  out->latency_ms = 0;
+  if (const FlatValue* latency = reply->Find("latency_ms")) {
+    if (latency->kind == Kind::kInteger) out->latency_ms = static_cast<double>(latency->integer);
+    if (latency->kind == Kind::kDouble) out->latency_ms = latency->number;
+  }
+  return true;
+}
+
+}  // namespace plumb
