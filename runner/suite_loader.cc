@@ -381,6 +381,7 @@ class SuiteLoader {
     // over the lines that gave no case afterwards, as the ids are registered in file order.
     const size_t base = suite_->cases.size();
     suite_->cases.resize(base + lines.size());
+    case_ids_.reserve(case_ids_.size() + lines.size());
     std::vector<CaseId> ids(lines.size());
     std::vector<char> added(lines.size(), 0);
     struct Chunk {

@@ -167,6 +167,15 @@ TEST_CASE("UTF-8 validation follows RFC 3629") {
   CHECK(bad == 2);
   CHECK_FALSE(IsValidUtf8("abc\xE2\x80", &bad));  // truncated
   CHECK(bad == 3);
+  // ASCII is skipped eight bytes at a time: a bad byte at every offset past such runs, and
+  // good multi-byte text between them, keep their offsets.
+  for (size_t at = 0; at < 40; ++at) {
+    std::string text = std::string(at, 'x') + "\xC3\xA9" + std::string(11, 'y');
+    CHECK(IsValidUtf8(text, &bad));
+    text[at + 1] = 'z';  // é's second byte replaced: the lead byte at `at` is now ill-formed
+    CHECK_FALSE(IsValidUtf8(text, &bad));
+    CHECK(bad == at);
+  }
 }
 
 TEST_CASE("the fingerprint covers every regular file and changes with an edit") {
