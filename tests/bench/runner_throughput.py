@@ -6,7 +6,8 @@ changes). Targets from the runner issue:
   - run: a persistent pipeline that answers at once passes >= 10,000 cases/s with --jobs 2,
     journal included;
   - score: well over 10x faster than a Python implementation of the published SQuAD evaluation
-    (normalize_answer + f1/EM, transcribed in SQUAD_EVAL_PROGRAM below, from memory);
+    (normalize_answer + f1/EM, transcribed in SQUAD_EVAL_PROGRAM below, from memory), timed on
+    SQuAD-shaped short answers and on the longer replies of a generating pipeline;
   - memory grows with the number of cases, not with reply sizes (peak RSS with 1 KiB vs 256 KiB
     answers).
 
@@ -29,28 +30,40 @@ WORDS = ("ferry boarding closes ten minutes before departure the a an vehicle de
          "return ticket island pier harbour crossing weather cancelled refund").split()
 
 
-def make_suite(directory, cases, pipeline_cmd):
-    cases_path = os.path.join(directory, "cases.jsonl")
+# Two answer shapes: SQuAD's (gold answers of 4 words, replies of 4), and a generating
+# pipeline's (gold answers of 12 words, replies of 30). Invented word salad, for timing only.
+SHAPES = {"short": (4, 4), "generated": (12, 30)}
+
+
+def case_words(i, n):
+    return [WORDS[(i * 7 + k) % len(WORDS)] for k in range(n)]
+
+
+def make_suite(directory, cases, pipeline_cmd, shape="short"):
+    gold_words = SHAPES[shape][0]
+    cases_path = os.path.join(directory, f"cases-{shape}.jsonl")
     with open(cases_path, "w") as f:
         for i in range(cases):
-            words = [WORDS[(i * 7 + k) % len(WORDS)] for k in range(8)]
-            f.write(json.dumps({"id": f"c{i}", "question": " ".join(words),
-                                "answers": [" ".join(words[:4]), " ".join(words[2:6])],
+            words = case_words(i, gold_words + 8)
+            f.write(json.dumps({"id": f"c{i}", "question": " ".join(words[:8]),
+                                "answers": [" ".join(words[:gold_words]),
+                                            " ".join(words[2:2 + gold_words])],
                                 "tags": [f"t{i % 5}"]}) + "\n")
-    suite_path = os.path.join(directory, "bench.yaml")
+    suite_path = os.path.join(directory, f"bench-{shape}.yaml")
     with open(suite_path, "w") as f:
-        f.write("plumb: 1\nname: bench\ninclude: [cases.jsonl]\npipelines:\n  echo:\n")
+        f.write(f"plumb: 1\nname: bench\ninclude: [cases-{shape}.jsonl]\npipelines:\n  echo:\n")
         f.write("    command: [" + ", ".join(json.dumps(c) for c in pipeline_cmd) + "]\n")
         f.write("    mode: persistent\n    timeout: 30s\ncases: []\n")
     return suite_path
 
 
-def make_predictions(directory, cases, answer_bytes):
-    path = os.path.join(directory, f"pred-{answer_bytes}.jsonl")
+def make_predictions(directory, cases, answer_bytes, shape="short"):
+    reply_words = SHAPES[shape][1]
+    path = os.path.join(directory, f"pred-{shape}-{answer_bytes}.jsonl")
     with open(path, "w") as f:
         for i in range(cases):
-            words = [WORDS[(i * 7 + k) % len(WORDS)] for k in range(8)]
-            answer = " ".join(words[1:5])
+            words = case_words(i, reply_words + 1)
+            answer = " ".join(words[1:1 + reply_words])
             if answer_bytes > len(answer):
                 answer += " " + "x" * (answer_bytes - len(answer) - 1)
             f.write(json.dumps({"id": f"c{i}", "answer": answer}) + "\n")
@@ -137,21 +150,32 @@ def main():
               f"({args.cases / median:,.0f} cases/s, whole process incl. suite load), "
               f"journal lines {lines}; runs {', '.join(f'{w:.2f}' for w in walls)}")
 
-        pred = make_predictions(tmp, args.cases, 0)
-        walls = [timed([plumb, "score", suite, pred, "--out", os.path.join(tmp, "s0")])[0]
-                 for _ in range(args.repeats)]
-        plumb_median = statistics.median(walls)
         program = os.path.join(tmp, "squad_eval.py")
         with open(program, "w") as f:
             f.write(SQUAD_EVAL_PROGRAM)
-        cases_path = os.path.join(tmp, "cases.jsonl")
-        py = [timed(["/usr/bin/python3", program, cases_path, pred])[0]
-              for _ in range(args.repeats)]
-        py_median = statistics.median(py)
-        print(f"score {args.cases} cases, whole process each: plumb median {plumb_median:.3f}s "
-              f"(load + validate suite, score, journal, run.json, 95% intervals per metric and "
-              f"tag), Python SQuAD evaluation median {py_median:.3f}s (EM/F1 only): "
-              f"{py_median / plumb_median:.1f}x")
+        for shape in SHAPES:
+            shape_suite = make_suite(tmp, args.cases, [echo], shape)
+            pred = make_predictions(tmp, args.cases, 0, shape)
+            plumb_cmd = [plumb, "score", shape_suite, pred, "--out", os.path.join(tmp, "s0")]
+            python_cmd = ["/usr/bin/python3", program,
+                          os.path.join(tmp, f"cases-{shape}.jsonl"), pred]
+            # In alternation, one of each per round, so a change in the machine's speed (it is
+            # shared) touches both sides of a ratio alike; the ratio is taken round by round.
+            timed(plumb_cmd)
+            timed(python_cmd)  # warm-up: file cache, interpreter
+            plumb_walls, python_walls = [], []
+            for _ in range(args.repeats):
+                plumb_walls.append(timed(plumb_cmd)[0])
+                python_walls.append(timed(python_cmd)[0])
+            ratios = sorted(p / q for p, q in zip(python_walls, plumb_walls))
+            gold, reply = SHAPES[shape]
+            print(f"score {args.cases} cases, {shape} answers (gold {gold} words, replies {reply}), "
+                  f"{args.repeats} rounds in alternation: plumb median "
+                  f"{statistics.median(plumb_walls):.3f}s (load + validate suite, score, journal, "
+                  f"run.json, 95% intervals per metric and tag), Python SQuAD evaluation median "
+                  f"{statistics.median(python_walls):.3f}s (EM/F1 only); Python/plumb per round: "
+                  f"median {statistics.median(ratios):.1f}x, range {ratios[0]:.1f}x to "
+                  f"{ratios[-1]:.1f}x")
 
         small = peak_rss_kib([plumb, "score", suite, make_predictions(tmp, args.cases, 1024),
                               "--out", os.path.join(tmp, "s1")])
