@@ -35,6 +35,10 @@ struct CurlLibrary {
   decltype(&::curl_slist_free_all) slist_free_all;
 };
 
+/// Opens the shared library `soname` and fills *out with its entry points; false with *error
+/// naming the library and what to install. LoadCurlLibrary's first step.
+bool OpenCurlLibrary(const char* soname, CurlLibrary* out, std::string* error);
+
 /// Loads libcurl.so.4 and runs curl_global_init, once per process (thread-safe). Returns null
 /// with *error saying which library is missing and what to install when it cannot be loaded;
 /// later calls give the same answer.
