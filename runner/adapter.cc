@@ -8,8 +8,8 @@ std::string PipelineRequest::RequestLine(const std::string& id, const std::strin
                                          const nlohmann::json& input, int repeat) {
   JsonWriter w;
   // Keys in the order ToJson() would print them (sorted), so the wire form did not change.
-  w.BeginObject().Member("id", id).Key("input").Value(input).Member("question", question);
-  w.Member("repeat", repeat).EndObject();
+  w.BeginObject().PlainKey("id").String(id).PlainKey("input").Value(input);
+  w.PlainKey("question").String(question).PlainKey("repeat").Int(repeat).EndObject();
   return w.Take();
 }
 

@@ -9,10 +9,10 @@ namespace {
 void WriteRefs(JsonWriter* w, const std::vector<SourceRef>& refs) {
   w->BeginArray();
   for (const SourceRef& ref : refs) {
-    w->BeginObject().Member("doc", ref.doc);
-    if (ref.start) w->Member("start", *ref.start);
-    if (ref.end) w->Member("end", *ref.end);
-    if (ref.quote) w->Member("quote", *ref.quote);
+    w->BeginObject().PlainKey("doc").String(ref.doc);
+    if (ref.start) w->PlainKey("start").Int(*ref.start);
+    if (ref.end) w->PlainKey("end").Int(*ref.end);
+    if (ref.quote) w->PlainKey("quote").String(*ref.quote);
     w->EndObject();
   }
   w->EndArray();
@@ -35,47 +35,60 @@ std::string CaseRecordLine(const CaseRecord& r) {
 
 void WriteCaseRecord(const CaseRecord& r, JsonWriter* out) {
   JsonWriter& w = *out;
-  w.BeginObject().Member("id", r.id).Member("repeat", r.repeat).Key("request").Raw(r.request);
-  w.Key("response");
+  w.BeginObject()
+      .PlainKey("id")
+      .String(r.id)
+      .PlainKey("repeat")
+      .Int(r.repeat)
+      .PlainKey("request")
+      .Raw(r.request);
+  w.PlainKey("response");
   if (r.response_json.empty()) {
     w.Value(r.response);
   } else {
     w.Raw(r.response_json);
   }
-  w.Member("latency_ms", r.latency_ms).Member("attempts", r.attempts);
+  w.PlainKey("latency_ms").Double(r.latency_ms).PlainKey("attempts").Int(r.attempts);
   if (r.error.empty()) {
-    w.Key("answer");
+    w.PlainKey("answer");
     if (r.parsed.answer) {
       w.String(*r.parsed.answer);
     } else {
       w.Null();
     }
-    w.Member("abstained", r.parsed.abstained).Key("citations");
+    w.PlainKey("abstained").Bool(r.parsed.abstained).PlainKey("citations");
     WriteRefs(&w, r.parsed.citations);
-    w.Key("retrieved");
+    w.PlainKey("retrieved");
     if (r.parsed.has_retrieved) {
       WriteRefs(&w, r.parsed.retrieved);
     } else {
       w.Null();
     }
-    w.Key("usage").BeginObject();
-    if (r.parsed.input_tokens) w.Member("input_tokens", *r.parsed.input_tokens);
-    if (r.parsed.output_tokens) w.Member("output_tokens", *r.parsed.output_tokens);
-    w.EndObject().Key("error").Null();
+    w.PlainKey("usage").BeginObject();
+    if (r.parsed.input_tokens) w.PlainKey("input_tokens").Int(*r.parsed.input_tokens);
+    if (r.parsed.output_tokens) w.PlainKey("output_tokens").Int(*r.parsed.output_tokens);
+    w.EndObject().PlainKey("error").Null();
   } else {
-    w.Key("answer").Null().Member("abstained", false);
-    w.Key("citations").BeginArray().EndArray().Key("retrieved").Null();
-    w.Key("usage").BeginObject().EndObject();
-    w.Key("error")
+    w.PlainKey("answer").Null().PlainKey("abstained").Bool(false);
+    w.PlainKey("citations").BeginArray().EndArray().PlainKey("retrieved").Null();
+    w.PlainKey("usage").BeginObject().EndObject();
+    w.PlainKey("error")
         .BeginObject()
-        .Member("reason", r.error)
-        .Member("stdout", r.stdout_excerpt)
-        .Member("stderr", r.stderr_excerpt)
+        .PlainKey("reason")
+        .String(r.error)
+        .PlainKey("stdout")
+        .String(r.stdout_excerpt)
+        .PlainKey("stderr")
+        .String(r.stderr_excerpt)
         .EndObject();
   }
-  w.Key("scores").BeginObject();
+  w.PlainKey("scores").BeginObject();
   for (const auto& [metric, value] : r.scores.values) w.Member(metric, value);
-  w.EndObject().Member("pass", r.scores.pass).Member("abstained_scored", r.scores.abstained);
+  w.EndObject()
+      .PlainKey("pass")
+      .Bool(r.scores.pass)
+      .PlainKey("abstained_scored")
+      .Bool(r.scores.abstained);
   if (!r.scores.warnings.empty()) w.Member("warnings", r.scores.warnings);
   w.EndObject();
 }

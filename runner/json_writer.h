@@ -62,12 +62,18 @@ class JsonWriter {
   JsonWriter& EndArray();
   /// The next member's name; its value follows.
   JsonWriter& Key(std::string_view key);
+  /// Key() for a name spelled in the source, of ASCII letters, digits and '_' (checked by assert
+  /// in debug builds): written without looking for bytes to escape. The hot record writers use
+  /// it for their fixed member names.
+  JsonWriter& PlainKey(std::string_view key);
 
   JsonWriter& String(std::string_view text);
   JsonWriter& Int(int64_t value);
   JsonWriter& Double(double value);
   JsonWriter& Bool(bool value);
   JsonWriter& Null();
+  /// An array of strings.
+  JsonWriter& StringArray(const std::vector<std::string>& texts);
   /// A whole nlohmann value, laid out with this writer's indentation (its object keys in
   /// nlohmann's sorted order).
   JsonWriter& Value(const nlohmann::json& value);

@@ -34,25 +34,34 @@ bool WriteRunRecordCases(const RunContext& ctx, const std::function<bool(std::st
   w.Reserve(2 * kPieceBytes);
   for (size_t index : ctx.selected) {
     const Case& c = suite.cases[index];
-    w.Key(c.id).BeginObject().Member("gold_hash", c.gold_hash).Member("question", c.question);
-    w.Member("answers", c.answers).Member("patterns", c.patterns).Member("tags", c.tags);
-    w.Key("sources").BeginArray();
+    w.Key(c.id).BeginObject();
+    w.PlainKey("gold_hash").String(c.gold_hash).PlainKey("question").String(c.question);
+    w.PlainKey("answers").StringArray(c.answers).PlainKey("patterns").StringArray(c.patterns);
+    w.PlainKey("tags").StringArray(c.tags).PlainKey("sources").BeginArray();
     for (const GoldSpan& span : c.sources) {
       w.BeginObject()
-          .Member("doc", span.doc)
-          .Member("start", span.start)
-          .Member("end", span.end)
-          .Member("text", span.text)
-          .Member("text_sha256", Sha256Hex(span.text))
+          .PlainKey("doc")
+          .String(span.doc)
+          .PlainKey("start")
+          .Int(span.start)
+          .PlainKey("end")
+          .Int(span.end)
+          .PlainKey("text")
+          .String(span.text)
+          .PlainKey("text_sha256")
+          .String(Sha256Hex(span.text))
           .EndObject();
     }
-    w.EndArray().Member("line", c.pos.line);
+    w.EndArray().PlainKey("line").Int(c.pos.line);
     if (c.number) {
-      w.Key("number")
+      w.PlainKey("number")
           .BeginObject()
-          .Member("value", c.number->value)
-          .Member("tolerance", c.number->tolerance)
-          .Member("unit", c.number->unit)
+          .PlainKey("value")
+          .Double(c.number->value)
+          .PlainKey("tolerance")
+          .Double(c.number->tolerance)
+          .PlainKey("unit")
+          .String(c.number->unit)
           .EndObject();
     }
     w.EndObject();

@@ -7,11 +7,10 @@
 
 #include <cstdint>
 #include <map>
+#include <nlohmann/json.hpp>
 #include <optional>
 #include <string>
 #include <vector>
-
-#include <nlohmann/json.hpp>
 
 #include "metrics/normalize.h"
 #include "metrics/offset_units.h"
@@ -39,7 +38,7 @@ struct NumberGold {
 struct Case {
   std::string id;
   std::string question;
-  std::vector<std::string> answers;  // empty: the pipeline must abstain
+  std::vector<std::string> answers;   // empty: the pipeline must abstain
   std::vector<std::string> patterns;  // RE2 syntax, validated by the loader
   std::optional<NumberGold> number;
   std::vector<GoldSpan> sources;
@@ -76,7 +75,7 @@ struct PipelineConfig {
   std::optional<ExpandedString> url;
   std::string method = "POST";
   std::map<std::string, ExpandedString> headers;
-  nlohmann::json body;                       // template; {{...}} substituted per request
+  nlohmann::json body;  // template; {{...}} substituted per request
   // response field -> RFC 6901 pointer; keys answer, abstained, citations, retrieved, usage,
   // and fields.doc / fields.start / fields.end / fields.quote for renamed citation fields.
   std::map<std::string, std::string> map;
@@ -99,8 +98,8 @@ struct PipelineConfig {
 };
 
 struct Thresholds {
-  std::map<std::string, double> metrics;                          // metric id -> floor
-  std::map<std::string, std::map<std::string, double>> tags;      // tag -> metric id -> floor
+  std::map<std::string, double> metrics;                      // metric id -> floor
+  std::map<std::string, std::map<std::string, double>> tags;  // tag -> metric id -> floor
 };
 
 struct Suite {
