@@ -1,6 +1,7 @@
 // `plumb run` and `plumb score` end to end, as a user runs them: the real executable, real
 // pipeline processes (fixtures/test-pipelines) and the exit codes of SPEC §8. A pipeline that
 // crashes, hangs, prints garbage or floods its output costs one case each, never the run.
+#include <sched.h>
 #include <signal.h>
 #include <sys/stat.h>
 
@@ -339,4 +340,49 @@ TEST_CASE("plumb score keeps file order when the replies are scored in blocks on
   CHECK(first < second);
   CHECK(second < third);
   CHECK(b.err.find("3 problems in") != std::string::npos);
+}
+
+TEST_CASE("plumb score writes the same run on one CPU as on all of them") {
+  // Loading, hashing and scoring are split over the CPUs the process may use (its affinity,
+  // which a child inherits); the run must not depend on how many. 6,000 cases: several chunks.
+  const int n = 6000;
+  const std::string dir = MakeTempDir();
+  std::string cases, replies;
+  for (int i = 0; i < n; ++i) {
+    const std::string id = "c" + std::to_string(i);
+    cases += "{\"id\": \"" + id + "\", \"question\": \"q\", \"answers\": [\"w" + std::to_string(i) +
+             " x\"], \"tags\": [\"t" + std::to_string(i % 3) + "\"]}\n";
+    replies += "{\"id\": \"" + id + "\", \"answer\": \"w" + std::to_string(i % 7 == 0 ? i : i + 1) +
+               (i % 5 == 0 ? "\", \"citations\": []}\n" : "\"}\n");
+  }
+  WriteFile(dir + "/cases.jsonl", cases);
+  WriteFile(dir + "/pred.jsonl", replies);
+  WriteFile(dir + "/s.yaml", "plumb: 1\nname: cpus\ninclude: [cases.jsonl]\ncases: []\n");
+  cpu_set_t all;
+  REQUIRE(sched_getaffinity(0, sizeof all, &all) == 0);
+  cpu_set_t one;
+  CPU_ZERO(&one);
+  for (int cpu = 0; cpu < CPU_SETSIZE; ++cpu) {
+    if (CPU_ISSET(cpu, &all)) {
+      CPU_SET(cpu, &one);
+      break;
+    }
+  }
+  REQUIRE(sched_setaffinity(0, sizeof one, &one) == 0);
+  const Result single =
+      Plumb({"score", dir + "/s.yaml", dir + "/pred.jsonl", "--out", dir + "/one"}, dir);
+  REQUIRE(sched_setaffinity(0, sizeof all, &all) == 0);
+  const Result many =
+      Plumb({"score", dir + "/s.yaml", dir + "/pred.jsonl", "--out", dir + "/all"}, dir);
+  INFO(single.err << many.err);
+  REQUIRE(single.code == many.code);
+  CHECK(ReadFile(dir + "/one/cases.jsonl") == ReadFile(dir + "/all/cases.jsonl"));
+  nlohmann::json a = nlohmann::json::parse(ReadFile(dir + "/one/run.json"));
+  nlohmann::json b = nlohmann::json::parse(ReadFile(dir + "/all/run.json"));
+  for (nlohmann::json* run : {&a, &b}) {
+    run->erase("started_at");
+    run->erase("finished_at");
+  }
+  CHECK(a == b);
+  CHECK(a["aggregates"]["items"] == n);
 }
