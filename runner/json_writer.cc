@@ -309,16 +309,6 @@ JsonWriter& JsonWriter::MarkFilled() {
   return *this;
 }
 
-JsonWriter& JsonWriter::Members(std::string_view members) {
-  assert(!levels_.empty() && !after_key_);
-  if (members.empty()) return *this;
-  char& empty = levels_.Back();
-  if (!empty) PutChar(',');
-  empty = 0;
-  Put(members);
-  return *this;
-}
-
 JsonWriter& JsonWriter::StringArray(const std::vector<std::string>& texts) {
   BeginArray();
   for (const std::string& text : texts) String(text);

@@ -32,9 +32,10 @@ namespace plumb {
 class JsonWriter {
  public:
   explicit JsonWriter(int indent = -1) : indent_(indent) {}
-  /// A writer for members that go inside `depth` open objects of another writer with the same
-  /// indent (see Members): parts of one document written on several threads. It starts in an
-  /// empty object at that depth; write Key and value pairs only, and close nothing.
+  /// A writer for a part of a document that goes inside `depth` open objects of another writer
+  /// with the same indent: parts of one document written apart (run.json's case entries) and
+  /// put together by concatenation. It starts in an empty object at that depth; MarkFilled
+  /// tells it that members came before.
   JsonWriter(int indent, size_t depth) : indent_(indent), levels_(depth) {}
 
   /// The text written so far; the writer starts again empty.
@@ -79,9 +80,6 @@ class JsonWriter {
   JsonWriter& Value(const nlohmann::json& value);
   /// Text that is already one complete JSON value (not checked), copied as it is.
   JsonWriter& Raw(std::string_view json);
-  /// Members written by a JsonWriter(indent, depth) whose depth is this writer's current one,
-  /// placed after the members written so far. Empty text adds nothing.
-  JsonWriter& Members(std::string_view members);
 
   /// Key(key) followed by the value: shorthands for the common member forms.
   JsonWriter& Member(std::string_view key, std::string_view text) { return Key(key).String(text); }

@@ -159,28 +159,28 @@ TEST_CASE("json writer grows its buffer across many pieces and starts again afte
 namespace plumb {
 namespace {
 
-TEST_CASE("json writer members written apart read as if written in one writer", "[json_writer]") {
-  // The oracle is nlohmann's dump() of the whole object, as for the trees above: an object at
-  // depth 2 whose members come from the main writer and from two part writers, one of them
-  // empty, in compact and indented layouts.
-  const nlohmann::json inner = {
-      {"a", 1}, {"b", {1, 2}}, {"c", "x"}, {"d", nlohmann::json::object()}};
+TEST_CASE("json writer parts written apart read as if written in one writer", "[json_writer]") {
+  // As run.json is written: a head that opens an inner object, its members from a part
+  // writer JsonWriter(indent, 2), and a tail writer that closes it (MarkFilled when members were
+  // written) and goes on at the outer level. The oracle is nlohmann's dump() of the whole, in
+  // compact and indented layouts, with members and without.
   for (int indent : {-1, 2}) {
-    JsonWriter part1(indent, 2), empty(indent, 2), part2(indent, 2);
-    part1.Key("b").Value(inner["b"]).Key("c").Value(inner["c"]);
-    part2.Key("d").Value(inner["d"]);
-    JsonWriter w(indent);
-    w.BeginObject().Key("outer").BeginObject().Key("a").Value(inner["a"]);
-    w.Members(part1.Take()).Members(empty.Take()).Members(part2.Take());
-    w.EndObject().EndObject();
-    CHECK(w.Take() == nlohmann::json{{"outer", inner}}.dump(indent));
-    // The first members may come from a part writer too.
-    JsonWriter first(indent, 2);
-    first.Key("a").Value(inner["a"]).Key("b").Value(inner["b"]);
-    JsonWriter w2(indent);
-    w2.BeginObject().Key("outer").BeginObject().Members(first.Take()).Key("c").Value(inner["c"]);
-    w2.Key("d").Value(inner["d"]).EndObject().EndObject();
-    CHECK(w2.Take() == nlohmann::json{{"outer", inner}}.dump(indent));
+    for (bool with_members : {true, false}) {
+      nlohmann::json whole = {{"a", 1}, {"cases", nlohmann::json::object()}, {"z", "end"}};
+      JsonWriter head(indent);
+      head.BeginObject().Key("a").Int(1).Key("cases").BeginObject();
+      JsonWriter part(indent, 2);
+      if (with_members) {
+        part.Key("c1").BeginObject().Key("q").String("x").EndObject();
+        part.Key("c2").StringArray({"p", "q"});
+        whole["cases"] = {{"c1", {{"q", "x"}}}, {"c2", {"p", "q"}}};
+      }
+      JsonWriter tail(indent, 2);
+      if (with_members) tail.MarkFilled();
+      tail.EndObject().MarkFilled().Key("z").String("end").EndObject();
+      INFO("indent " << indent << ", members " << with_members);
+      CHECK(head.Take() + part.Take() + tail.Take() == whole.dump(indent));
+    }
   }
 }
 
