@@ -17,7 +17,7 @@ namespace plumb {
 
 struct LoadedRun {
   std::string dir;
-  nlohmann::json record;              // run.json as written by BuildRunRecord
+  nlohmann::json record;              // run.json as FinishRun writes it (runner/run_record.h)
   std::vector<CaseRecord> records;    // journal order
   std::vector<std::string> warnings;  // e.g. a torn last journal line
 
