@@ -4,6 +4,7 @@
 #include <charconv>
 
 #include "runner/code_points.h"
+#include "runner/json_string.h"
 
 namespace plumb {
 namespace {
@@ -98,7 +99,7 @@ class FlatScanner {
     switch (text_[at_]) {
       case '"':
         value->kind = FlatValue::Kind::kString;
-        return String(&value->text);
+        return ReadJsonString(text_, &at_, &value->text, nullptr);
       case 't':
         value->kind = FlatValue::Kind::kTrue;
         return Word("true");
@@ -117,86 +118,6 @@ class FlatScanner {
     if (text_.substr(at_, word.size()) != word) return false;
     at_ += word.size();
     return true;
-  }
-
-  static int HexDigit(char c) {
-    if (c >= '0' && c <= '9') return c - '0';
-    if (c >= 'a' && c <= 'f') return c - 'a' + 10;
-    if (c >= 'A' && c <= 'F') return c - 'A' + 10;
-    return -1;
-  }
-
-  bool Hex4(uint32_t* out) {
-    if (at_ + 4 > text_.size()) return false;
-    uint32_t v = 0;
-    for (int i = 0; i < 4; ++i) {
-      const int d = HexDigit(text_[at_ + i]);
-      if (d < 0) return false;
-      v = v * 16 + static_cast<uint32_t>(d);
-    }
-    at_ += 4;
-    *out = v;
-    return true;
-  }
-
-  // RFC 8259 §7: runs of plain bytes are copied whole; escapes decoded; a surrogate must come
-  // in a pair. The raw bytes must be well-formed UTF-8 without controls.
-  bool String(std::string* out) {
-    ++at_;  // the opening quote
-    size_t run = at_;
-    while (true) {
-      while (at_ < text_.size() && text_[at_] != '"' && text_[at_] != '\\') ++at_;
-      if (at_ >= text_.size()) return false;
-      const std::string_view plain = text_.substr(run, at_ - run);
-      if (!WellFormed(plain)) return false;
-      out->append(plain);
-      if (text_[at_] == '"') {
-        ++at_;
-        return true;
-      }
-      ++at_;  // the backslash
-      if (at_ >= text_.size()) return false;
-      const char e = text_[at_++];
-      switch (e) {
-        case '"':
-        case '\\':
-        case '/':
-          out->push_back(e);
-          break;
-        case 'b':
-          out->push_back('\b');
-          break;
-        case 'f':
-          out->push_back('\f');
-          break;
-        case 'n':
-          out->push_back('\n');
-          break;
-        case 'r':
-          out->push_back('\r');
-          break;
-        case 't':
-          out->push_back('\t');
-          break;
-        case 'u': {
-          uint32_t cp;
-          if (!Hex4(&cp)) return false;
-          if (cp >= 0xDC00 && cp <= 0xDFFF) return false;  // a low surrogate first
-          if (cp >= 0xD800 && cp <= 0xDBFF) {
-            uint32_t low;
-            if (!Take('\\') || !Take('u') || !Hex4(&low) || low < 0xDC00 || low > 0xDFFF) {
-              return false;
-            }
-            cp = 0x10000 + ((cp - 0xD800) << 10) + (low - 0xDC00);
-          }
-          AppendUtf8(static_cast<char32_t>(cp), out);
-          break;
-        }
-        default:
-          return false;
-      }
-      run = at_;
-    }
   }
 
   // -?(0|[1-9][0-9]*)(\.[0-9]+)? with no more than kMaxNumberDigits digits; no exponent.

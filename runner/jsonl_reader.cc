@@ -8,6 +8,7 @@
 #include <utility>
 
 #include "runner/code_points.h"
+#include "runner/json_string.h"
 
 namespace plumb {
 namespace {
@@ -92,7 +93,7 @@ class PositionedScanner {
       case '"':
         out->kind = SourceNode::Kind::kScalar;
         out->quoted = true;
-        return String(&out->scalar);
+        return ReadJsonString(text_, &at_, &out->scalar, &continuation_bytes_);
       case 'n':
         out->kind = SourceNode::Kind::kNull;
         return Consume("null");
@@ -190,101 +191,6 @@ class PositionedScanner {
     }
     out->assign(text_.data() + start, at_ - start);
     return !OverflowsDouble(*out);
-  }
-
-  // RFC 8259 §7. Runs of bytes that stand for themselves are appended whole; the non-ASCII
-  // ones among them must be well-formed UTF-8 (RFC 3629), as nlohmann requires.
-  bool String(std::string* out) {
-    ++at_;  // '"'
-    size_t run = at_;
-    while (at_ < text_.size()) {
-      unsigned char c = static_cast<unsigned char>(text_[at_]);
-      if (c == '"' || c == '\\') {
-        out->append(text_.data() + run, at_ - run);
-        if (c == '"') {
-          ++at_;
-          return true;
-        }
-        if (!Escape(out)) return false;
-        run = at_;
-      } else if (c < 0x20) {
-        return false;  // a control character must be escaped
-      } else if (c < 0x80) {
-        ++at_;
-      } else {
-        size_t start = at_;
-        char32_t code_point;
-        if (!DecodeCodePoint(text_, &at_, &code_point)) return false;
-        continuation_bytes_ += at_ - start - 1;
-      }
-    }
-    return false;  // no closing quote
-  }
-
-  bool Escape(std::string* out) {
-    ++at_;  // '\'
-    if (at_ >= text_.size()) return false;
-    char escape = text_[at_++];
-    switch (escape) {
-      case '"':
-      case '\\':
-      case '/':
-        *out += escape;
-        return true;
-      case 'b':
-        *out += '\b';
-        return true;
-      case 'f':
-        *out += '\f';
-        return true;
-      case 'n':
-        *out += '\n';
-        return true;
-      case 'r':
-        *out += '\r';
-        return true;
-      case 't':
-        *out += '\t';
-        return true;
-      case 'u':
-        return UnicodeEscape(out);
-      default:
-        return false;
-    }
-  }
-
-  // A character outside the BMP comes as a UTF-16 surrogate pair; like nlohmann, a surrogate
-  // that is not half of such a pair is refused rather than passed on as ill-formed UTF-8.
-  bool UnicodeEscape(std::string* out) {
-    uint32_t unit;
-    if (!Hex4(&unit) || (unit >= 0xDC00 && unit <= 0xDFFF)) return false;
-    if (unit >= 0xD800 && unit <= 0xDBFF) {
-      uint32_t low;
-      if (!Consume("\\u") || !Hex4(&low) || low < 0xDC00 || low > 0xDFFF) return false;
-      unit = 0x10000 + ((unit - 0xD800) << 10) + (low - 0xDC00);
-    }
-    AppendUtf8(char32_t(unit), out);
-    return true;
-  }
-
-  bool Hex4(uint32_t* out) {
-    if (at_ + 4 > text_.size()) return false;
-    uint32_t value = 0;
-    for (int k = 0; k < 4; ++k) {
-      char c = text_[at_++];
-      value <<= 4;
-      if (c >= '0' && c <= '9') {
-        value |= uint32_t(c - '0');
-      } else if (c >= 'a' && c <= 'f') {
-        value |= uint32_t(c - 'a' + 10);
-      } else if (c >= 'A' && c <= 'F') {
-        value |= uint32_t(c - 'A' + 10);
-      } else {
-        return false;
-      }
-    }
-    *out = value;
-    return true;
   }
 
   std::string_view text_;
