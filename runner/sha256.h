@@ -5,9 +5,8 @@
 /// corpus fingerprints. Used by the suite loader, the corpus and the run journal; not meant for
 /// anything security-sensitive beyond detecting that content changed.
 ///
-/// The compression runs in OpenSSL's libcrypto (Debian's libssl3, already linked through
-/// libcurl), which picks the CPU's SHA extensions when it has them: hashing a large suite costs
-/// a few milliseconds instead of tens.
+/// The compression runs in OpenSSL's libcrypto (Debian's libssl3), which picks the CPU's SHA
+/// extensions when it has them: hashing a large suite costs a few milliseconds instead of tens.
 
 #include <memory>
 #include <string>
@@ -37,6 +36,8 @@ class Sha256 {
 
 /// SHA-256 of `data` as 64 lowercase hex characters.
 std::string Sha256Hex(std::string_view data);
+/// SHA-256 of `first` followed by `second` (a prefix and a text, without joining them first).
+std::string Sha256Hex(std::string_view first, std::string_view second);
 
 }  // namespace plumb
 

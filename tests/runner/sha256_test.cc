@@ -81,5 +81,13 @@ TEST_CASE("padding edges agree with sha256sum") {
   CHECK(Sha256Hex(binary) == CoreutilsSha256(binary));
 }
 
+TEST_CASE("a prefix and a text hash as their concatenation, as sha256sum sees it") {
+  const std::string text = "{\"answers\":[\"ten minutes\"],\"question\":\"When?\"}";
+  for (size_t cut : {size_t{0}, size_t{1}, size_t{14}, text.size()}) {
+    INFO("cut " << cut);
+    CHECK(Sha256Hex(text.substr(0, cut), text.substr(cut)) == CoreutilsSha256(text));
+  }
+}
+
 }  // namespace
 }  // namespace plumb
