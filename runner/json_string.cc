@@ -3,6 +3,7 @@
 #include <cstdint>
 
 #include "runner/code_points.h"
+#include "runner/plain_ascii.h"
 
 namespace plumb {
 namespace {
@@ -79,30 +80,29 @@ bool Escape(std::string_view text, size_t* at, std::string* out) {
 
 bool ReadJsonString(std::string_view text, size_t* at, std::string* out,
                     size_t* continuation_bytes) {
-  ++*at;             // '"'
-  size_t run = *at;  // bytes that stand for themselves are appended a run at a time
-  while (*at < text.size()) {
-    const unsigned char c = static_cast<unsigned char>(text[*at]);
+  size_t i = *at + 1;  // past '"'
+  size_t run = i;      // bytes that stand for themselves are appended a run at a time
+  while (true) {
+    i += PlainAsciiRun(text, i);
+    if (i >= text.size()) return false;  // no closing quote
+    const unsigned char c = static_cast<unsigned char>(text[i]);
     if (c == '"' || c == '\\') {
-      out->append(text.data() + run, *at - run);
+      out->append(text.data() + run, i - run);
       if (c == '"') {
-        ++*at;
+        *at = i + 1;
         return true;
       }
-      if (!Escape(text, at, out)) return false;
-      run = *at;
+      if (!Escape(text, &i, out)) return false;
+      run = i;
     } else if (c < 0x20) {
       return false;  // a control character must be escaped
-    } else if (c < 0x80) {
-      ++*at;
     } else {
-      const size_t start = *at;
+      const size_t start = i;
       char32_t code_point;
-      if (!DecodeCodePoint(text, at, &code_point)) return false;
-      if (continuation_bytes != nullptr) *continuation_bytes += *at - start - 1;
+      if (!DecodeCodePoint(text, &i, &code_point)) return false;
+      if (continuation_bytes != nullptr) *continuation_bytes += i - start - 1;
     }
   }
-  return false;  // no closing quote
 }
 
 }  // namespace plumb

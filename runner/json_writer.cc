@@ -8,80 +8,12 @@
 #include <cstring>
 
 #include "metrics/utf8.h"
-
-#if defined(__SSE2__)
-#include <emmintrin.h>
-#endif
+#include "runner/plain_ascii.h"
 
 namespace plumb {
 namespace {
 
 constexpr char kHex[] = "0123456789abcdef";
-
-#if !defined(__SSE2__)
-// Bytes a JSON string can carry as they are: printable ASCII other than '"' and '\'.
-bool IsPlainAscii(unsigned char c) { return c >= 0x20 && c < 0x80 && c != '"' && c != '\\'; }
-
-// True when one of the 8 bytes of `word` is not plain ASCII: below 0x20, at or above 0x80, '"'
-// or '\'. The usual SWAR tests (Mycroft's has-zero-byte and has-less-than, as in Anderson's
-// "Bit Twiddling Hacks"), exact here because bytes at or above 0x80 are caught first.
-bool HasSpecialByte(uint64_t word) {
-  constexpr uint64_t kOnes = 0x0101010101010101ull;
-  constexpr uint64_t kHigh = 0x8080808080808080ull;
-  auto has_zero = [](uint64_t v) { return (v - kOnes) & ~v & kHigh; };
-  const uint64_t below_space = (word - kOnes * 0x20) & ~word & kHigh;
-  return ((word & kHigh) | below_space | has_zero(word ^ (kOnes * '"')) |
-          has_zero(word ^ (kOnes * '\\'))) != 0;
-}
-#endif
-
-#if defined(__SSE2__)
-// A bit per byte of the 16 at `p`, set where the byte is not plain: signed, a byte below 0x20
-// and one at or above 0x80 (negative) are both less than 0x20; then '"' and '\'.
-int SpecialBytes16(const char* p) {
-  const __m128i bytes = _mm_loadu_si128(reinterpret_cast<const __m128i*>(p));
-  const __m128i special = _mm_or_si128(_mm_cmplt_epi8(bytes, _mm_set1_epi8(0x20)),
-                                       _mm_or_si128(_mm_cmpeq_epi8(bytes, _mm_set1_epi8('"')),
-                                                    _mm_cmpeq_epi8(bytes, _mm_set1_epi8('\\'))));
-  return _mm_movemask_epi8(special);
-}
-
-// The length of the run of plain ASCII bytes that starts at text[from], 16 bytes at a time.
-size_t PlainRun(std::string_view text, size_t from) {
-  const char* p = text.data() + from;
-  const size_t n = text.size() - from;
-  size_t at = 0;
-  for (; at + 16 <= n; at += 16) {
-    if (const int mask = SpecialBytes16(p + at); mask != 0) return at + __builtin_ctz(mask);
-  }
-  if (at == n) return n;
-  int mask;
-  if (n >= 16) {
-    // The last 16 bytes, overlapping those checked: bit k then stands for byte at + k.
-    mask = SpecialBytes16(p + n - 16) >> (16 - (n - at));
-  } else {
-    char padded[16];
-    std::memset(padded, 'a', sizeof padded);  // plain, so the padding never stops the run
-    std::memcpy(padded, p + at, n - at);
-    mask = SpecialBytes16(padded);
-  }
-  return mask != 0 ? at + __builtin_ctz(mask) : n;
-}
-#else
-// The length of the run of plain ASCII bytes that starts at text[from].
-size_t PlainRun(std::string_view text, size_t from) {
-  size_t at = from;
-  const size_t n = text.size();
-  while (at + 8 <= n) {
-    uint64_t word;
-    std::memcpy(&word, text.data() + at, sizeof word);
-    if (HasSpecialByte(word)) break;
-    at += 8;
-  }
-  while (at < n && IsPlainAscii(static_cast<unsigned char>(text[at]))) ++at;
-  return at - from;
-}
-#endif
 
 }  // namespace
 
@@ -116,7 +48,7 @@ std::string JsonWriter::Take() {
 
 void JsonWriter::PutString(std::string_view text) {
   // Most strings are short and plain (keys, ids, metric names): one check, one copy.
-  if (PlainRun(text, 0) == text.size()) {
+  if (PlainAsciiRun(text, 0) == text.size()) {
     char* at = Room(text.size() + 2);
     at[0] = '"';
     std::memcpy(at + 1, text.data(), text.size());
@@ -129,7 +61,7 @@ void JsonWriter::PutString(std::string_view text) {
   const size_t n = text.size();
   while (i < n) {
     // Copy the longest run that needs no escaping in one go.
-    const size_t run = PlainRun(text, i);
+    const size_t run = PlainAsciiRun(text, i);
     Put(text.data() + i, run);
     i += run;
     if (i >= n) break;
