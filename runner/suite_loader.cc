@@ -21,6 +21,7 @@
 #include "runner/node_checker.h"
 #include "runner/parallel_chunks.h"
 #include "runner/pipeline_config_loader.h"
+#include "runner/plain_case_line.h"
 #include "runner/sha256.h"
 #include "runner/source_node.h"
 #include "runner/yaml_reader.h"
@@ -397,14 +398,22 @@ class SuiteLoader {
           chunk.reported_missing_corpus = reported_missing_corpus_;
           NodeChecker chunk_check(check->file(), &chunk.errors, &chunk.warnings);
           for (size_t i = begin; i < end; ++i) {
+            Case& gold = suite_->cases[base + i];
+            if (ReadPlainCase(lines[i].text, check->file(), lines[i].number, &gold, &ids[i])) {
+              added[i] = true;
+              gold.gold_hash = GoldHash(gold);  // here, while the case is in cache
+              continue;
+            }
+            gold = Case();
             SourceNode root;
             Diagnostic error;
             if (!ReadJsonLine(lines[i].text, check->file(), lines[i].number, &root, &error)) {
               chunk.errors.push_back(std::move(error));
               continue;
             }
-            added[i] = ReadCaseFields(root, &chunk_check, &chunk.reported_missing_corpus,
-                                      &suite_->cases[base + i], &ids[i]);
+            added[i] =
+                ReadCaseFields(root, &chunk_check, &chunk.reported_missing_corpus, &gold, &ids[i]);
+            if (added[i]) gold.gold_hash = GoldHash(gold);
           }
         });
     for (size_t index = 0; index < used; ++index) {
@@ -580,6 +589,33 @@ class SuiteLoader {
                         "first defined at " + FormatPos(where)});
   }
 
+  static bool IsCaseId(std::string_view id) { return IsNameOf(id, "._:-"); }
+  static bool IsTag(std::string_view tag) { return IsNameOf(tag, "._-"); }
+  static bool IsBlank(std::string_view text) {
+    return text.find_first_not_of(" \t\r\n") == std::string_view::npos;
+  }
+
+  /// A JSONL line of the plain shape (runner/plain_case_line.h) whose values ReadCaseFields
+  /// would take without a word, read without a SourceNode tree. False for any other line, which
+  /// the caller reads through ReadJsonLine and ReadCaseFields.
+  static bool ReadPlainCase(std::string_view line, const std::string& file, int line_number,
+                            Case* gold, CaseId* case_id) {
+    PlainCaseColumns columns;
+    if (!ReadPlainCaseLine(line, gold, &columns) || !IsCaseId(gold->id) ||
+        IsBlank(gold->question)) {
+      return false;
+    }
+    for (const std::string& answer : gold->answers) {
+      if (IsBlank(answer)) return false;
+    }
+    for (const std::string& tag : gold->tags) {
+      if (!IsTag(tag)) return false;
+    }
+    gold->pos = SourcePos{file, line_number, columns.object};
+    *case_id = CaseId{true, line_number, columns.id};
+    return true;
+  }
+
   /// Reads and checks one case's fields into *gold, reporting through `check`. Touches no loader
   /// state but `*reported_missing_corpus` (so chunks of a JSONL file can be read on several
   /// threads, each with its own flag and checker). False when the node is not a mapping
@@ -599,7 +635,7 @@ class SuiteLoader {
       check->Error(node, "case has no 'id'",
                    "add 'id: NAME' (letters, digits, '.', '_', ':', '-')");
     } else if (check->String(*id, "id", &gold.id)) {
-      if (!IsNameOf(gold.id, "._:-")) {
+      if (!IsCaseId(gold.id)) {
         check->Error(*id, "invalid case id '" + gold.id + "'",
                      "use letters, digits, '.', '_', ':' and '-'");
       } else {
@@ -621,7 +657,7 @@ class SuiteLoader {
       std::vector<const SourceNode*> nodes;
       check->StringList(*answers, "answers", &gold.answers, &nodes);
       for (size_t i = 0; i < gold.answers.size(); ++i) {
-        if (gold.answers[i].find_first_not_of(" \t\r\n") == std::string::npos) {
+        if (IsBlank(gold.answers[i])) {
           check->Error(*nodes[i], "an answer is empty",
                        "write 'answers: []' for a case the pipeline must abstain on");
         }
@@ -651,7 +687,7 @@ class SuiteLoader {
       std::vector<const SourceNode*> nodes;
       check->StringList(*tags, "tags", &gold.tags, &nodes);
       for (size_t i = 0; i < gold.tags.size(); ++i) {
-        if (!IsNameOf(gold.tags[i], "._-")) {
+        if (!IsTag(gold.tags[i])) {
           check->Error(*nodes[i], "invalid tag '" + gold.tags[i] + "'",
                        "tags use letters, digits, '.', '_' and '-'");
         }
@@ -815,7 +851,8 @@ class SuiteLoader {
   /// SHA-256 of "plumb-gold-v1\n" + the case's gold as compact JSON with keys in sorted order
   /// (the layout nlohmann's dump() gives; doubles in its spelling, so hashes stay stable).
   static std::string GoldHash(const Case& gold) {
-    JsonWriter w;
+    thread_local JsonWriter w;  // one buffer per loading thread, reused case after case
+    w.Clear();
     w.BeginObject().Member("answers", gold.answers).Key("number");
     if (gold.number) {
       w.BeginObject()
@@ -839,13 +876,15 @@ class SuiteLoader {
           .EndObject();
     }
     w.EndArray().Member("tags", gold.tags).EndObject();
-    return Sha256Hex("plumb-gold-v1\n" + w.Take());
+    return Sha256Hex("plumb-gold-v1\n", w.text());
   }
 
   void Finish() {
     std::vector<Case>& cases = suite_->cases;
     ForEachChunk(cases.size(), kCasesPerChunk, [&cases](size_t, size_t begin, size_t end) {
-      for (size_t i = begin; i < end; ++i) cases[i].gold_hash = GoldHash(cases[i]);
+      for (size_t i = begin; i < end; ++i) {
+        if (cases[i].gold_hash.empty()) cases[i].gold_hash = GoldHash(cases[i]);
+      }
     });
     suite_->suite_hash = suite_hash_.HexDigest();
     for (const auto& [tag, pos] : threshold_tags_) {

@@ -11,84 +11,18 @@
 #include <random>
 #include <string>
 
+#include "tests/support/random_json.h"
+
 namespace plumb {
 namespace {
-
-std::string RandomString(std::mt19937_64* rng) {
-  static const char* const kPieces[] = {"a",
-                                        "Z",
-                                        " ",
-                                        "ten minutes",
-                                        "\\\"",
-                                        "\\\\",
-                                        "\\/",
-                                        "\\b",
-                                        "\\f",
-                                        "\\n",
-                                        "\\r",
-                                        "\\t",
-                                        "\\u00e9",
-                                        "\\u0000",
-                                        "\\u001F",
-                                        "\\ud83d\\ude00",
-                                        "\\ud800",
-                                        "\\udc00x",
-                                        "\\uZZZZ",
-                                        "\\x",
-                                        "\xC3\xA9",
-                                        "\xE2\x80\x94",
-                                        "\xF0\x9F\x98\x80",
-                                        "\xC3",
-                                        "\xED\xA0\x80",
-                                        "\xC0\xAF",
-                                        "\x01",
-                                        "\x7f",
-                                        "\t",
-                                        "é",
-                                        "\xEF\xBB\xBF"};
-  std::string s = "\"";
-  const int pieces = static_cast<int>((*rng)() % 5);
-  for (int i = 0; i < pieces; ++i) s += kPieces[(*rng)() % (sizeof kPieces / sizeof *kPieces)];
-  if ((*rng)() % 40 != 0) s += "\"";  // now and then, an unterminated string
-  return s;
-}
-
-std::string RandomNumber(std::mt19937_64* rng) {
-  static const char* const kNumbers[] = {"0",
-                                         "-0",
-                                         "7",
-                                         "12.5",
-                                         "-3.25",
-                                         "0.1",
-                                         "1e3",
-                                         "2E-2",
-                                         "1.5e+300",
-                                         "01",
-                                         "1.",
-                                         ".5",
-                                         "-",
-                                         "+1",
-                                         "9223372036854775807",
-                                         "9223372036854775808",
-                                         "-9223372036854775808",
-                                         "-9223372036854775809",
-                                         "123456789012345678",
-                                         "0.30000000000000004",
-                                         "12345678901234567",
-                                         "1.2345678901234567",
-                                         "1e400",
-                                         "-0.0",
-                                         "100000000000000000000"};
-  return kNumbers[(*rng)() % (sizeof kNumbers / sizeof *kNumbers)];
-}
 
 std::string RandomValue(std::mt19937_64* rng, int depth) {
   switch ((*rng)() % (depth > 1 ? 6 : 8)) {
     case 0:
     case 1:
-      return RandomString(rng);
+      return RandomJsonString(rng);
     case 2:
-      return RandomNumber(rng);
+      return RandomJsonNumber(rng);
     case 3:
       return "true";
     case 4:

@@ -1,0 +1,100 @@
+#include "runner/plain_case_line.h"
+
+#include <string>
+#include <vector>
+
+#include "runner/json_string.h"
+
+namespace plumb {
+namespace {
+
+class PlainCaseScanner {
+ public:
+  explicit PlainCaseScanner(std::string_view text) : text_(text) {}
+
+  bool Read(Case* gold, PlainCaseColumns* columns) {
+    SkipSpace();
+    columns->object = Column();
+    if (!Take('{')) return false;
+    bool id = false, question = false, answers = false, tags = false;
+    std::string key;
+    do {
+      SkipSpace();
+      key.clear();
+      if (!String(&key)) return false;
+      SkipSpace();
+      if (!Take(':')) return false;
+      SkipSpace();
+      if (key == "id" && !id) {
+        id = true;
+        columns->id = Column();
+        if (!String(&gold->id)) return false;
+      } else if (key == "question" && !question) {
+        question = true;
+        if (!String(&gold->question)) return false;
+      } else if (key == "answers" && !answers) {
+        answers = true;
+        if (!StringArray(&gold->answers)) return false;
+      } else if (key == "tags" && !tags) {
+        tags = true;
+        if (!StringArray(&gold->tags)) return false;
+      } else {
+        return false;  // another key, or one given twice
+      }
+      SkipSpace();
+    } while (Take(','));
+    if (!Take('}')) return false;
+    SkipSpace();
+    return at_ == text_.size() && id && question && answers;
+  }
+
+ private:
+  // As ReadJsonLine counts: bytes so far less the UTF-8 continuation bytes among them (only
+  // strings hold multi-byte sequences, and the strings count theirs as they are read).
+  int Column() const { return int(at_ - continuation_bytes_) + 1; }
+
+  // RFC 8259 §2: space, tab, line feed and carriage return.
+  void SkipSpace() {
+    while (at_ < text_.size() &&
+           (text_[at_] == ' ' || text_[at_] == '\t' || text_[at_] == '\r' || text_[at_] == '\n')) {
+      ++at_;
+    }
+  }
+
+  bool Take(char c) {
+    if (at_ >= text_.size() || text_[at_] != c) return false;
+    ++at_;
+    return true;
+  }
+
+  bool String(std::string* out) {
+    if (at_ >= text_.size() || text_[at_] != '"') return false;
+    return ReadJsonString(text_, &at_, out, &continuation_bytes_);
+  }
+
+  bool StringArray(std::vector<std::string>* out) {
+    if (!Take('[')) return false;
+    SkipSpace();
+    if (Take(']')) return true;
+    do {
+      SkipSpace();
+      out->emplace_back();
+      if (!String(&out->back())) return false;
+      SkipSpace();
+    } while (Take(','));
+    return Take(']');
+  }
+
+  std::string_view text_;
+  size_t at_ = 0;
+  size_t continuation_bytes_ = 0;
+};
+
+}  // namespace
+
+bool ReadPlainCaseLine(std::string_view line, Case* gold, PlainCaseColumns* columns) {
+  PlainCaseScanner scanner(line);
+  return scanner.Read(gold, columns);
+}
+
+}  // namespace plumb
