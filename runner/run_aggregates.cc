@@ -5,6 +5,8 @@
 #include <set>
 #include <utility>
 
+#include "runner/parallel_chunks.h"
+
 namespace plumb {
 namespace {
 
@@ -30,8 +32,9 @@ struct CaseValues {
   /// The means: the one outcome's own values, or `averaged` when the case has several.
   const MetricValues* means = nullptr;
   MetricValues averaged;
-  std::vector<const MetricValues*> repeat_values;
-  int repeats = 0;  // 0: the case has no outcome
+  const MetricValues* first_values = nullptr;    // the first repeat's (most cases have one)
+  std::vector<const MetricValues*> more_values;  // the other repeats'
+  int repeats = 0;                               // 0: the case has no outcome
   int passes = 0;
   int errors = 0;
   int abstentions = 0;  // repeats on which the reply abstained
@@ -39,12 +42,14 @@ struct CaseValues {
 
 /// Sets v->means: each metric averaged over the repeats that define it.
 void AverageRepeats(CaseValues* v) {
-  if (v->repeat_values.size() == 1) {
-    v->means = v->repeat_values[0];
+  if (v->more_values.empty()) {
+    v->means = v->first_values;
     return;
   }
+  std::vector<const MetricValues*> all = {v->first_values};
+  all.insert(all.end(), v->more_values.begin(), v->more_values.end());
   MetricValues sum, count;
-  for (const MetricValues* values : v->repeat_values) {
+  for (const MetricValues* values : all) {
     for (const auto& [metric, value] : *values) {
       sum[metric] += value;
       count[metric] += 1;
@@ -143,7 +148,7 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
   latencies.reserve(outcomes.size());
   for (const CaseOutcome& o : outcomes) {
     CaseValues& v = per_case[o.case_index];
-    v.repeat_values.push_back(&o.scores.values);
+    (v.first_values == nullptr ? v.first_values : v.more_values.emplace_back()) = &o.scores.values;
     v.repeats += 1;
     v.passes += o.scores.pass ? 1 : 0;
     v.errors += o.scores.errored ? 1 : 0;
@@ -157,31 +162,52 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
   }
   run.latency = metrics::SummarizeLatency(std::move(latencies));
 
-  std::vector<const CaseValues*> all;
-  std::vector<bool> all_abstention;
-  std::map<std::string, std::pair<std::vector<const CaseValues*>, std::vector<bool>>> by_tag;
+  // The cases of the whole run, then of each tag (sorted), each summarized on its own.
+  struct Group {
+    std::vector<const CaseValues*> cases;
+    std::vector<bool> abstention;
+    std::vector<MetricAggregate> metrics;
+  };
+  std::vector<Group> groups(1);
+  std::map<std::string_view, size_t> tag_groups;  // tag -> index in groups
+  std::string_view last_tag;                      // cases often share their tag with the last
+  size_t last_group = 0;
   for (size_t index = 0; index < per_case.size(); ++index) {
     CaseValues& values = per_case[index];
     if (values.repeats == 0) continue;
     AverageRepeats(&values);
     const Case& c = suite.cases[index];
     run.cases += 1;
-    all.push_back(&values);
-    all_abstention.push_back(c.answers.empty());
+    groups[0].cases.push_back(&values);
+    groups[0].abstention.push_back(c.answers.empty());
     if (values.passes == values.repeats) run.passed += 1;
     // Passed on some repeats and failed on others.
     if (values.passes > 0 && values.passes < values.repeats) run.unstable_cases.push_back(c.id);
     for (const std::string& tag : c.tags) {
-      by_tag[tag].first.push_back(&values);
-      by_tag[tag].second.push_back(c.answers.empty());
+      if (last_group == 0 || tag != last_tag) {
+        auto [it, added] = tag_groups.emplace(tag, groups.size());
+        if (added) groups.emplace_back();
+        last_tag = tag;
+        last_group = it->second;
+      }
+      groups[last_group].cases.push_back(&values);
+      groups[last_group].abstention.push_back(c.answers.empty());
     }
   }
-  run.metrics = Summarize(suite, all, all_abstention);
-  for (const auto& [tag, members] : by_tag) {
+  // Each group's bootstrap costs about the same whatever its size, so the groups are shared
+  // out over the CPUs in equal numbers; every summary is seeded alike, so the results do not
+  // depend on how they are shared.
+  ForEachChunk(groups.size(), 1, [&](size_t, size_t begin, size_t end) {
+    for (size_t i = begin; i < end; ++i) {
+      groups[i].metrics = Summarize(suite, groups[i].cases, groups[i].abstention);
+    }
+  });
+  run.metrics = std::move(groups[0].metrics);
+  for (const auto& [tag, index] : tag_groups) {
     TagAggregate t;
-    t.tag = tag;
-    t.cases = static_cast<int64_t>(members.first.size());
-    t.metrics = Summarize(suite, members.first, members.second);
+    t.tag = std::string(tag);
+    t.cases = static_cast<int64_t>(groups[index].cases.size());
+    t.metrics = std::move(groups[index].metrics);
     run.tags.push_back(std::move(t));
   }
   return run;
