@@ -39,11 +39,8 @@ PredictionReader::PredictionReader(const std::string& path, const PreparedSuite&
     : path_(path),
       prepared_(prepared),
       journal_(journal),
-      chunks_(static_cast<size_t>(WorkerCount())) {
-  const std::vector<Case>& cases = prepared.suite.cases;
-  index_of_.reserve(cases.size());
-  for (size_t i = 0; i < cases.size(); ++i) index_of_.emplace(cases[i].id, i);
-}
+      seen_first_(prepared.suite.cases.size(), false),
+      chunks_(static_cast<size_t>(WorkerCount())) {}
 
 bool PredictionReader::ReadAll(std::vector<CaseOutcome>* outcomes, int* max_repeat,
                                std::string* error) {
@@ -102,7 +99,7 @@ bool PredictionReader::ReadAll(std::vector<CaseOutcome>* outcomes, int* max_repe
   }
   // A case with no reply at all is one errored item, so it counts against the run.
   for (size_t i = 0; i < prepared_.suite.cases.size(); ++i) {
-    if (seen_.count(Key(i, 0)) == 0 && !RecordMissing(i, outcomes, error)) return false;
+    if (!seen_first_[i] && !RecordMissing(i, outcomes, error)) return false;
   }
   return true;
 }
@@ -153,8 +150,9 @@ bool PredictionReader::FindCase(std::string_view id, size_t* next_index, LineRes
   const std::vector<Case>& cases = prepared_.suite.cases;
   if (*next_index < cases.size() && cases[*next_index].id == id) {
     result->case_index = *next_index;
-  } else if (auto known = index_of_.find(id); known != index_of_.end()) {
-    result->case_index = known->second;
+  } else if (const size_t known = prepared_.suite.case_ids.Find(cases, id);
+             known != CaseIdIndex::kAbsent) {
+    result->case_index = known;
   } else {
     result->kind = LineResult::Kind::kUnknownCase;
     result->message = std::string(id);
@@ -246,7 +244,7 @@ bool PredictionReader::Merge(Chunk& chunk, std::vector<CaseOutcome>* outcomes, i
       case LineResult::Kind::kScored:
         break;
     }
-    if (!seen_.insert(Key(result.case_index, result.repeat)).second) {
+    if (!MarkSeen(result.case_index, result.repeat)) {
       Problem(result.line_number, 1,
               "a second prediction for case '" + cases[result.case_index].id + "' repeat " +
                   std::to_string(result.repeat) + "; keep one line per case and repeat");
@@ -260,6 +258,13 @@ bool PredictionReader::Merge(Chunk& chunk, std::vector<CaseOutcome>* outcomes, i
     outcomes->push_back(std::move(result.outcome));
   }
   return problems_ > 0 || flush();
+}
+
+bool PredictionReader::MarkSeen(size_t case_index, int repeat) {
+  if (repeat > 0) return seen_later_.insert(Key(case_index, repeat)).second;
+  if (seen_first_[case_index]) return false;
+  seen_first_[case_index] = true;
+  return true;
 }
 
 void PredictionReader::Problem(int line_number, int column, const std::string& message) {

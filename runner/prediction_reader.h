@@ -14,7 +14,6 @@
 #include <cstdint>
 #include <string>
 #include <string_view>
-#include <unordered_map>
 #include <unordered_set>
 #include <vector>
 
@@ -79,6 +78,8 @@ class PredictionReader {
                   int* max_repeat, std::string* error);
   /// Takes one chunk's results in order: duplicates, problems, then records and outcomes.
   bool Merge(Chunk& chunk, std::vector<CaseOutcome>* outcomes, int* max_repeat, std::string* error);
+  /// False when a reply for (case, repeat) was taken already; otherwise records it.
+  bool MarkSeen(size_t case_index, int repeat);
   void Problem(int line_number, int column, const std::string& message);
   bool RecordMissing(size_t case_index, std::vector<CaseOutcome>* outcomes, std::string* error);
   static uint64_t Key(size_t case_index, int repeat) {
@@ -89,8 +90,8 @@ class PredictionReader {
   const PreparedSuite& prepared_;
   RunJournal* journal_;
   const PipelineConfig recorded_;  // replies in the protocol's own shape, offsets in code points
-  std::unordered_map<std::string_view, size_t> index_of_;
-  std::unordered_set<uint64_t> seen_;
+  std::vector<bool> seen_first_;   // by case: a reply for repeat 0 was taken
+  std::unordered_set<uint64_t> seen_later_;  // Key(case, repeat) of the later repeats taken
   std::vector<Chunk> chunks_;
   int problems_ = 0;
 };

@@ -14,6 +14,7 @@
 
 #include "metrics/normalize.h"
 #include "metrics/offset_units.h"
+#include "runner/case_id_index.h"
 #include "runner/diagnostic.h"
 
 namespace plumb {
@@ -116,6 +117,9 @@ struct Suite {
   Thresholds thresholds;
   std::vector<PipelineConfig> pipelines;  // in file order; the first is the default
   std::vector<Case> cases;                // in file order, includes concatenated in place
+  /// Every case's id to its index in `cases`; the loader builds it (a suite with a repeated id
+  /// does not load).
+  CaseIdIndex case_ids;
   /// Hash of the suite's content (all files read, in order); recorded in run.json.
   std::string suite_hash;
   /// Every file the suite read (the suite, includes, --pipelines file), for hashing and errors.

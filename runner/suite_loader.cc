@@ -10,7 +10,6 @@
 #include <filesystem>
 #include <fstream>
 #include <memory>
-#include <unordered_map>
 #include <utility>
 
 #include "runner/code_points.h"
@@ -382,7 +381,8 @@ class SuiteLoader {
     // over the lines that gave no case afterwards, as the ids are registered in file order.
     const size_t base = suite_->cases.size();
     suite_->cases.resize(base + lines.size());
-    case_ids_.reserve(case_ids_.size() + lines.size());
+    suite_->case_ids.Reserve(suite_->cases.size());
+    id_positions_.reserve(suite_->cases.size());
     std::vector<CaseId> ids(lines.size());
     std::vector<char> added(lines.size(), 0);
     struct Chunk {
@@ -579,11 +579,13 @@ class SuiteLoader {
   /// naming where it was first defined.
   void RegisterId(size_t index, const CaseId& id, NodeChecker* check) {
     if (!id.register_id) return;
+    if (id_positions_.size() <= index) id_positions_.resize(index + 1);
+    id_positions_[index] = {id.line, id.column};
+    const size_t first = suite_->case_ids.Insert(suite_->cases, index);
+    if (first == CaseIdIndex::kAbsent) return;
     const std::string& name = suite_->cases[index].id;
-    auto [it, inserted] = case_ids_.emplace(name, FirstId{index, id.line, id.column});
-    if (inserted) return;
-    const FirstId& first = it->second;
-    const SourcePos where{suite_->cases[first.case_index].pos.file, first.line, first.column};
+    const SourcePos where{suite_->cases[first].pos.file, id_positions_[first].first,
+                          id_positions_[first].second};
     errors_->push_back({SourcePos{check->file(), id.line, id.column},
                         "duplicate case id '" + name + "'",
                         "first defined at " + FormatPos(where)});
@@ -921,14 +923,8 @@ class SuiteLoader {
   CorpusState corpus_state_ = CorpusState::kNone;
   bool reported_missing_corpus_ = false;
   std::vector<std::pair<std::string, std::string>> include_chain_;  // (canonical, as named)
-  /// Where a case id was first written: the case's file is that of suite_->cases[case_index]
-  /// (so 20,000 ids do not each keep a copy of the file name).
-  struct FirstId {
-    size_t case_index;
-    int line;
-    int column;
-  };
-  std::unordered_map<std::string, FirstId> case_ids_;
+  /// Where each case's id is written (line, column), by case index: its file is the case's.
+  std::vector<std::pair<int, int>> id_positions_;
   std::vector<std::pair<std::string, SourcePos>> threshold_tags_;
   Sha256 suite_hash_;
 };
