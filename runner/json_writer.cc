@@ -115,6 +115,17 @@ void JsonWriter::PutDouble(double value) {
     return;
   }
   char* at = Room(32);
+  // Whole numbers below 10^4 (most scores and latencies: 0 and 1) come out of to_chars as
+  // their integer digits, and those are cheaper to write from the integer; from 10^5 on,
+  // shortest form may be an exponent, so the rest take the general way. -0.0 does too.
+  if (std::fabs(value) < 1e4 && !(value == 0 && std::signbit(value))) {
+    const int64_t whole = static_cast<int64_t>(value);
+    if (static_cast<double>(whole) == value) {
+      size_ += static_cast<size_t>(std::to_chars(at, at + 32, whole).ptr - at);
+      Put(".0");
+      return;
+    }
+  }
   const std::to_chars_result result = std::to_chars(at, at + 32, value);
   const std::string_view digits(at, static_cast<size_t>(result.ptr - at));
   size_ += digits.size();

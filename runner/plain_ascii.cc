@@ -10,10 +10,10 @@
 namespace plumb {
 namespace {
 
-#if !defined(__SSE2__)
 // Bytes a JSON string can carry as they are: printable ASCII other than '"' and '\'.
 bool IsPlainAscii(unsigned char c) { return c >= 0x20 && c < 0x80 && c != '"' && c != '\\'; }
 
+#if !defined(__SSE2__)
 // True when one of the 8 bytes of `word` is not plain ASCII: below 0x20, at or above 0x80, '"'
 // or '\'. The usual SWAR tests (Mycroft's has-zero-byte and has-less-than, as in Anderson's
 // "Bit Twiddling Hacks"), exact here because bytes at or above 0x80 are caught first.
@@ -50,16 +50,14 @@ size_t PlainAsciiRun(std::string_view text, size_t from) {
     if (const int mask = SpecialBytes16(p + at); mask != 0) return at + __builtin_ctz(mask);
   }
   if (at == n) return n;
-  int mask;
-  if (n >= 16) {
-    // The last 16 bytes, overlapping those checked: bit k then stands for byte at + k.
-    mask = SpecialBytes16(p + n - 16) >> (16 - (n - at));
-  } else {
-    char padded[16];
-    std::memset(padded, 'a', sizeof padded);  // plain, so the padding never stops the run
-    std::memcpy(padded, p + at, n - at);
-    mask = SpecialBytes16(padded);
+  if (n < 16) {
+    // Fewer than 16 bytes in all (a short string written out): one at a time, which costs
+    // less than copying them into a padded block.
+    while (at < n && IsPlainAscii(static_cast<unsigned char>(p[at]))) ++at;
+    return at;
   }
+  // The last 16 bytes, overlapping those checked: bit k then stands for byte at + k.
+  const int mask = SpecialBytes16(p + n - 16) >> (16 - (n - at));
   return mask != 0 ? at + __builtin_ctz(mask) : n;
 }
 #else

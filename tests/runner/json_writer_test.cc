@@ -5,6 +5,7 @@
 #include "runner/json_writer.h"
 
 #include <catch2/catch.hpp>
+#include <charconv>
 #include <cmath>
 #include <cstring>
 #include <limits>
@@ -122,6 +123,17 @@ TEST_CASE("json writer prints doubles in the shortest form that reads back exact
   CHECK(text(123456789.0) == "123456789.0");
   CHECK(text(std::nan("")) == "null");
   CHECK(text(std::numeric_limits<double>::infinity()) == "null");
+  // Whole numbers near the writer's short cut for those below 10^4 read as to_chars has them,
+  // with ".0" added (10^5 is where its shortest form turns to an exponent: "1e+05").
+  for (int i = -10010; i <= 10010; ++i) {
+    for (double v : {static_cast<double>(i), i + 0.5}) {
+      char digits[32];
+      std::string expected(digits, std::to_chars(digits, digits + 32, v).ptr);
+      if (expected.find_first_of(".e") == std::string::npos) expected += ".0";
+      REQUIRE(text(v) == expected);
+    }
+  }
+  CHECK(text(100000.0) == "1e+05");
   std::mt19937_64 rng(7);
   for (int i = 0; i < 100000; ++i) {
     uint64_t bits = rng();
