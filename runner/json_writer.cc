@@ -191,24 +191,6 @@ JsonWriter& JsonWriter::Key(std::string_view key) {
   return *this;
 }
 
-JsonWriter& JsonWriter::PlainKey(std::string_view key) {
-  assert(!levels_.empty() && !after_key_);
-  assert(std::all_of(key.begin(), key.end(), [](char c) {
-    return (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || (c >= '0' && c <= '9') || c == '_';
-  }));
-  BeforeItem();
-  const size_t separator = indent_ >= 0 ? 2 : 1;
-  char* at = Room(key.size() + 2 + separator);
-  at[0] = '"';
-  std::memcpy(at + 1, key.data(), key.size());
-  at[key.size() + 1] = '"';
-  at[key.size() + 2] = ':';
-  if (separator == 2) at[key.size() + 3] = ' ';
-  size_ += key.size() + 2 + separator;
-  after_key_ = true;
-  return *this;
-}
-
 JsonWriter& JsonWriter::String(std::string_view text) {
   BeforeItem();
   PutString(text);

@@ -20,6 +20,8 @@
 /// buffer with room to spare, so each piece is one memcpy rather than a std::string::append (a
 /// journal line is some forty small pieces; the appends were most of its cost).
 
+#include <algorithm>
+#include <cassert>
 #include <cstdint>
 #include <cstring>
 #include <nlohmann/json.hpp>
@@ -157,6 +159,25 @@ class JsonWriter {
   LevelStack levels_;
   bool after_key_ = false;
 };
+
+// In the header, so that a name spelled in the source is copied with its length known.
+inline JsonWriter& JsonWriter::PlainKey(std::string_view key) {
+  assert(!levels_.empty() && !after_key_);
+  assert(std::all_of(key.begin(), key.end(), [](char c) {
+    return (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || (c >= '0' && c <= '9') || c == '_';
+  }));
+  BeforeItem();
+  const size_t separator = indent_ >= 0 ? 2 : 1;
+  char* at = Room(key.size() + 2 + separator);
+  at[0] = '"';
+  std::memcpy(at + 1, key.data(), key.size());
+  at[key.size() + 1] = '"';
+  at[key.size() + 2] = ':';
+  if (separator == 2) at[key.size() + 3] = ' ';
+  size_ += key.size() + 2 + separator;
+  after_key_ = true;
+  return *this;
+}
 
 }  // namespace plumb
 

@@ -13,19 +13,18 @@ namespace {
 // Bytes a JSON string can carry as they are: printable ASCII other than '"' and '\'.
 bool IsPlainAscii(unsigned char c) { return c >= 0x20 && c < 0x80 && c != '"' && c != '\\'; }
 
-#if !defined(__SSE2__)
-// True when one of the 8 bytes of `word` is not plain ASCII: below 0x20, at or above 0x80, '"'
-// or '\'. The usual SWAR tests (Mycroft's has-zero-byte and has-less-than, as in Anderson's
-// "Bit Twiddling Hacks"), exact here because bytes at or above 0x80 are caught first.
-bool HasSpecialByte(uint64_t word) {
+// The high bit of each of the 8 bytes of `word` that is not plain ASCII (below 0x20, at or
+// above 0x80, '"' or '\'): the usual SWAR tests (Mycroft's has-zero-byte and has-less-than, as
+// in Anderson's "Bit Twiddling Hacks"). A borrow can also mark a byte above a marked one, never
+// below, so the lowest mark (in memory order on a little-endian machine) is exact.
+uint64_t SpecialBytes8(uint64_t word) {
   constexpr uint64_t kOnes = 0x0101010101010101ull;
   constexpr uint64_t kHigh = 0x8080808080808080ull;
   auto has_zero = [](uint64_t v) { return (v - kOnes) & ~v & kHigh; };
   const uint64_t below_space = (word - kOnes * 0x20) & ~word & kHigh;
-  return ((word & kHigh) | below_space | has_zero(word ^ (kOnes * '"')) |
-          has_zero(word ^ (kOnes * '\\'))) != 0;
+  return (word & kHigh) | below_space | has_zero(word ^ (kOnes * '"')) |
+         has_zero(word ^ (kOnes * '\\'));
 }
-#endif
 
 #if defined(__SSE2__)
 // A bit per byte of the 16 at `p`, set where the byte is not plain: signed, a byte below 0x20
@@ -51,8 +50,16 @@ size_t PlainAsciiRun(std::string_view text, size_t from) {
   }
   if (at == n) return n;
   if (n < 16) {
-    // Fewer than 16 bytes in all (a short string written out): one at a time, which costs
-    // less than copying them into a padded block.
+    // Fewer than 16 bytes in all (a short string written out): from 8, two words that may
+    // overlap; below that, a byte at a time. Either costs less than a padded copy.
+    if (n >= 8) {
+      uint64_t first, last;
+      std::memcpy(&first, p, 8);
+      std::memcpy(&last, p + n - 8, 8);
+      if (const uint64_t mask = SpecialBytes8(first); mask != 0) return __builtin_ctzll(mask) / 8;
+      const uint64_t mask = SpecialBytes8(last);
+      return mask != 0 ? n - 8 + __builtin_ctzll(mask) / 8 : n;
+    }
     while (at < n && IsPlainAscii(static_cast<unsigned char>(p[at]))) ++at;
     return at;
   }
@@ -67,7 +74,7 @@ size_t PlainAsciiRun(std::string_view text, size_t from) {
   while (at + 8 <= n) {
     uint64_t word;
     std::memcpy(&word, text.data() + at, sizeof word);
-    if (HasSpecialByte(word)) break;
+    if (SpecialBytes8(word) != 0) break;
     at += 8;
   }
   while (at < n && IsPlainAscii(static_cast<unsigned char>(text[at]))) ++at;

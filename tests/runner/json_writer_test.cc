@@ -224,9 +224,11 @@ namespace {
 
 TEST_CASE("json writer finds a byte to escape at every position of short and long strings",
           "[json_writer]") {
-  // The plain-run scan reads 16 bytes at a time, overlaps the last 16, and pads strings shorter
-  // than 16: one byte that needs escaping (or is UTF-8, or is the plain DEL) at each position of
-  // strings of 0 to 40 bytes, against dump().
+  // The plain-run scan reads 16 bytes at a time and overlaps the last 16; a string shorter than
+  // 16 is read as two overlapping 8-byte words, or byte by byte below 8: one byte that needs
+  // escaping (or is UTF-8, or is the plain DEL) at each position of strings of 0 to 40 bytes,
+  // then two at every pair of positions of strings of up to 17 (where a borrow in the word test
+  // could mark a later byte), against dump().
   const char* const kBytes[] = {"\"", "\\", "\n", "\x01", "\x1f", "\x7f", "\xC3\xA9", " ", "~"};
   int compared = 0;
   for (size_t length = 0; length <= 40; ++length) {
@@ -239,7 +241,24 @@ TEST_CASE("json writer finds a byte to escape at every position of short and lon
       }
     }
   }
-  CHECK(compared > 7000);
+  const std::string kFirst[] = {"\"", "\x01", "\x7f", "\xC3\xA9"};
+  const std::string kSecond[] = {"\\", "\x1f", "~", "\n"};
+  for (size_t length = 2; length <= 17; ++length) {
+    for (size_t i = 0; i < length; ++i) {
+      for (const std::string& first : kFirst) {
+        for (size_t j = i + first.size(); j < length; ++j) {
+          for (const std::string& second : kSecond) {
+            std::string text(length, 'x');
+            text.replace(i, first.size(), first);
+            text[j] = second[0];
+            CHECK(StringText(text) == nlohmann::json(text).dump());
+            ++compared;
+          }
+        }
+      }
+    }
+  }
+  CHECK(compared > 19000);
 }
 
 }  // namespace
