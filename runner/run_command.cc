@@ -125,7 +125,6 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
   context.repeat = options.repeat;
   context.jobs = adapter->slots();
   context.resumed = options.resume;
-  context.case_entries = std::make_shared<PendingCaseEntries>(suite, selected);
 
   const auto start = std::chrono::steady_clock::now();
   Adapter* raw_adapter = adapter.get();

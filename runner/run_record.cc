@@ -28,11 +28,11 @@ constexpr size_t kPieceBytes = 256 << 10;
 
 }  // namespace
 
-bool WriteRunRecordCases(const Suite& suite, const std::vector<size_t>& selected,
-                         const std::function<bool(std::string_view)>& sink) {
+bool WriteRunRecordCases(const RunContext& ctx, const std::function<bool(std::string_view)>& sink) {
+  const Suite& suite = *ctx.suite;
   JsonWriter w(2, 2);  // inside the record's object and its "cases" object
   w.Reserve(2 * kPieceBytes);
-  for (size_t index : selected) {
+  for (size_t index : ctx.selected) {
     const Case& c = suite.cases[index];
     w.Key(c.id).BeginObject();
     w.PlainKey("gold_hash").String(c.gold_hash).PlainKey("question").String(c.question);

@@ -8,7 +8,6 @@
 
 #include <functional>
 #include <map>
-#include <memory>
 #include <nlohmann/json.hpp>
 #include <string>
 #include <string_view>
@@ -16,7 +15,6 @@
 
 #include "runner/case_selection.h"
 #include "runner/exit_code.h"
-#include "runner/pending_case_entries.h"
 #include "runner/run_aggregates.h"
 #include "runner/suite.h"
 
@@ -35,20 +33,17 @@ struct RunContext {
   int repeat = 1;
   int jobs = 1;
   bool resumed = false;
-  /// The case entries of `selected`, formatting since the cases started; null: FinishRun
-  /// formats them itself.
-  std::shared_ptr<PendingCaseEntries> case_entries;
 };
 
 /// run.json comes in three parts: RunRecordHead, the case entries of WriteRunRecordCases, and
 /// RunRecordTail; together, JSON indented by two spaces with members in a fixed order and one
-/// trailing newline. The case entries are most of the file and depend on the suite and the
-/// selection alone, so they are formatted while the cases run (runner/pending_case_entries.h).
+/// trailing newline. The case entries are most of the file and depend on the suite alone, so
+/// FinishRun writes them on a second thread while the aggregates are computed, straight to the
+/// file instead of holding them.
 std::string RunRecordHead(const RunContext& context);
-/// The case entries: each case of suite.cases[i], i in `selected`, with its gold, so reports and
-/// drift need no suite file. They are handed to `sink` in pieces of about 256 KiB; false as
-/// soon as `sink` returns false.
-bool WriteRunRecordCases(const Suite& suite, const std::vector<size_t>& selected,
+/// The case entries: each selected case with its gold, so reports and drift need no suite file.
+/// They are handed to `sink` in pieces of about 256 KiB; false as soon as `sink` returns false.
+bool WriteRunRecordCases(const RunContext& context,
                          const std::function<bool(std::string_view)>& sink);
 std::string RunRecordTail(const RunContext& context, const RunAggregates& aggregates,
                           const std::vector<ThresholdOutcome>& thresholds,

@@ -21,15 +21,13 @@ bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, boo
     file = AtomicFile::Open(run_dir + "/run.json", error);
     if (file == nullptr) return false;
   }
-  // The head and the case entries are written meanwhile on a second thread (the entries kept
-  // only for --json, which prints the record).
+  // The head and the case entries depend on the suite alone: written meanwhile on a second
+  // thread, straight to the file (and kept only for --json, which prints the record).
   const std::string head = RunRecordHead(context);
-  std::shared_ptr<PendingCaseEntries> entries = context.case_entries;
-  if (entries == nullptr) entries = std::make_shared<PendingCaseEntries>(suite, context.selected);
   std::string cases;
   std::thread case_writer([&] {
     if (file != nullptr) file->Write(head);
-    entries->Write([&](std::string_view piece) {
+    WriteRunRecordCases(context, [&](std::string_view piece) {
       if (json) cases.append(piece);
       return file == nullptr || file->Write(piece);
     });

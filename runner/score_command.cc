@@ -29,11 +29,6 @@ int ScoreCommand(const ScoreOptions& options) {
   const Suite& suite = prepared.suite;
 
   const auto start = std::chrono::steady_clock::now();
-  RunContext context;
-  context.suite = &suite;
-  context.selected.resize(suite.cases.size());
-  for (size_t i = 0; i < suite.cases.size(); ++i) context.selected[i] = i;
-  context.case_entries = std::make_shared<PendingCaseEntries>(suite, context.selected);
   const std::string run_dir = RunDirectory(options.out_dir, suite.name, "predictions", false);
   std::string error;
   if (!MakeDirectories(run_dir, &error)) {
@@ -69,6 +64,10 @@ int ScoreCommand(const ScoreOptions& options) {
     return 2;
   }
 
+  RunContext context;
+  context.suite = &suite;
+  context.selected.resize(suite.cases.size());
+  for (size_t i = 0; i < suite.cases.size(); ++i) context.selected[i] = i;
   context.pipeline_name = "predictions";
   context.pipeline_config = {{"predictions", options.predictions_path}};
   context.corpus_fingerprint = prepared.corpus_fingerprint;
