@@ -855,29 +855,38 @@ class SuiteLoader {
   static std::string GoldHash(const Case& gold) {
     thread_local JsonWriter w;  // one buffer per loading thread, reused case after case
     w.Clear();
-    w.BeginObject().Member("answers", gold.answers).Key("number");
+    w.BeginObject().PlainKey("answers").StringArray(gold.answers).PlainKey("number");
     if (gold.number) {
       w.BeginObject()
-          .Key("tolerance")
+          .PlainKey("tolerance")
           .Raw(nlohmann::json(gold.number->tolerance).dump())
-          .Member("unit", gold.number->unit)
-          .Key("value")
+          .PlainKey("unit")
+          .String(gold.number->unit)
+          .PlainKey("value")
           .Raw(nlohmann::json(gold.number->value).dump())
           .EndObject();
     } else {
       w.Null();
     }
-    w.Member("patterns", gold.patterns).Member("question", gold.question).Key("sources");
+    w.PlainKey("patterns")
+        .StringArray(gold.patterns)
+        .PlainKey("question")
+        .String(gold.question)
+        .PlainKey("sources");
     w.BeginArray();
     for (const GoldSpan& span : gold.sources) {
       w.BeginObject()
-          .Member("doc", span.doc)
-          .Member("end", static_cast<int64_t>(span.end))
-          .Member("start", static_cast<int64_t>(span.start))
-          .Member("text", span.text)
+          .PlainKey("doc")
+          .String(span.doc)
+          .PlainKey("end")
+          .Int(static_cast<int64_t>(span.end))
+          .PlainKey("start")
+          .Int(static_cast<int64_t>(span.start))
+          .PlainKey("text")
+          .String(span.text)
           .EndObject();
     }
-    w.EndArray().Member("tags", gold.tags).EndObject();
+    w.EndArray().PlainKey("tags").StringArray(gold.tags).EndObject();
     return Sha256Hex("plumb-gold-v1\n", w.text());
   }
 
