@@ -48,9 +48,12 @@ bool RunJournal::AppendLine(std::string line, std::string* error) {
 bool RunJournal::AppendLines(std::string_view lines, std::string* error) {
   std::lock_guard<std::mutex> lock(mutex_);
   if (buffer_bytes_ == 0) return WriteAll(lines, error);
-  pending_.append(lines);
-  if (pending_.size() < buffer_bytes_) return true;
-  const bool written = WriteAll(pending_, error);
+  if (pending_.size() + lines.size() < buffer_bytes_) {
+    pending_.append(lines);
+    return true;
+  }
+  // Enough to write: what is pending, then these lines as they are, without copying them.
+  const bool written = (pending_.empty() || WriteAll(pending_, error)) && WriteAll(lines, error);
   pending_.clear();
   return written;
 }
