@@ -162,7 +162,8 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
   }
   run.latency = metrics::SummarizeLatency(std::move(latencies));
 
-  // The cases of the whole run, then of each tag (sorted), each summarized on its own.
+  // groups[0] holds the whole run's cases, then one group per tag in order of first
+  // appearance (tag_groups has them sorted); each is summarized on its own.
   struct Group {
     std::vector<const CaseValues*> cases;
     std::vector<bool> abstention;
