@@ -4,6 +4,7 @@
 #include <charconv>
 
 #include "runner/code_points.h"
+#include "runner/json_cursor.h"
 #include "runner/json_string.h"
 
 namespace plumb {
@@ -14,9 +15,9 @@ namespace {
 // accepted forms few and plain).
 constexpr size_t kMaxNumberDigits = 17;
 
-class FlatScanner {
+class FlatScanner : JsonCursor {
  public:
-  explicit FlatScanner(std::string_view text) : text_(text) {}
+  explicit FlatScanner(std::string_view text) : JsonCursor(text) {}
 
   bool Read(FlatReply* reply) {
     SkipSpace();
@@ -55,20 +56,6 @@ class FlatScanner {
     SkipSpace();
     return at_ == text_.size();
   }
-  void SkipSpace() {
-    while (at_ < text_.size() &&
-           (text_[at_] == ' ' || text_[at_] == '\t' || text_[at_] == '\n' || text_[at_] == '\r')) {
-      ++at_;
-    }
-  }
-  bool Take(char c) {
-    if (at_ < text_.size() && text_[at_] == c) {
-      ++at_;
-      return true;
-    }
-    return false;
-  }
-
   // A key without escapes: the bytes between the quotes, checked as a string's are.
   bool Key(std::string_view* key) {
     if (!Take('"')) return false;
@@ -148,9 +135,6 @@ class FlatScanner {
     value->kind = FlatValue::Kind::kDouble;
     return std::from_chars(first, last, value->number).ec == std::errc();
   }
-
-  std::string_view text_;
-  size_t at_ = 0;
 };
 
 }  // namespace

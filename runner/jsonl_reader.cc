@@ -8,6 +8,7 @@
 #include <utility>
 
 #include "runner/code_points.h"
+#include "runner/json_cursor.h"
 #include "runner/json_string.h"
 
 namespace plumb {
@@ -60,9 +61,9 @@ bool OverflowsDouble(std::string_view number) {
 // SourceNode tree on the way, and refuses the rest without saying why (nlohmann words that).
 // It refuses two kinds of line that nlohmann accepts: nesting deeper than kMaxJsonDepth, and
 // a value followed by a NUL byte, which nlohmann reads as the end of its input.
-class PositionedScanner {
+class PositionedScanner : JsonCursor {
  public:
-  PositionedScanner(std::string_view text, int line) : text_(text), line_(line) {}
+  PositionedScanner(std::string_view text, int line) : JsonCursor(text), line_(line) {}
 
   bool Document(SourceNode* root) {
     // nlohmann skips a UTF-8 byte-order mark at the very start; it is one code point.
@@ -107,24 +108,6 @@ class PositionedScanner {
     }
   }
 
-  // Every byte before at_ has been checked, and only strings hold multi-byte sequences, so the
-  // code points so far are the bytes less the continuation bytes counted on the way.
-  int Column() const { return int(at_ - continuation_bytes_) + 1; }
-
-  // RFC 8259 §2: whitespace is space, tab, line feed and carriage return, nothing else.
-  void SkipSpace() {
-    while (at_ < text_.size() &&
-           (text_[at_] == ' ' || text_[at_] == '\t' || text_[at_] == '\r' || text_[at_] == '\n')) {
-      ++at_;
-    }
-  }
-
-  bool Consume(char c) {
-    if (at_ >= text_.size() || text_[at_] != c) return false;
-    ++at_;
-    return true;
-  }
-
   bool Consume(std::string_view word) {
     if (text_.substr(at_, word.size()) != word) return false;
     at_ += word.size();
@@ -148,7 +131,7 @@ class PositionedScanner {
     out->kind = SourceNode::Kind::kMapping;
     ++at_;  // '{'
     SkipSpace();
-    if (Consume('}')) return true;
+    if (Take('}')) return true;
     // A case object has a handful of keys: one allocation instead of four growth steps.
     out->entries.reserve(8);
     do {
@@ -158,45 +141,42 @@ class PositionedScanner {
       SourceEntry& entry = out->entries.back();
       if (!Value(depth + 1, &entry.key)) return false;
       SkipSpace();
-      if (!Consume(':') || !Value(depth + 1, &entry.value)) return false;
+      if (!Take(':') || !Value(depth + 1, &entry.value)) return false;
       SkipSpace();
-    } while (Consume(','));
-    return Consume('}');
+    } while (Take(','));
+    return Take('}');
   }
 
   bool Array(int depth, SourceNode* out) {
     out->kind = SourceNode::Kind::kSequence;
     ++at_;  // '['
     SkipSpace();
-    if (Consume(']')) return true;
+    if (Take(']')) return true;
     out->items.reserve(4);
     do {
       out->items.emplace_back();
       if (!Value(depth + 1, &out->items.back())) return false;
       SkipSpace();
-    } while (Consume(','));
-    return Consume(']');
+    } while (Take(','));
+    return Take(']');
   }
 
   // RFC 8259 §6: -?(0|[1-9][0-9]*)(\.[0-9]+)?([eE][+-]?[0-9]+)?, kept as written. A digit
   // after a leading 0 is left for the caller, which refuses it as it would any stray byte.
   bool Number(std::string* out) {
     size_t start = at_;
-    Consume('-');
-    if (!Consume('0') && !ConsumeDigits()) return false;
-    if (Consume('.') && !ConsumeDigits()) return false;
-    if (Consume('e') || Consume('E')) {
-      if (!Consume('+')) Consume('-');
+    Take('-');
+    if (!Take('0') && !ConsumeDigits()) return false;
+    if (Take('.') && !ConsumeDigits()) return false;
+    if (Take('e') || Take('E')) {
+      if (!Take('+')) Take('-');
       if (!ConsumeDigits()) return false;
     }
     out->assign(text_.data() + start, at_ - start);
     return !OverflowsDouble(*out);
   }
 
-  std::string_view text_;
   int line_;
-  size_t at_ = 0;
-  size_t continuation_bytes_ = 0;  // UTF-8 continuation bytes before at_
   bool too_deep_ = false;
 };
 

@@ -3,14 +3,15 @@
 #include <string>
 #include <vector>
 
+#include "runner/json_cursor.h"
 #include "runner/json_string.h"
 
 namespace plumb {
 namespace {
 
-class PlainCaseScanner {
+class PlainCaseScanner : JsonCursor {
  public:
-  explicit PlainCaseScanner(std::string_view text) : text_(text) {}
+  explicit PlainCaseScanner(std::string_view text) : JsonCursor(text) {}
 
   bool Read(Case* gold, PlainCaseColumns* columns) {
     SkipSpace();
@@ -48,24 +49,6 @@ class PlainCaseScanner {
   }
 
  private:
-  // As ReadJsonLine counts: bytes so far less the UTF-8 continuation bytes among them (only
-  // strings hold multi-byte sequences, and the strings count theirs as they are read).
-  int Column() const { return int(at_ - continuation_bytes_) + 1; }
-
-  // RFC 8259 §2: space, tab, line feed and carriage return.
-  void SkipSpace() {
-    while (at_ < text_.size() &&
-           (text_[at_] == ' ' || text_[at_] == '\t' || text_[at_] == '\r' || text_[at_] == '\n')) {
-      ++at_;
-    }
-  }
-
-  bool Take(char c) {
-    if (at_ >= text_.size() || text_[at_] != c) return false;
-    ++at_;
-    return true;
-  }
-
   // A member name. One of the plain names has no escapes and no multi-byte characters, so
   // only such a name is read here; any other (escaped, or not ASCII) declines the line.
   bool Key(std::string_view* key) {
@@ -108,10 +91,6 @@ class PlainCaseScanner {
     for (size_t i = 0; i < count; ++i) out->push_back(std::move(items[i]));
     return true;
   }
-
-  std::string_view text_;
-  size_t at_ = 0;
-  size_t continuation_bytes_ = 0;
 };
 
 }  // namespace
