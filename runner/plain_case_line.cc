@@ -1,6 +1,7 @@
 #include "runner/plain_case_line.h"
 
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "runner/json_cursor.h"
