@@ -5,9 +5,10 @@
 /// whose members are "id" and "question" (strings), "answers" and, if present, "tags" (arrays
 /// of strings), each once, keys in any order. The suite loader reads most lines of a large
 /// include this way; any other line (other keys, a key written with escapes, other types,
-/// nesting, a repeated or missing key, a BOM, invalid JSON) is declined and goes through ReadJsonLine and the general case
-/// reader, which also words every problem. Only the shape is checked here: whether the id,
-/// the answers and the tags are valid values is the loader's to decide. Pure.
+/// nesting, a repeated or missing key, a BOM, invalid JSON) is declined and goes through
+/// ReadJsonLine and the general case reader, which also words every problem. Only the shape is
+/// checked here: whether the id, the answers and the tags are valid values is the loader's to
+/// decide. Pure.
 
 #include <string_view>
 
