@@ -89,22 +89,16 @@ class FlatScanner : JsonCursor {
         return ReadJsonString(text_, &at_, &value->text, nullptr);
       case 't':
         value->kind = FlatValue::Kind::kTrue;
-        return Word("true");
+        return TakeWord("true");
       case 'f':
         value->kind = FlatValue::Kind::kFalse;
-        return Word("false");
+        return TakeWord("false");
       case 'n':
         value->kind = FlatValue::Kind::kNull;
-        return Word("null");
+        return TakeWord("null");
       default:
         return Number(value);
     }
-  }
-
-  bool Word(std::string_view word) {
-    if (text_.substr(at_, word.size()) != word) return false;
-    at_ += word.size();
-    return true;
   }
 
   // -?(0|[1-9][0-9]*)(\.[0-9]+)? with no more than kMaxNumberDigits digits; no exponent.
@@ -112,16 +106,13 @@ class FlatScanner : JsonCursor {
     const size_t start = at_;
     Take('-');
     const size_t int_start = at_;
-    while (at_ < text_.size() && text_[at_] >= '0' && text_[at_] <= '9') ++at_;
-    const size_t int_digits = at_ - int_start;
+    const size_t int_digits = TakeDigits();
     if (int_digits == 0 || (int_digits > 1 && text_[int_start] == '0')) return false;
     size_t frac_digits = 0;
     bool fraction = false;
     if (Take('.')) {
       fraction = true;
-      const size_t frac_start = at_;
-      while (at_ < text_.size() && text_[at_] >= '0' && text_[at_] <= '9') ++at_;
-      frac_digits = at_ - frac_start;
+      frac_digits = TakeDigits();
       if (frac_digits == 0) return false;
     }
     if (at_ < text_.size() && (text_[at_] == 'e' || text_[at_] == 'E')) return false;

@@ -28,6 +28,18 @@ class JsonCursor {
     ++at_;
     return true;
   }
+  /// Steps over `word` (a literal such as "null", or the byte-order mark) if it comes next.
+  bool TakeWord(std::string_view word) {
+    if (text_.substr(at_, word.size()) != word) return false;
+    at_ += word.size();
+    return true;
+  }
+  /// Steps over the ASCII digits that come next; returns how many.
+  size_t TakeDigits() {
+    const size_t start = at_;
+    while (at_ < text_.size() && text_[at_] >= '0' && text_[at_] <= '9') ++at_;
+    return at_ - start;
+  }
   /// The 1-based code-point column of at_: the bytes so far less the UTF-8 continuation bytes
   /// among them. Exact when only strings hold multi-byte sequences and each string read counts
   /// its own into continuation_bytes_ (ReadJsonString does, when given it).

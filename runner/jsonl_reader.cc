@@ -67,7 +67,7 @@ class PositionedScanner : JsonCursor {
 
   bool Document(SourceNode* root) {
     // nlohmann skips a UTF-8 byte-order mark at the very start; it is one code point.
-    if (Consume("\xEF\xBB\xBF")) continuation_bytes_ = 2;
+    if (TakeWord("\xEF\xBB\xBF")) continuation_bytes_ = 2;
     if (!Value(0, root)) return false;
     SkipSpace();
     return at_ == text_.size();  // RFC 8259 §2: one value, nothing after it
@@ -97,7 +97,7 @@ class PositionedScanner : JsonCursor {
         return ReadJsonString(text_, &at_, &out->scalar, &continuation_bytes_);
       case 'n':
         out->kind = SourceNode::Kind::kNull;
-        return Consume("null");
+        return TakeWord("null");
       case 't':
         return Word("true", out);
       case 'f':
@@ -108,23 +108,11 @@ class PositionedScanner : JsonCursor {
     }
   }
 
-  bool Consume(std::string_view word) {
-    if (text_.substr(at_, word.size()) != word) return false;
-    at_ += word.size();
-    return true;
-  }
-
-  bool ConsumeDigits() {
-    size_t start = at_;
-    while (at_ < text_.size() && text_[at_] >= '0' && text_[at_] <= '9') ++at_;
-    return at_ > start;
-  }
-
   // true and false stay plain scalars holding their text, as a YAML reader would give them.
   bool Word(std::string_view word, SourceNode* out) {
     out->kind = SourceNode::Kind::kScalar;
     out->scalar = std::string(word);
-    return Consume(word);
+    return TakeWord(word);
   }
 
   bool Object(int depth, SourceNode* out) {
@@ -166,11 +154,11 @@ class PositionedScanner : JsonCursor {
   bool Number(std::string* out) {
     size_t start = at_;
     Take('-');
-    if (!Take('0') && !ConsumeDigits()) return false;
-    if (Take('.') && !ConsumeDigits()) return false;
+    if (!Take('0') && TakeDigits() == 0) return false;
+    if (Take('.') && TakeDigits() == 0) return false;
     if (Take('e') || Take('E')) {
       if (!Take('+')) Take('-');
-      if (!ConsumeDigits()) return false;
+      if (TakeDigits() == 0) return false;
     }
     out->assign(text_.data() + start, at_ - start);
     return !OverflowsDouble(*out);
