@@ -34,6 +34,10 @@ class CaseIdIndex {
   // A slot holds the id's hash in its high 32 bits and 1 + the case's index in its low 32 (so
   // most mismatches are told apart without reading the id); 0 is an empty slot.
   void Rehash(size_t slots);
+  /// The index of the case with `id` (whose hash is `hash`), or kAbsent with *slot the empty
+  /// slot where it would go.
+  size_t Probe(const std::vector<Case>& cases, std::string_view id, uint32_t hash,
+               size_t* slot) const;
 
   std::vector<uint64_t> slots_;
   size_t size_ = 0;

@@ -49,8 +49,8 @@ bool LoadResumeState(const std::string& journal_path, const Suite& suite,
   JournalContents contents;
   if (!ReadJournal(journal_path, &contents, error)) return false;
   for (const std::string& w : contents.warnings) std::fprintf(stderr, "warning: %s\n", w.c_str());
-  std::map<std::string, size_t> index_of;
-  for (size_t i : selected) index_of[suite.cases[i].id] = i;
+  std::vector<bool> is_selected(suite.cases.size(), false);
+  for (size_t i : selected) is_selected[i] = true;
   for (const nlohmann::json& json : contents.records) {
     CaseRecord record;
     std::string record_error;
@@ -58,11 +58,12 @@ bool LoadResumeState(const std::string& journal_path, const Suite& suite,
       *error = journal_path + ": " + record_error;
       return false;
     }
-    auto it = index_of.find(record.id);
-    if (it == index_of.end()) continue;  // not selected this time; kept in the journal as is
+    const size_t index = suite.case_ids.Find(suite.cases, record.id);
+    // Not in the suite, or not selected this time: kept in the journal as is.
+    if (index == CaseIdIndex::kAbsent || !is_selected[index]) continue;
     if (!state->finished.insert({record.id, record.repeat}).second) continue;
-    CaseOutcome outcome = OutcomeOf(record, it->second);
-    outcome.scores.abstention_case = suite.cases[it->second].answers.empty();
+    CaseOutcome outcome = OutcomeOf(record, index);
+    outcome.scores.abstention_case = suite.cases[index].answers.empty();
     state->outcomes.push_back(std::move(outcome));
   }
   state->keep_bytes = contents.valid_bytes;
