@@ -13,6 +13,8 @@
 
 namespace plumb {
 
+class JsonWriter;
+
 /// The request of §5: {"id", "question", "input", "repeat"}.
 struct PipelineRequest {
   std::string id;
@@ -27,8 +29,12 @@ struct PipelineRequest {
   /// pipeline reads and what the journal records. Invalid UTF-8 becomes U+FFFD.
   std::string ToLine() const { return RequestLine(id, question, input, repeat); }
 
+  /// `input` null (a case without input) is written as {}.
   static std::string RequestLine(const std::string& id, const std::string& question,
                                  const nlohmann::json& input, int repeat);
+  /// The same object, written as the next value of `out`.
+  static void WriteRequest(const std::string& id, const std::string& question,
+                           const nlohmann::json& input, int repeat, JsonWriter* out);
 };
 
 /// What one call produced. `error` empty means `body` holds a complete reply to parse;

@@ -34,20 +34,17 @@ std::string CaseRecordLine(const CaseRecord& r) {
 }
 
 void WriteCaseRecord(const CaseRecord& r, JsonWriter* out) {
+  BeginCaseRecord(r.id, r.repeat, out);
+  out->PlainKey("request").Raw(r.request).PlainKey("response").Value(r.response);
+  EndCaseRecord(r, out);
+}
+
+void BeginCaseRecord(std::string_view id, int repeat, JsonWriter* out) {
+  out->BeginObject().PlainKey("id").String(id).PlainKey("repeat").Int(repeat);
+}
+
+void EndCaseRecord(const CaseRecord& r, JsonWriter* out) {
   JsonWriter& w = *out;
-  w.BeginObject()
-      .PlainKey("id")
-      .String(r.id)
-      .PlainKey("repeat")
-      .Int(r.repeat)
-      .PlainKey("request")
-      .Raw(r.request);
-  w.PlainKey("response");
-  if (r.response_json.empty()) {
-    w.Value(r.response);
-  } else {
-    w.Raw(r.response_json);
-  }
   w.PlainKey("latency_ms").Double(r.latency_ms).PlainKey("attempts").Int(r.attempts);
   if (r.error.empty()) {
     w.PlainKey("answer");

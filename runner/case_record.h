@@ -23,10 +23,9 @@ inline constexpr size_t kMaxRecordedBody = 64 * 1024;
 struct CaseRecord {
   std::string id;
   int repeat = 0;
-  std::string request;        // as sent: compact JSON (PipelineRequest::ToLine)
-  nlohmann::json response;    // the parsed reply, or {"excerpt", "bytes"} when large or invalid
-  std::string response_json;  // when not empty: the "response" as JSON text, used instead
-  Response parsed;            // empty when the call errored
+  std::string request;      // as sent: compact JSON (PipelineRequest::ToLine)
+  nlohmann::json response;  // the parsed reply, or {"excerpt", "bytes"} when large or invalid
+  Response parsed;          // empty when the call errored
   double latency_ms = 0;
   int attempts = 1;
   std::string error;  // empty when the reply was valid
@@ -39,6 +38,13 @@ struct CaseRecord {
 std::string CaseRecordLine(const CaseRecord& record);
 /// The same, appended to a compact (indent < 0) writer at its top level.
 void WriteCaseRecord(const CaseRecord& record, JsonWriter* out);
+/// WriteCaseRecord in two parts, for a caller that writes "request" and "response" straight into
+/// `out` (plumb score's recorded replies): BeginCaseRecord opens the object with "id" and
+/// "repeat"; the caller writes Key "request" and its value, then Key "response" and its value;
+/// EndCaseRecord writes the members after them from `record` (its id, repeat, request and
+/// response are not read).
+void BeginCaseRecord(std::string_view id, int repeat, JsonWriter* out);
+void EndCaseRecord(const CaseRecord& record, JsonWriter* out);
 /// Reads a record written by CaseRecordLine; false with a reason when fields are missing.
 bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* record, std::string* error);
 

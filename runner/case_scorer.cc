@@ -1,5 +1,7 @@
 #include "runner/case_scorer.h"
 
+#include <string_view>
+
 #include "metrics/citation_metrics.h"
 #include "metrics/number_match.h"
 #include "metrics/retrieval_metrics.h"
@@ -141,7 +143,8 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
   scores.abstained = answer.abstained;
 
   double correct = answer.exact_match;
-  const std::string raw_answer = response->answer.value_or(std::string());
+  const std::string_view raw_answer =
+      response->answer ? std::string_view(*response->answer) : std::string_view();
   if (prepared.has_patterns) {
     const double pattern = !response->abstained && prepared.patterns.AnyMatch(raw_answer) ? 1 : 0;
     scores.values["pattern_match"] = pattern;

@@ -149,7 +149,7 @@ void JsonWriter::BeforeItem() {
   char& empty = levels_.Back();
   if (!empty) PutChar(',');
   empty = 0;
-  if (indent_ >= 0) NewLine(levels_.size());
+  if (Indented(levels_.size())) NewLine(levels_.size());
 }
 
 JsonWriter& JsonWriter::BeginObject() {
@@ -170,7 +170,7 @@ JsonWriter& JsonWriter::Close(char bracket) {
   assert(!levels_.empty() && !after_key_);
   const bool empty = levels_.Back() != 0;
   levels_.Pop();
-  if (!empty && indent_ >= 0) NewLine(levels_.size());
+  if (!empty && Indented(levels_.size() + 1)) NewLine(levels_.size());
   PutChar(bracket);
   return *this;
 }
@@ -182,7 +182,7 @@ JsonWriter& JsonWriter::Key(std::string_view key) {
   assert(!levels_.empty() && !after_key_);
   BeforeItem();
   PutString(key);
-  if (indent_ >= 0) {
+  if (Indented(levels_.size())) {
     Put(": ", 2);
   } else {
     PutChar(':');

@@ -39,6 +39,9 @@ class JsonWriter {
   /// put together by concatenation. It starts in an empty object at that depth; MarkFilled
   /// tells it that members came before.
   JsonWriter(int indent, size_t depth) : indent_(indent), levels_(depth) {}
+  /// An indented writer writes what lies deeper than `depth` open containers compact, on the
+  /// line of the member or element that holds it: run.json gives each case entry one line.
+  void CompactDeeperThan(size_t depth) { indented_depth_ = depth; }
 
   /// The text written so far; the writer starts again empty.
   std::string Take();
@@ -155,7 +158,11 @@ class JsonWriter {
 
   std::string buffer_;  // [0, size_) is the text; the rest is room
   size_t size_ = 0;
+  /// Whether the items of the innermost open container (at depth `levels`) go one per line.
+  bool Indented(size_t levels) const { return indent_ >= 0 && levels <= indented_depth_; }
+
   int indent_;
+  size_t indented_depth_ = SIZE_MAX;
   LevelStack levels_;
   bool after_key_ = false;
 };
@@ -167,7 +174,7 @@ inline JsonWriter& JsonWriter::PlainKey(std::string_view key) {
     return (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z') || (c >= '0' && c <= '9') || c == '_';
   }));
   BeforeItem();
-  const size_t separator = indent_ >= 0 ? 2 : 1;
+  const size_t separator = Indented(levels_.size()) ? 2 : 1;
   char* at = Room(key.size() + 2 + separator);
   at[0] = '"';
   std::memcpy(at + 1, key.data(), key.size());

@@ -133,16 +133,19 @@ void PredictionReader::ScoreChunk(const std::vector<Line>& lines, size_t begin, 
     const Line& line = lines[i];
     LineResult& result = chunk->results.emplace_back();
     result.line_number = line.number;
-    CaseRecord record;
-    LineRead read = ReadFlat(line, chunk, &next_index, &result, &record);
-    if (read == LineRead::kDeclined) read = ReadGeneral(line, &next_index, &result, &record);
-    if (read != LineRead::kRecord) continue;
-    result.kind = LineResult::Kind::kScored;
-    result.journal_begin = chunk->journal.size();
-    WriteCaseRecord(record, &chunk->journal);
-    chunk->journal.EndLine();
-    result.journal_end = chunk->journal.size();
-    result.outcome = OutcomeOf(std::move(record), result.case_index);
+    LineRead read = ReadFlat(line, chunk, &next_index, &result);
+    if (read == LineRead::kDeclined) {
+      CaseRecord record;
+      read = ReadGeneral(line, &next_index, &result, &record);
+      if (read == LineRead::kRecord) {
+        result.journal_begin = chunk->journal.size();
+        WriteCaseRecord(record, &chunk->journal);
+        chunk->journal.EndLine();
+        result.journal_end = chunk->journal.size();
+        result.outcome = OutcomeOf(std::move(record), result.case_index);
+      }
+    }
+    if (read == LineRead::kRecord) result.kind = LineResult::Kind::kScored;
   }
 }
 
@@ -163,8 +166,8 @@ bool PredictionReader::FindCase(std::string_view id, size_t* next_index, LineRes
 }
 
 PredictionReader::LineRead PredictionReader::ReadFlat(const Line& line, Chunk* chunk,
-                                                      size_t* next_index, LineResult* result,
-                                                      CaseRecord* record) const {
+                                                      size_t* next_index,
+                                                      LineResult* result) const {
   FlatPrediction prediction;
   if (line.text.size() > kMaxRecordedBody ||
       !ReadFlatPrediction(line.text, kMaxRepeat, &chunk->flat, &prediction)) {
@@ -172,11 +175,26 @@ PredictionReader::LineRead PredictionReader::ReadFlat(const Line& line, Chunk* c
   }
   result->repeat = prediction.repeat;
   if (!FindCase(prediction.id, next_index, result)) return LineRead::kNoRecord;
-  chunk->scratch.Clear();
-  chunk->flat.Write(&chunk->scratch);
-  *record = MakeReadCaseRecord(prepared_.suite.cases[result->case_index], prediction.repeat,
-                               prediction.latency_ms, *prepared_.scorer, result->case_index,
-                               std::move(prediction.parsed), std::string(chunk->scratch.text()));
+  // The record MakeCaseRecord would give for this reply (from a pipeline without secrets or a
+  // reply map), written straight into the journal: the request from the case, the response
+  // from the flat reply, the rest from a record holding only what follows them.
+  const Case& c = prepared_.suite.cases[result->case_index];
+  CaseRecord record;
+  record.repeat = prediction.repeat;
+  record.latency_ms = prediction.latency_ms;
+  record.parsed = std::move(prediction.parsed);
+  record.scores = prepared_.scorer->Score(result->case_index, &record.parsed);
+  JsonWriter& w = chunk->journal;
+  result->journal_begin = w.size();
+  BeginCaseRecord(c.id, record.repeat, &w);
+  w.PlainKey("request");
+  PipelineRequest::WriteRequest(c.id, c.question, c.input, record.repeat, &w);
+  w.PlainKey("response");
+  chunk->flat.Write(&w);
+  EndCaseRecord(record, &w);
+  w.EndLine();
+  result->journal_end = w.size();
+  result->outcome = OutcomeOf(std::move(record), result->case_index);
   return LineRead::kRecord;
 }
 

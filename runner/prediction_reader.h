@@ -58,15 +58,14 @@ class PredictionReader {
   struct Chunk {
     JsonWriter journal;  // the records of its scored lines, each ending in a newline
     std::vector<LineResult> results;
-    FlatReply flat;      // scratch for ReadFlat
-    JsonWriter scratch;  // scratch for ReadFlat
+    FlatReply flat;  // scratch for ReadFlat
   };
   enum class LineRead { kRecord, kNoRecord, kDeclined };
 
-  /// The common flat reply (runner/flat_reply.h) read without a JSON tree; kDeclined leaves the
-  /// line to ReadGeneral. kNoRecord: the line names a case the suite does not have.
-  LineRead ReadFlat(const Line& line, Chunk* chunk, size_t* next_index, LineResult* result,
-                    CaseRecord* record) const;
+  /// The common flat reply (runner/flat_reply.h) read without a JSON tree, scored, and its
+  /// record written to chunk->journal and *result; kDeclined leaves the line to ReadGeneral.
+  /// kNoRecord: the line names a case the suite does not have.
+  LineRead ReadFlat(const Line& line, Chunk* chunk, size_t* next_index, LineResult* result) const;
   /// Any line, through nlohmann::json; kNoRecord with the problem in *result.
   LineRead ReadGeneral(const Line& line, size_t* next_index, LineResult* result,
                        CaseRecord* record) const;

@@ -30,7 +30,8 @@ constexpr size_t kPieceBytes = 256 << 10;
 
 bool WriteRunRecordCases(const RunContext& ctx, const std::function<bool(std::string_view)>& sink) {
   const Suite& suite = *ctx.suite;
-  JsonWriter w(2, 2);  // inside the record's object and its "cases" object
+  JsonWriter w(2, 2);      // inside the record's object and its "cases" object
+  w.CompactDeeperThan(2);  // one line per case entry
   w.Reserve(2 * kPieceBytes);
   for (size_t index : ctx.selected) {
     const Case& c = suite.cases[index];
@@ -122,7 +123,8 @@ std::string RunRecordHead(const RunContext& ctx) {
 std::string RunRecordTail(const RunContext& ctx, const RunAggregates& aggregates,
                           const std::vector<ThresholdOutcome>& thresholds,
                           const RunVerdict& verdict) {
-  JsonWriter w(2, 2);  // inside the record's object and its "cases" object
+  JsonWriter w(2, 2);      // inside the record's object and its "cases" object
+  w.CompactDeeperThan(2);  // one line per case entry
   if (!ctx.selected.empty()) w.MarkFilled();
   w.EndObject().MarkFilled();
   w.Key("aggregates").Value(AggregatesToJson(aggregates));

@@ -55,20 +55,6 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
   return record;
 }
 
-CaseRecord MakeReadCaseRecord(const Case& c, int repeat, double latency_ms,
-                              const CaseScorer& scorer, size_t case_index, Response parsed,
-                              std::string response_json) {
-  CaseRecord record;
-  record.id = c.id;
-  record.repeat = repeat;
-  record.request = PipelineRequest::RequestLine(c.id, c.question, c.input, repeat);
-  record.latency_ms = latency_ms;
-  record.parsed = std::move(parsed);
-  record.response_json = std::move(response_json);
-  record.scores = scorer.Score(case_index, &record.parsed);
-  return record;
-}
-
 CaseOutcome OutcomeOf(CaseRecord&& record, size_t case_index) {
   CaseScores scores = std::move(record.scores);
   record.scores = CaseScores();
@@ -105,7 +91,7 @@ ScheduleResult RunSchedule(const ScheduleInputs& in) {
       if (i >= items.size()) return;
       const WorkItem& item = items[i];
       const Case& c = in.suite->cases[item.case_index];
-      const PipelineRequest request{c.id, c.question, c.input, item.repeat};
+      const PipelineRequest request{c.id, c.question, CaseInput(c), item.repeat};
       CallResult call = in.adapter->Call(request, slot);
       // A call cut short by the interrupt is not the pipeline's fault: leave it unjournaled so
       // --resume sends it again.

@@ -69,12 +69,6 @@ ScheduleResult RunSchedule(const ScheduleInputs& inputs);
 CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
                           const PipelineConfig& pipeline, const CaseScorer& scorer,
                           size_t case_index, nlohmann::json* parsed_body = nullptr);
-/// The record of a valid reply already read into `parsed` (plumb score's path for flat replies,
-/// runner/flat_reply.h), with `response_json` the journal's "response" text. The same record
-/// MakeCaseRecord gives for that reply from a pipeline without secrets or a reply map.
-CaseRecord MakeReadCaseRecord(const Case& c, int repeat, double latency_ms,
-                              const CaseScorer& scorer, size_t case_index, Response parsed,
-                              std::string response_json);
 
 CaseOutcome OutcomeOf(const CaseRecord& record, size_t case_index);
 /// The same, taking the scores out of a record that is no longer needed.

@@ -44,12 +44,17 @@ struct Case {
   std::optional<NumberGold> number;
   std::vector<GoldSpan> sources;
   std::vector<std::string> tags;
-  nlohmann::json input = nlohmann::json::object();  // passed to the pipeline untouched
-  SourcePos pos;                                    // where the case starts
+  /// Passed to the pipeline untouched. Null when the case gives none (most do): the request
+  /// then carries {} (CaseInput), and loading a large suite allocates nothing for it.
+  nlohmann::json input;
+  SourcePos pos;  // where the case starts
   /// Hash of everything that defines the case's gold (question, answers, patterns, number,
   /// sources with their text, tags). Drift pairs cases whose gold_hash is equal.
   std::string gold_hash;
 };
+
+/// The case's `input` as the request carries it: the case's object, or {} when it gave none.
+const nlohmann::json& CaseInput(const Case& c);
 
 /// A string from the pipeline config after `${VAR}` expansion, with its redacted form: the
 /// template with every expansion replaced by "***". Output files only ever see `redacted`.

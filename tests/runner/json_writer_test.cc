@@ -202,6 +202,35 @@ TEST_CASE("json writer parts written apart read as if written in one writer", "[
 namespace plumb {
 namespace {
 
+TEST_CASE("json writer compacts what lies deeper than a depth, one line per entry",
+          "[json_writer]") {
+  // run.json's case entries: indented down to the entries, each entry on one line. The oracle
+  // is nlohmann's dump(): the same tree, read back, and the layout line by line.
+  nlohmann::json whole = {{"a", 1},
+                          {"cases",
+                           {{"c1", {{"q", "x"}, {"t", {"p", "q"}}, {"e", nlohmann::json::array()}}},
+                            {"c2", {{"n", {{"v", 1.5}}}}}}}};
+  JsonWriter w(2);
+  w.CompactDeeperThan(2);
+  w.BeginObject().Key("a").Int(1).Key("cases").BeginObject();
+  w.Key("c1").BeginObject().Key("q").String("x").Key("t").StringArray({"p", "q"});
+  w.Key("e").BeginArray().EndArray().EndObject();
+  w.Key("c2").BeginObject().Key("n").BeginObject().Key("v").Double(1.5).EndObject().EndObject();
+  w.EndObject().EndObject();
+  const std::string text = w.Take();
+  CHECK(nlohmann::json::parse(text) == whole);
+  CHECK(text ==
+        "{\n"
+        "  \"a\": 1,\n"
+        "  \"cases\": {\n"
+        "    \"c1\": {\"q\":\"x\",\"t\":[\"p\",\"q\"],\"e\":[]},\n"
+        "    \"c2\": {\"n\":{\"v\":1.5}}\n"
+        "  }\n"
+        "}");
+  // The compact part is what a compact writer gives for the same entry.
+  CHECK(whole["cases"]["c2"].dump() == "{\"n\":{\"v\":1.5}}");
+}
+
 TEST_CASE("json writer nests deeper than the levels it keeps inline", "[json_writer]") {
   // Replies are untrusted and may nest deeply; dump() stays the oracle past the inline levels.
   nlohmann::json tree = {{"leaf", 1}};

@@ -13,6 +13,7 @@
 #include <fstream>
 #include <string>
 
+#include "runner/adapter.h"
 #include "runner/sha256.h"
 
 namespace plumb {
@@ -645,6 +646,12 @@ TEST_CASE("a valid suite with .yaml and .jsonl includes") {
   REQUIRE(s.cases.size() == 5);
   CHECK(s.cases[0].id == "first");
   CHECK(s.cases[0].answers.empty());
+  // A case without `input` holds none; its request carries an empty object.
+  CHECK(s.cases[0].input.is_null());
+  CHECK(CaseInput(s.cases[0]) == nlohmann::json::object());
+  CHECK(PipelineRequest::RequestLine(s.cases[0].id, "q", s.cases[0].input, 0) ==
+        R"({"id":"first","input":{},"question":"q","repeat":0})");
+  CHECK(CaseInput(s.cases[2]) == s.cases[2].input);
   CHECK(s.cases[1].id == "nested");
   CHECK(s.cases[2].id == "gen:1");
   CHECK(s.cases[2].input == nlohmann::json::parse(R"({"n": 1, "s": "1", "f": 2.5})"));
