@@ -123,8 +123,7 @@ std::string RunRecordHead(const RunContext& ctx) {
 std::string RunRecordTail(const RunContext& ctx, const RunAggregates& aggregates,
                           const std::vector<ThresholdOutcome>& thresholds,
                           const RunVerdict& verdict) {
-  JsonWriter w(2, 2);      // inside the record's object and its "cases" object
-  w.CompactDeeperThan(2);  // one line per case entry
+  JsonWriter w(2, 2);  // inside the record's object and its "cases" object
   if (!ctx.selected.empty()) w.MarkFilled();
   w.EndObject().MarkFilled();
   w.Key("aggregates").Value(AggregatesToJson(aggregates));
