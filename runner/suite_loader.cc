@@ -10,6 +10,7 @@
 #include <filesystem>
 #include <fstream>
 #include <memory>
+#include <thread>
 #include <utility>
 
 #include "runner/code_points.h"
@@ -51,6 +52,8 @@ const std::vector<std::string> kRunMetrics = {"abstain_precision", "abstain_reca
 // Below this many cases per thread, reading or hashing them on one thread is quicker than
 // starting another.
 constexpr size_t kCasesPerChunk = 2000;
+// A JSONL file at least this large is hashed on a thread of its own while its lines are read.
+constexpr size_t kHashApartBytes = 1 << 20;
 constexpr char kNoCorpusMessage[] = "this suite has gold sources but no corpus";
 
 bool Contains(const std::vector<std::string>& names, const std::string& name) {
@@ -131,10 +134,11 @@ class SuiteLoader {
     return ec ? path : canonical.string();
   }
 
-  // Reads `path` after checking its size; records it for Suite::files and the suite hash.
+  // Reads `path` after checking its size; records it for Suite::files and, unless `hash` is
+  // false (the caller then calls HashFileText itself, before any later file), the suite hash.
   // Problems are reported at `named_at` (where an include names the file, or the file itself).
   bool ReadFile(const std::string& path, const SourcePos& named_at, const char* what,
-                std::string* text) {
+                std::string* text, bool hash = true) {
     struct stat info;
     if (stat(path.c_str(), &info) != 0) {
       errors_->push_back(
@@ -163,8 +167,7 @@ class SuiteLoader {
       return false;
     }
     suite_->files.push_back(path);
-    suite_hash_.Update(std::to_string(text->size()) + "\n");
-    suite_hash_.Update(*text);
+    if (hash) HashFileText(*text);
     // yaml-cpp passes ill-formed UTF-8 through into scalars, and every later stage writes
     // case text into JSON, so the file is checked whole, here.
     size_t bad = 0;
@@ -183,6 +186,12 @@ class SuiteLoader {
       return false;
     }
     return true;
+  }
+
+  /// A file's share of the suite hash: its size, a newline, its bytes.
+  void HashFileText(const std::string& text) {
+    suite_hash_.Update(std::to_string(text.size()) + "\n");
+    suite_hash_.Update(text);
   }
 
   void ReadSuiteRoot(const SourceNode& root, NodeChecker* check) {
@@ -316,11 +325,23 @@ class SuiteLoader {
                       "a file must not include itself, directly or through other includes");
       return;
     }
+    const bool jsonl = HasExtension(path, ".jsonl");
     std::string text;
-    if (!ReadFile(path, named_in->Pos(named_at), "include file", &text)) return;
+    if (!ReadFile(path, named_in->Pos(named_at), "include file", &text, /*hash=*/!jsonl)) return;
     include_chain_.push_back({canonical, path});
     NodeChecker check(path, errors_, warnings_);
-    if (HasExtension(path, ".jsonl")) {
+    if (jsonl && text.size() >= kHashApartBytes && WorkerCount() > 1) {
+      // The file's share of the suite hash is taken on another thread while its lines are
+      // read; no other file is hashed meanwhile (a JSONL file includes none), so the order of
+      // the files in the hash holds.
+      std::thread hashing([this, &text] { HashFileText(text); });
+      struct JoinOnExit {
+        std::thread& thread;
+        ~JoinOnExit() { thread.join(); }
+      } join{hashing};
+      ReadJsonLines(text, &check);
+    } else if (jsonl) {
+      HashFileText(text);
       ReadJsonLines(text, &check);
     } else {
       SourceNode root;

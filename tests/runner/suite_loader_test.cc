@@ -1056,5 +1056,29 @@ TEST_CASE("a long JSONL include read in chunks reports as if read line by line")
   CHECK(r.suite.cases[5998].tags == std::vector<std::string>{"t"});
 }
 
+TEST_CASE("a JSONL include over 1 MiB hashed apart keeps the files' order in the suite hash") {
+  // The loader hashes a large JSONL include on a second thread while it reads the lines; the
+  // suite hash must still be the files framed and hashed in include order (definition in
+  // runner/suite_loader.h), with a YAML include after it.
+  TempDir dir;
+  const std::string suite_text = "plumb: 1\nname: t\ninclude: [big.jsonl, after.yaml]\n";
+  std::string suite = dir.Write("suite.yaml", suite_text);
+  std::string big_text;
+  for (int i = 0; big_text.size() < (3u << 19); ++i) {
+    big_text += "{\"id\": \"c" + std::to_string(i) + "\", \"question\": \"Q" + std::to_string(i) +
+                "\", \"answers\": [\"a\"]}\n";
+  }
+  dir.Write("big.jsonl", big_text);
+  const std::string after_text = "cases:\n  - {id: last, question: Q, answers: [b]}\n";
+  dir.Write("after.yaml", after_text);
+  Loaded r = Load(suite);
+  INFO(FormatDiagnostics(r.errors));
+  REQUIRE(r.errors.empty());
+  CHECK(r.suite.cases.back().id == "last");
+  auto framed = [](const std::string& text) { return std::to_string(text.size()) + "\n" + text; };
+  CHECK(r.suite.suite_hash ==
+        Sha256Hex(framed(suite_text) + framed(big_text) + framed(after_text)));
+}
+
 }  // namespace
 }  // namespace plumb
