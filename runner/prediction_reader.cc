@@ -134,17 +134,7 @@ void PredictionReader::ScoreChunk(const std::vector<Line>& lines, size_t begin, 
     LineResult& result = chunk->results.emplace_back();
     result.line_number = line.number;
     LineRead read = ReadFlat(line, chunk, &next_index, &result);
-    if (read == LineRead::kDeclined) {
-      CaseRecord record;
-      read = ReadGeneral(line, &next_index, &result, &record);
-      if (read == LineRead::kRecord) {
-        result.journal_begin = chunk->journal.size();
-        WriteCaseRecord(record, &chunk->journal);
-        chunk->journal.EndLine();
-        result.journal_end = chunk->journal.size();
-        result.outcome = OutcomeOf(std::move(record), result.case_index);
-      }
-    }
+    if (read == LineRead::kDeclined) read = ReadGeneral(line, chunk, &next_index, &result);
     if (read == LineRead::kRecord) result.kind = LineResult::Kind::kScored;
   }
 }
@@ -185,22 +175,28 @@ PredictionReader::LineRead PredictionReader::ReadFlat(const Line& line, Chunk* c
   record.parsed = std::move(prediction.parsed);
   record.scores = prepared_.scorer->Score(result->case_index, &record.parsed);
   JsonWriter& w = chunk->journal;
-  result->journal_begin = w.size();
+  const size_t begin = w.size();
   BeginCaseRecord(c.id, record.repeat, &w);
   w.PlainKey("request");
   PipelineRequest::WriteRequest(c.id, c.question, c.input, record.repeat, &w);
   w.PlainKey("response");
   chunk->flat.Write(&w);
   EndCaseRecord(record, &w);
-  w.EndLine();
-  result->journal_end = w.size();
-  result->outcome = OutcomeOf(std::move(record), result->case_index);
+  KeepRecord(begin, std::move(record), chunk, result);
   return LineRead::kRecord;
 }
 
-PredictionReader::LineRead PredictionReader::ReadGeneral(const Line& line, size_t* next_index,
-                                                         LineResult* result,
-                                                         CaseRecord* record) const {
+void PredictionReader::KeepRecord(size_t begin, CaseRecord&& record, Chunk* chunk,
+                                  LineResult* result) {
+  chunk->journal.EndLine();
+  result->journal_begin = begin;
+  result->journal_end = chunk->journal.size();
+  result->outcome = OutcomeOf(std::move(record), result->case_index);
+}
+
+PredictionReader::LineRead PredictionReader::ReadGeneral(const Line& line, Chunk* chunk,
+                                                         size_t* next_index,
+                                                         LineResult* result) const {
   nlohmann::json json;
   try {
     json = nlohmann::json::parse(line.text);
@@ -230,8 +226,11 @@ PredictionReader::LineRead PredictionReader::ReadGeneral(const Line& line, size_
     call.latency_ms = it->get<double>();
   }
   call.body = std::string(line.text);
-  *record = MakeCaseRecord(prepared_.suite.cases[result->case_index], result->repeat, call,
-                           recorded_, *prepared_.scorer, result->case_index, &json);
+  CaseRecord record = MakeCaseRecord(prepared_.suite.cases[result->case_index], result->repeat,
+                                     call, recorded_, *prepared_.scorer, result->case_index, &json);
+  const size_t begin = chunk->journal.size();
+  WriteCaseRecord(record, &chunk->journal);
+  KeepRecord(begin, std::move(record), chunk, result);
   return LineRead::kRecord;
 }
 

@@ -66,9 +66,13 @@ class PredictionReader {
   /// record written to chunk->journal and *result; kDeclined leaves the line to ReadGeneral.
   /// kNoRecord: the line names a case the suite does not have.
   LineRead ReadFlat(const Line& line, Chunk* chunk, size_t* next_index, LineResult* result) const;
-  /// Any line, through nlohmann::json; kNoRecord with the problem in *result.
-  LineRead ReadGeneral(const Line& line, size_t* next_index, LineResult* result,
-                       CaseRecord* record) const;
+  /// Any line, through nlohmann::json, scored and written as ReadFlat does; kNoRecord with the
+  /// problem in *result.
+  LineRead ReadGeneral(const Line& line, Chunk* chunk, size_t* next_index,
+                       LineResult* result) const;
+  /// Ends the record written into chunk->journal from `begin` with its newline, and keeps its
+  /// place and its outcome in *result.
+  static void KeepRecord(size_t begin, CaseRecord&& record, Chunk* chunk, LineResult* result);
   /// Sets result->case_index (trying *next_index first), or marks the case unknown.
   bool FindCase(std::string_view id, size_t* next_index, LineResult* result) const;
   /// Scores one block's lines; safe to call from several threads on disjoint chunks.
