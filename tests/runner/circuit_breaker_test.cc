@@ -60,7 +60,8 @@ TEST_CASE("only the last 20 attempts count") {
   }
 }
 
-TEST_CASE("after the pause one probe goes while the others wait and its success closes the breaker") {
+TEST_CASE(
+    "after the pause one probe goes while the others wait and its success closes the breaker") {
   CircuitBreaker breaker;
   RecordMany(breaker, 10, true);
   CHECK(breaker.Admit(kT0 + seconds(1)).verdict == Verdict::kWait);
@@ -103,7 +104,10 @@ TEST_CASE("Enter blocks while a probe is out and returns when it succeeds") {
   plumb::CircuitBreakerOptions options;
   options.first_pause = std::chrono::seconds(0);  // the probe may go at once
   CircuitBreaker breaker(options);
-  RecordMany(breaker, 10, true);
+  // Opened on the real clock, which Enter reads: kT0 is an hour after the steady clock's
+  // epoch (boot, on Linux), so on a machine up for less than an hour a breaker opened at kT0
+  // would still be paused and Enter would block until then.
+  for (int i = 0; i < 10; ++i) breaker.Record(true, false, CircuitBreaker::Clock::now());
   REQUIRE(breaker.Enter() == Verdict::kProbe);
   Verdict second = Verdict::kRefuse;
   std::thread waiter([&] { second = breaker.Enter(); });
