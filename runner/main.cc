@@ -11,6 +11,7 @@
 #include "runner/check_command.h"
 #include "runner/drift_command.h"
 #include "runner/exit_code.h"
+#include "runner/merge_command.h"
 #include "runner/report_command.h"
 #include "runner/run_command.h"
 #include "runner/run_outputs.h"
@@ -128,6 +129,16 @@ int main(int argc, char** argv) {
                         "Run directory whose recorded gold spans to compare (stale gold)");
   check_cmd->add_flag("--json", check.json, "Print the result as JSON on stdout");
 
+  plumb::MergeOptions merge;
+  std::vector<std::string> merge_labels;
+  CLI::App* merge_cmd = app.add_subcommand(
+      "merge", "Merge the run directories of one run's shards (--shard I/N) into one run");
+  merge_cmd->add_option("RUN_DIR", merge.run_dirs, "Every shard's run directory")->required();
+  merge_cmd->add_option("--out", merge.out_dir, "Directory of the merged run")->required();
+  merge_cmd->add_option("--label", merge_labels,
+                        "Label the merged run, KEY=VALUE (repeatable; over the shards' labels)");
+  merge_cmd->add_flag("--json", merge.json, "Print the merged run record as JSON on stdout");
+
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
@@ -161,5 +172,9 @@ int main(int argc, char** argv) {
     return plumb::DriftCommand(drift);
   }
   if (*report_cmd) return plumb::ReportCommand(report);
+  if (*merge_cmd) {
+    if (!ParseLabels(merge_labels, &merge.labels)) return plumb::kExitUsage;
+    return plumb::MergeCommand(merge);
+  }
   return plumb::kExitUsage;
 }

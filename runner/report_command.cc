@@ -1,11 +1,10 @@
 #include "runner/report_command.h"
 
-#include <time.h>
-
 #include <cstdio>
 
 #include "runner/drift.h"
 #include "runner/exit_code.h"
+#include "runner/run_record.h"
 #include "runner/summary_table.h"
 
 namespace plumb {
@@ -53,16 +52,6 @@ std::vector<MetricAggregate> MetricsFrom(const nlohmann::json& metrics) {
     out.push_back(a);
   }
   return out;
-}
-
-/// Seconds between two "YYYY-MM-DDTHH:MM:SSZ" times; 0 when either does not parse.
-double SecondsBetween(const std::string& start, const std::string& end) {
-  tm a{}, b{};
-  if (strptime(start.c_str(), "%Y-%m-%dT%H:%M:%SZ", &a) == nullptr ||
-      strptime(end.c_str(), "%Y-%m-%dT%H:%M:%SZ", &b) == nullptr) {
-    return 0;
-  }
-  return difftime(timegm(&b), timegm(&a));
 }
 
 }  // namespace

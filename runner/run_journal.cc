@@ -82,7 +82,8 @@ bool RunJournal::WriteAll(std::string_view data, std::string* error) {
   return true;
 }
 
-bool ReadJournal(const std::string& path, JournalContents* contents, std::string* error) {
+bool ReadJournal(const std::string& path, JournalContents* contents, std::string* error,
+                 bool keep_lines) {
   *contents = JournalContents();
   std::ifstream in(path, std::ios::binary);
   if (!in) return true;  // no journal yet: nothing finished
@@ -117,6 +118,7 @@ bool ReadJournal(const std::string& path, JournalContents* contents, std::string
       return false;
     }
     contents->records.push_back(std::move(record));
+    if (keep_lines) contents->lines.push_back(data.substr(pos, newline - pos));
     pos = newline + 1;
     contents->valid_bytes = static_cast<long long>(pos);
   }

@@ -55,12 +55,15 @@ struct JournalContents {
   std::vector<nlohmann::json> records;  // every complete, parseable line, in order
   long long valid_bytes = 0;            // length of the prefix those lines occupy
   std::vector<std::string> warnings;    // e.g. the torn last line that was dropped
+  std::vector<std::string> lines;       // with keep_lines: each record's text, no newline
 };
 
 /// Reads the journal at `path`. A missing file is an empty journal. Lines that are not JSON in
 /// the middle of the file are an error (the journal is corrupt, not torn); only the last line
 /// may be torn.
-bool ReadJournal(const std::string& path, JournalContents* contents, std::string* error);
+/// With `keep_lines`, each record's line is kept as written (for copying it unchanged).
+bool ReadJournal(const std::string& path, JournalContents* contents, std::string* error,
+                 bool keep_lines = false);
 
 }  // namespace plumb
 

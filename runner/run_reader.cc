@@ -22,9 +22,7 @@ std::vector<const CaseRecord*> LoadedRun::RecordsOf(const std::string& id) const
   return out;
 }
 
-bool LoadRun(const std::string& dir, LoadedRun* run, std::string* error) {
-  *run = LoadedRun();
-  run->dir = dir;
+bool LoadRunRecord(const std::string& dir, nlohmann::json* record, std::string* error) {
   const std::string record_path = dir + "/run.json";
   std::ifstream in(record_path, std::ios::binary);
   if (!in) {
@@ -35,12 +33,18 @@ bool LoadRun(const std::string& dir, LoadedRun* run, std::string* error) {
   }
   std::stringstream buffer;
   buffer << in.rdbuf();
-  run->record = nlohmann::json::parse(buffer.str(), nullptr, /*allow_exceptions=*/false);
-  if (run->record.is_discarded() || !run->record.is_object() ||
-      !run->record.contains("plumb_run")) {
+  *record = nlohmann::json::parse(buffer.str(), nullptr, /*allow_exceptions=*/false);
+  if (record->is_discarded() || !record->is_object() || !record->contains("plumb_run")) {
     *error = record_path + " is not a plumb run record";
     return false;
   }
+  return true;
+}
+
+bool LoadRun(const std::string& dir, LoadedRun* run, std::string* error) {
+  *run = LoadedRun();
+  run->dir = dir;
+  if (!LoadRunRecord(dir, &run->record, error)) return false;
   JournalContents journal;
   if (!ReadJournal(dir + "/cases.jsonl", &journal, error)) return false;
   run->warnings = journal.warnings;

@@ -30,6 +30,8 @@ struct LoadedRun {
 /// Reads `dir`/run.json and `dir`/cases.jsonl. False with a sentence naming the file when
 /// either is missing or malformed (an interrupted run has no run.json: say so).
 bool LoadRun(const std::string& dir, LoadedRun* run, std::string* error);
+/// Reads `dir`/run.json alone, as LoadRun does; false with the same sentences.
+bool LoadRunRecord(const std::string& dir, nlohmann::json* record, std::string* error);
 
 }  // namespace plumb
 

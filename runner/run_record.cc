@@ -2,6 +2,7 @@
 
 #include <limits.h>
 #include <stdlib.h>
+#include <time.h>
 #include <unistd.h>
 
 #include <cerrno>
@@ -53,7 +54,13 @@ bool WriteRunRecordCases(const RunContext& ctx, const std::function<bool(std::st
           .String(Sha256Hex(span.text))
           .EndObject();
     }
-    w.EndArray().PlainKey("line").Int(c.pos.line);
+    // "index" is the case's place in the suite (includes concatenated), which "line" alone
+    // cannot give across files: `plumb merge` puts shards' cases back in suite order by it.
+    w.EndArray()
+        .PlainKey("line")
+        .Int(c.pos.line)
+        .PlainKey("index")
+        .Int(static_cast<int64_t>(index));
     if (c.number) {
       w.PlainKey("number")
           .BeginObject()
@@ -153,6 +160,15 @@ std::string NowIso8601() {
   char buffer[32];
   std::strftime(buffer, sizeof buffer, "%Y-%m-%dT%H:%M:%SZ", &utc);
   return buffer;
+}
+
+double SecondsBetween(const std::string& start, const std::string& end) {
+  std::tm a{}, b{};
+  if (strptime(start.c_str(), "%Y-%m-%dT%H:%M:%SZ", &a) == nullptr ||
+      strptime(end.c_str(), "%Y-%m-%dT%H:%M:%SZ", &b) == nullptr) {
+    return 0;
+  }
+  return std::difftime(timegm(&b), timegm(&a));
 }
 
 bool ParseLabel(const std::string& text, std::string* key, std::string* value, std::string* error) {

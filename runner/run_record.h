@@ -27,8 +27,8 @@ struct RunContext {
   nlohmann::json pipeline_config;
   std::string corpus_fingerprint;  // empty without a corpus
   std::map<std::string, std::string> labels;
-  std::string started_at;  // ISO 8601 UTC
-  std::string finished_at;
+  std::string started_at;   // ISO 8601 UTC
+  std::string finished_at;  // empty: FinishRun takes the time it is called
   Shard shard;
   int repeat = 1;
   int jobs = 1;
@@ -54,6 +54,8 @@ bool WriteFileAtomically(const std::string& path, const std::string& contents, s
 
 /// The current time as "2026-12-01T22:03:56Z".
 std::string NowIso8601();
+/// Seconds between two times in that form; 0 when either does not parse.
+double SecondsBetween(const std::string& start, const std::string& end);
 
 /// Parses "key=value" (the key non-empty); false with a sentence otherwise.
 bool ParseLabel(const std::string& text, std::string* key, std::string* value, std::string* error);

@@ -13,7 +13,7 @@ bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, boo
                const std::string& run_dir, bool json, double seconds, FinishedRun* finished,
                std::string* error) {
   const Suite& suite = *context.suite;
-  context.finished_at = NowIso8601();
+  if (context.finished_at.empty()) context.finished_at = NowIso8601();
   // An interrupted run keeps its journal but gets no run.json: it is not a finished run, and
   // --resume writes the record once the work is complete.
   std::unique_ptr<AtomicFile> file;

@@ -196,7 +196,7 @@ TEST_CASE("plumb score scores recorded replies with SQuAD EM and F1") {
   CHECK(r.out.find("\n    \"latency_ms\": {\n      \"max\": ") != std::string::npos);
   CHECK(r.out.find("\n    \"a\": {\"gold_hash\":\"") != std::string::npos);
   CHECK(r.out.find("\"answers\":[\"ten minutes\"],\"patterns\":[],\"tags\":[],"
-                   "\"sources\":[],\"line\":4},\n    \"b\": {") != std::string::npos);
+                   "\"sources\":[],\"line\":4,\"index\":0},\n    \"b\": {") != std::string::npos);
   // Worked by hand with SQuAD's normalize_answer and f1_score (Rajpurkar et al. 2016):
   //   a: "ten minutes" == "ten minutes": EM 1, F1 1.
   //   b: [blue car park] vs [blue car] ("the" removed): EM 0; P = 2/3, R = 1, F1 = 0.8.

@@ -1,0 +1,29 @@
+#ifndef PLUMB_RUNNER_RECORDED_SUITE_H_
+#define PLUMB_RUNNER_RECORDED_SUITE_H_
+
+/// The parts of a Suite that a run record (run.json, runner/run_record.h) keeps, read back into
+/// a Suite: the settings of its "suite" object and thresholds, and each case's gold. `plumb
+/// merge` rebuilds the suite of sharded runs from them, so aggregates, thresholds and run.json
+/// are computed by the same code as for a run of the suite file itself. Pipelines, quotes and
+/// case inputs are not recorded and stay empty.
+
+#include <nlohmann/json.hpp>
+#include <string>
+
+#include "runner/suite.h"
+
+namespace plumb {
+
+/// Fills suite->name, path, suite_hash, normalize, lang, retrieval_k, case_pass, min_overlap,
+/// max_error_rate, corpus_dir and thresholds from `record`. False with a sentence naming the
+/// member that is missing or malformed.
+bool ReadRecordedSuiteSettings(const nlohmann::json& record, Suite* suite, std::string* error);
+
+/// One entry of run.json's "cases": the case's gold and its place in the suite ("index").
+/// False with a sentence naming the member that is missing or malformed.
+bool ReadRecordedCase(const std::string& id, const nlohmann::json& entry, Case* gold, size_t* index,
+                      std::string* error);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_RECORDED_SUITE_H_
