@@ -295,6 +295,31 @@ TEST_CASE("a YAML syntax error is pinned to file:line:column") {
   CHECK(r.errors[0].message == "YAML syntax error: illegal map value");
 }
 
+TEST_CASE("a ',' where a value should start is a syntax error, not endless empty documents") {
+  // yaml-cpp 0.7's LoadAll returns empty documents forever at such a ',' (the process grew to
+  // 24 GiB before the kernel killed it: found by tests/fuzz/suite_yaml_fuzz.cc).
+  TempDir dir;
+  const std::string lead = dir.Write("lead.yaml", "# a comment\n  , 3]\nplumb: 1\n");
+  Loaded r = Load(lead);
+  REQUIRE(r.errors.size() == 1);
+  CheckAt(r.errors[0], lead, 2, 3);
+  CHECK(r.errors[0].message == "YAML syntax error: ',' where a value should start");
+  CHECK(r.errors[0].hint ==
+        "a ',' separates items only inside [ ] or { }; quote it to make it text");
+  // After a complete value the ',' would start a second document.
+  const std::string after = dir.Write("after.yaml", "\"plumb\" ,\n");
+  r = Load(after);
+  REQUIRE(r.errors.size() == 1);
+  CheckAt(r.errors[0], after, 1, 9);
+  CHECK(r.errors[0].message == "YAML syntax error: ',' where a value should start");
+  // A real second document is named as such, at its '---'.
+  const std::string two = dir.Write("two.yaml", "plumb: 1\n---\nname: x\n");
+  r = Load(two);
+  REQUIRE(r.errors.size() == 1);
+  CheckAt(r.errors[0], two, 2, 1);
+  CHECK(r.errors[0].message == "the file holds more than one YAML document");
+}
+
 TEST_CASE("a bad JSONL line: column in characters from the parser's byte position") {
   TempDir dir;
   std::string suite = WriteSuite(dir, "include: [gen.jsonl]\n");
