@@ -108,10 +108,17 @@ bool ParseRefList(const nlohmann::json& body, const std::string& pointer, const 
   return true;
 }
 
+// No reply reads a billion tokens; a count beyond it (or negative, or not a number) is a
+// pipeline's bug, not usage, and is left out rather than summed into the run's totals (where
+// 1e31 would not fit an int64_t at all: found by tests/fuzz/reply_fuzz.cc).
+constexpr double kMaxUsageTokens = 1e9;
+
 bool ParseUsageCount(const nlohmann::json& usage, const char* key, std::optional<int64_t>* out) {
   auto it = usage.find(key);
   if (it == usage.end() || !it->is_number()) return false;
-  *out = it->is_number_integer() ? it->get<int64_t>() : static_cast<int64_t>(it->get<double>());
+  const double count = it->get<double>();
+  if (!(count >= 0 && count <= kMaxUsageTokens)) return false;
+  *out = it->is_number_integer() ? it->get<int64_t>() : static_cast<int64_t>(count);
   return true;
 }
 

@@ -97,3 +97,32 @@ TEST_CASE("a pointer the map names explicitly must resolve") {
   REQUIRE(ParseResponse(R"({"answer": "Ten."})", ResponseMap(), &r, &error));
   CHECK(r.citations.empty());
 }
+
+TEST_CASE(
+    "usage counts that are negative, fractional beyond a billion or not numbers are left out") {
+  // 1e31 input tokens does not fit the run's int64_t totals (found by tests/fuzz/reply_fuzz.cc).
+  struct Probe {
+    const char* usage;
+    bool counted;
+    int64_t value;
+  };
+  const Probe probes[] = {
+      {R"({"input_tokens": 812})", true, 812},
+      {R"({"input_tokens": 812.9})", true, 812},
+      {R"({"input_tokens": 1000000000})", true, 1000000000},
+      {R"({"input_tokens": 1000000001})", false, 0},
+      {R"({"input_tokens": 1e31})", false, 0},
+      {R"({"input_tokens": -5})", false, 0},
+      {R"({"input_tokens": 18446744073709551615})", false, 0},
+      {R"({"input_tokens": "812"})", false, 0},
+  };
+  for (const Probe& probe : probes) {
+    INFO(probe.usage);
+    Response r;
+    std::string error;
+    REQUIRE(ParseResponse(std::string(R"({"answer": "x", "usage": )") + probe.usage + "}",
+                          ResponseMap(), &r, &error));
+    CHECK(r.input_tokens.has_value() == probe.counted);
+    if (probe.counted) CHECK(*r.input_tokens == probe.value);
+  }
+}

@@ -320,6 +320,16 @@ TEST_CASE("a ',' where a value should start is a syntax error, not endless empty
   CHECK(r.errors[0].message == "the file holds more than one YAML document");
 }
 
+TEST_CASE("an alias inside the node its anchor names is refused at the alias") {
+  TempDir dir;
+  const std::string suite =
+      dir.Write("suite.yaml", "plumb: 1\nname: x\ncases: &c [{id: a, question: q, answers: *c}]\n");
+  Loaded r = Load(suite);
+  REQUIRE(r.errors.size() == 1);
+  CheckAt(r.errors[0], suite, 3, 42);
+  CHECK(r.errors[0].message == "an alias used inside the node its anchor names");
+}
+
 TEST_CASE("a bad JSONL line: column in characters from the parser's byte position") {
   TempDir dir;
   std::string suite = WriteSuite(dir, "include: [gen.jsonl]\n");
