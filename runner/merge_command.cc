@@ -71,7 +71,7 @@ bool CheckShards(const std::vector<ShardRun>& shards,
                  const std::map<std::string, std::string>& given,
                  std::map<std::string, std::string>* labels) {
   const ShardRun& first = shards.front();
-  std::vector<const ShardRun*> by_index(static_cast<size_t>(std::max(first.count, 0)) + 1, nullptr);
+  std::map<int, const ShardRun*> by_index;
   for (const ShardRun& shard : shards) {
     if (shard.count != first.count) {
       return Fail(shard.dir + " is shard " + std::to_string(shard.index) + " of " +
@@ -82,12 +82,11 @@ bool CheckShards(const std::vector<ShardRun>& shards,
       return Fail(shard.dir + "/run.json names shard " + std::to_string(shard.index) + " of " +
                   std::to_string(shard.count));
     }
-    if (const ShardRun* twin = by_index[static_cast<size_t>(shard.index)]) {
-      return Fail(twin->dir + " and " + shard.dir + " are both shard " +
+    if (auto [twin, added] = by_index.emplace(shard.index, &shard); !added) {
+      return Fail(twin->second->dir + " and " + shard.dir + " are both shard " +
                   std::to_string(shard.index) + " of " + std::to_string(shard.count) +
                   "; give each shard's run directory once");
     }
-    by_index[static_cast<size_t>(shard.index)] = &shard;
     for (const char* key : kSameInEveryShard) {
       if (shard.record.value(key, nlohmann::json()) != first.record.value(key, nlohmann::json())) {
         return Fail(std::string("\"") + key + "\" differs between " + first.dir + "/run.json and " +
@@ -106,14 +105,20 @@ bool CheckShards(const std::vector<ShardRun>& shards,
       }
     }
   }
-  std::string missing;
-  for (size_t i = 1; i < by_index.size(); ++i) {
-    if (by_index[i] == nullptr) missing += (missing.empty() ? "" : ", ") + std::to_string(i);
-  }
-  if (!missing.empty()) {
-    return Fail("shard" + std::string(missing.find(',') == std::string::npos ? " " : "s ") +
-                missing + " of " + std::to_string(first.count) +
-                " missing; give every shard's run directory");
+  // Every index is in 1..count and none repeats, so the set is whole when the counts agree.
+  if (by_index.size() != static_cast<size_t>(first.count)) {
+    std::string missing;
+    int listed = 0;
+    for (int i = 1; i <= first.count && listed < 10; ++i) {
+      if (by_index.count(i) == 0) {
+        missing += (missing.empty() ? "" : ", ") + std::to_string(i);
+        ++listed;
+      }
+    }
+    const size_t absent = static_cast<size_t>(first.count) - by_index.size();
+    if (absent > 10) missing += ", ... (" + std::to_string(absent) + " in all)";
+    return Fail("shard" + std::string(absent == 1 ? " " : "s ") + missing + " of " +
+                std::to_string(first.count) + " missing; give every shard's run directory");
   }
   for (const auto& [key, value] : given) (*labels)[key] = value;
   return true;
