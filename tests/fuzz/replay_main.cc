@@ -93,7 +93,16 @@ const char* const kTokens[] = {"\"",
                                "repeat",
                                "latency_ms",
                                "plumb: 1\n",
-                               "name: x\n"};
+                               "name: x\n",
+                               "</script>",
+                               "<script>",
+                               "]]>",
+                               "<!--",
+                               "-->",
+                               "&lt;",
+                               "onerror=",
+                               "javascript:",
+                               "\x1f"};
 
 struct Random {
   uint64_t state;
@@ -202,7 +211,7 @@ int main(int argc, char** argv) {
     Run(Mutate(seeds[random.Below(seeds.size())], seeds, &random), keep);
   }
   std::remove(keep.c_str());
-  std::printf("%s: %zu seed inputs and %ld mutations (seed %llu), no contract broken\n", argv[0],
+  std::fprintf(stderr, "%s: %zu seed inputs and %ld mutations (seed %llu), no contract broken\n", argv[0],
               seeds.size(), mutations, static_cast<unsigned long long>(seed));
   return 0;
 }
