@@ -584,22 +584,11 @@ std::string RenderDriftPage(const nlohmann::json& drift, const LoadedRun& base,
       {DriftStatus::kPassing, "Still passing", "No case passes in both runs."},
   };
   for (const Group& g : groups) {
-    html.append("<div class=\"group\" data-group=\"");
-    html.append(DriftStatusName(g.status));
-    html.append("\"><h3>");
-    html.append(g.title);
-    html.append("<span class=\"n\">" + std::to_string(counts[g.status]) +
-                "</span> <span class=\"n n-shown\"></span></h3>");
-    if (counts[g.status] == 0) {
-      html.append("<p class=\"note\">");
-      html.append(g.empty);
-      html.append("</p>");
-    }
-    html.append("<div class=\"cards\">");
-    for (const PairedCase& c : cases) {
-      if (c.status == g.status) AppendDriftCard(&html, c, drift, &base_cards, &cand_cards);
-    }
-    html.append("</div></div>");
+    AppendCaseGroup(&html, DriftStatusName(g.status), g.title, counts[g.status], "", g.empty, [&] {
+      for (const PairedCase& c : cases) {
+        if (c.status == g.status) AppendDriftCard(&html, c, drift, &base_cards, &cand_cards);
+      }
+    });
   }
   AppendIdList(
       &html, drift, "unstable", "Unstable",

@@ -455,6 +455,27 @@ void AppendFilterForm(std::string* out, const std::vector<FilterStatus>& statuse
               " are listed below; with scripting on, the filters above narrow them.</p>");
 }
 
+void AppendCaseGroup(std::string* out, std::string_view name, std::string_view title, int64_t count,
+                     std::string_view aside, std::string_view empty,
+                     const std::function<void()>& cards) {
+  out->append("<div class=\"group\" data-group=\"");
+  out->append(name);
+  out->append("\"><h3>");
+  out->append(title);
+  out->append("<span class=\"n\">" + std::to_string(count) +
+              "</span> <span class=\"n n-shown\"></span>");
+  out->append(aside);
+  out->append("</h3>");
+  if (count == 0) {
+    out->append("<p class=\"note\">");
+    out->append(empty);
+    out->append("</p>");
+  }
+  out->append("<div class=\"cards\">");
+  cards();
+  out->append("</div></div>");
+}
+
 void AppendPageEnd(std::string* out) {
   out->append(
       "<footer><div class=\"wrap\"><p><strong>What this report is evidence of.</strong> A suite "

@@ -7,6 +7,7 @@
 /// pages (runner/html_report.h), so both share one look and one behaviour.
 
 #include <cstdint>
+#include <functional>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -46,6 +47,14 @@ struct FilterStatus {
 void AppendFilterForm(std::string* out, const std::vector<FilterStatus>& statuses,
                       const std::vector<std::string>& tags, const std::vector<std::string>& metrics,
                       std::string_view metric_note, int64_t total_cases);
+
+/// Appends one group of case cards (failed, lost, ...) the script counts and filters: a heading
+/// with `title`, the group's `count` and the count the filters leave shown, then `aside`
+/// (trusted HTML, may be empty); the `empty` note when the group has no case; and the cards,
+/// which `cards` appends to `out`.
+void AppendCaseGroup(std::string* out, std::string_view name, std::string_view title, int64_t count,
+                     std::string_view aside, std::string_view empty,
+                     const std::function<void()>& cards);
 
 /// Appends the footer with SPEC §12's caution, the script and the closing tags.
 void AppendPageEnd(std::string* out);

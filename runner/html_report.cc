@@ -383,26 +383,14 @@ std::string RenderRunPage(const LoadedRun& run) {
       {CaseStatus::kPassed, "Passed", "No case passed."},
   };
   for (const Group& g : groups) {
-    html.append("<div class=\"group\" data-group=\"");
-    html.append(CaseStatusName(g.status));
-    html.append("\"><h3>");
-    html.append(g.title);
-    html.append("<span class=\"n\">" + std::to_string(counts[g.status]) +
-                "</span> <span class=\"n n-shown\"></span>");
-    if (g.status == CaseStatus::kPassed && counts[g.status] > 0) {
-      html.append("<span class=\"n\">folded: open a case to read it</span>");
-    }
-    html.append("</h3>");
-    if (counts[g.status] == 0) {
-      html.append("<p class=\"note\">");
-      html.append(g.empty);
-      html.append("</p>");
-    }
-    html.append("<div class=\"cards\">");
-    for (const CaseEntry& c : cases) {
-      if (c.status == g.status) AppendCaseCard(&html, c, &cards);
-    }
-    html.append("</div></div>");
+    const bool folded = g.status == CaseStatus::kPassed && counts[g.status] > 0;
+    AppendCaseGroup(&html, CaseStatusName(g.status), g.title, counts[g.status],
+                    folded ? "<span class=\"n\">folded: open a case to read it</span>" : "",
+                    g.empty, [&] {
+                      for (const CaseEntry& c : cases) {
+                        if (c.status == g.status) AppendCaseCard(&html, c, &cards);
+                      }
+                    });
   }
   html.append("</section></main>");
   AppendPageEnd(&html);
