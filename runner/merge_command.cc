@@ -1,10 +1,8 @@
 #include "runner/merge_command.h"
 
-#include <limits.h>
-#include <stdlib.h>
-
 #include <algorithm>
 #include <cstdio>
+#include <filesystem>
 #include <memory>
 #include <nlohmann/json.hpp>
 #include <set>
@@ -42,9 +40,11 @@ struct Item {
   CaseOutcome outcome;
 };
 
-std::string RealPath(const std::string& path) {
-  char resolved[PATH_MAX];
-  return realpath(path.c_str(), resolved) != nullptr ? std::string(resolved) : path;
+/// The path with symlinks and dot segments resolved, as far as it exists (--out may not yet).
+std::string Resolved(const std::string& path) {
+  std::error_code ec;
+  const std::filesystem::path resolved = std::filesystem::weakly_canonical(path, ec);
+  return ec ? path : resolved.string();
 }
 
 bool Fail(const std::string& message) {
@@ -223,9 +223,9 @@ bool WriteJournal(const std::string& path, const std::vector<Item>& items) {
 
 int MergeCommand(const MergeOptions& options) {
   std::vector<ShardRun> shards(options.run_dirs.size());
-  const std::string out = RealPath(options.out_dir);
+  const std::string out = Resolved(options.out_dir);
   for (size_t i = 0; i < shards.size(); ++i) {
-    if (RealPath(options.run_dirs[i]) == out) {
+    if (Resolved(options.run_dirs[i]) == out) {
       Fail("--out " + options.out_dir + " is one of the shards; merge into a directory of its own");
       return kExitUsage;
     }
