@@ -7,40 +7,16 @@
 
 #include <catch2/catch.hpp>
 #include <cstdlib>
-#include <filesystem>
-#include <fstream>
 #include <string>
 
 #include "runner/code_points.h"
 #include "runner/sha256.h"
+#include "tests/support/temp_dir.h"
 
 namespace plumb {
 namespace {
 
-namespace fs = std::filesystem;
-
-class TempDir {
- public:
-  TempDir() {
-    char templ[] = "/tmp/plumb-corpus-test-XXXXXX";
-    REQUIRE(mkdtemp(templ) != nullptr);
-    path_ = templ;
-  }
-  ~TempDir() {
-    std::error_code ec;
-    fs::remove_all(path_, ec);
-  }
-  const std::string& path() const { return path_; }
-  std::string Write(const std::string& relative, const std::string& content) const {
-    fs::path file = fs::path(path_) / relative;
-    fs::create_directories(file.parent_path());
-    std::ofstream(file, std::ios::binary) << content;
-    return file.string();
-  }
-
- private:
-  std::string path_;
-};
+using plumb_test::TempDir;
 
 // Code points, counted by hand:
 //   "Le café — ferry\n"  L0 e1 _2 c3 a4 f5 é6 _7 —8 _9 f10 e11 r12 r13 y14 \n15

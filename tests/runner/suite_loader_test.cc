@@ -15,34 +15,14 @@
 
 #include "runner/adapter.h"
 #include "runner/sha256.h"
+#include "tests/support/temp_dir.h"
 
 namespace plumb {
 namespace {
 
 namespace fs = std::filesystem;
 
-class TempDir {
- public:
-  TempDir() {
-    char templ[] = "/tmp/plumb-suite-test-XXXXXX";
-    REQUIRE(mkdtemp(templ) != nullptr);
-    path_ = templ;
-  }
-  ~TempDir() {
-    std::error_code ec;
-    fs::remove_all(path_, ec);
-  }
-  std::string Path(const std::string& relative) const { return path_ + "/" + relative; }
-  std::string Write(const std::string& relative, const std::string& content) const {
-    fs::path file = fs::path(path_) / relative;
-    fs::create_directories(file.parent_path());
-    std::ofstream(file, std::ios::binary) << content;
-    return file.string();
-  }
-
- private:
-  std::string path_;
-};
+using plumb_test::TempDir;
 
 // The document of tests/runner/corpus_test.cc, with its code points counted there:
 // "Le café — ferry" is 0..14, "Boarding" 16..23, "Boarding  closes\tten minutes" 16..43,
