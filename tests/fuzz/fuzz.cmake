@@ -9,7 +9,7 @@ foreach(source ${fuzz_targets})
   string(REGEX REPLACE "_fuzz$" "" corpus ${name})
   add_executable(${name}_replay ${source} ${CMAKE_CURRENT_SOURCE_DIR}/fuzz/replay_main.cc)
   target_link_libraries(${name}_replay PRIVATE plumb_runner plumb_warnings)
-  # A report input runs a whole `plumb score` and renders two files (about 1.5 ms); the others
+  # A report input runs `plumb score` twice and `plumb drift` once (about 5 ms); the others
   # take microseconds.
   set(mutations 20000)
   if(corpus STREQUAL "report")

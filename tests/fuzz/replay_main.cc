@@ -211,7 +211,7 @@ int main(int argc, char** argv) {
     Run(Mutate(seeds[random.Below(seeds.size())], seeds, &random), keep);
   }
   std::remove(keep.c_str());
-  std::fprintf(stderr, "%s: %zu seed inputs and %ld mutations (seed %llu), no contract broken\n", argv[0],
-              seeds.size(), mutations, static_cast<unsigned long long>(seed));
+  std::fprintf(stderr, "%s: %zu seed inputs and %ld mutations (seed %llu), no contract broken\n",
+               argv[0], seeds.size(), mutations, static_cast<unsigned long long>(seed));
   return 0;
 }

@@ -1,25 +1,31 @@
 // Fuzz target: untrusted text shown in the reports (SPEC §10: "All pipeline output is
 // untrusted: escaped"). The input is split at 0x1F into a reply's answer, a cited quote, a
-// cited doc name and its stderr-like tail, and a case's question and gold answer; `plumb score`
-// runs in process on a one-case suite with that reply, writing the HTML report and JUnit XML
-// (a suite the loader refuses, with an empty question say, writes none and is skipped).
-// Contracts checked: scoring and rendering never crash; the page holds only the tags and
-// attribute names a benign run's page holds, and exactly as many <script> elements (one); the
+// cited doc name and a stray reply member, and a case's question and gold answer. `plumb score`
+// runs in process on a one-case suite with that reply, writing the HTML report and JUnit XML,
+// and `plumb drift` compares it with a benign reply's run of the same suite, writing the drift
+// page (a suite the loader refuses, with an empty question say, writes none and is skipped).
+// Contracts checked: scoring, comparing and rendering never crash; each page holds only the tags
+// and attribute names benign runs' pages hold, and exactly as many <script> elements (one); the
 // JUnit file holds only a benign run's tags. Text that escaped its escaping would add a tag or
-// an attribute (an `onerror`, a second script) that the benign page lacks.
+// an attribute (an `onerror`, a second script) that the benign pages lack.
 #include <fcntl.h>
 #include <stdlib.h>
 #include <unistd.h>
 
 #include <cstddef>
 #include <cstdint>
+#include <cstdlib>
+#include <filesystem>
 #include <fstream>
 #include <nlohmann/json.hpp>
 #include <set>
 #include <sstream>
 #include <string>
+#include <tuple>
+#include <utility>
 #include <vector>
 
+#include "runner/drift_command.h"
 #include "runner/score_command.h"
 #include "tests/fuzz/fuzz_check.h"
 
@@ -108,37 +114,68 @@ struct Workspace {
   std::string dir;
   Markup page;
   Markup junit;
+  Markup drift;
 };
 
-/// Scores one reply on a one-case suite and returns the HTML page and the JUnit XML; false when
-/// the suite itself was refused (an empty question or gold answer, say), which writes no report.
-bool Render(const Workspace& w, const std::vector<std::string>& f, std::string* html,
-            std::string* junit) {
-  auto text = [&f](size_t i, const char* fallback) {
-    return nlohmann::json(i < f.size() ? f[i] : std::string(fallback))
-        .dump(-1, ' ', false, nlohmann::json::error_handler_t::replace);
-  };
+struct Pages {
+  std::string html;
+  std::string junit;
+  std::string drift;
+};
+
+std::string JsonText(const std::vector<std::string>& f, size_t i, const char* fallback) {
+  return nlohmann::json(i < f.size() ? f[i] : std::string(fallback))
+      .dump(-1, ' ', false, nlohmann::json::error_handler_t::replace);
+}
+
+void WriteReply(const std::string& path, const std::vector<std::string>& f) {
+  std::ofstream(path, std::ios::trunc)
+      << "{\"id\": \"c\", \"answer\": " << JsonText(f, 0, "Ten minutes before departure.")
+      << ", \"citations\": [{\"doc\": \"boarding.md\", \"quote\": " << JsonText(f, 1, "ten minutes")
+      << "}, {\"doc\": " << JsonText(f, 2, "boarding.md") << ", \"start\": 0, \"end\": 8}]"
+      << ", \"retrieved\": [{\"doc\": " << JsonText(f, 2, "boarding.md") << "}]"
+      << ", \"note\": " << JsonText(f, 5, "") << "}\n";
+}
+
+/// Scores the reply `f` (and, as the drift's base, the reply `base`) on a one-case suite whose
+/// question and gold come from `f`, and renders the run's HTML and JUnit files and the drift
+/// page; false when the suite itself was refused (an empty question or gold answer, say).
+bool Render(const Workspace& w, const std::vector<std::string>& f,
+            const std::vector<std::string>& base, Pages* out) {
   std::ofstream(w.dir + "/cases.jsonl", std::ios::trunc)
-      << "{\"id\": \"c\", \"question\": " << text(3, "When does boarding close?")
-      << ", \"answers\": [" << text(4, "ten minutes") << "]}\n";
-  std::ofstream(w.dir + "/predictions.jsonl", std::ios::trunc)
-      << "{\"id\": \"c\", \"answer\": " << text(0, "Ten minutes before departure.")
-      << ", \"citations\": [{\"doc\": \"boarding.md\", \"quote\": " << text(1, "ten minutes")
-      << "}, {\"doc\": " << text(2, "boarding.md") << ", \"start\": 0, \"end\": 8}]"
-      << ", \"retrieved\": [{\"doc\": " << text(2, "boarding.md") << "}]"
-      << ", \"stderr\": " << text(5, "") << "}\n";
+      << "{\"id\": \"c\", \"question\": " << JsonText(f, 3, "When does boarding close?")
+      << ", \"answers\": [" << JsonText(f, 4, "ten minutes") << "]}\n";
+  WriteReply(w.dir + "/base.jsonl", base);
+  WriteReply(w.dir + "/predictions.jsonl", f);
   plumb::ScoreOptions options;
   options.suite_path = w.dir + "/suite.yaml";
+  options.predictions_path = w.dir + "/base.jsonl";
+  options.out_dir = w.dir + "/base";
+  if (plumb::ScoreCommand(options) == 2) return false;
   options.predictions_path = w.dir + "/predictions.jsonl";
   options.out_dir = w.dir + "/run";
   options.outputs.html = w.dir + "/report.html";
   options.outputs.junit = w.dir + "/junit.xml";
-  std::remove(options.outputs.html.c_str());
-  std::remove(options.outputs.junit.c_str());
-  const int code = plumb::ScoreCommand(options);
-  *html = ReadAll(options.outputs.html);
-  *junit = ReadAll(options.outputs.junit);
-  return code != 2;
+  plumb::DriftCommandOptions drift;
+  drift.base_dir = w.dir + "/base";
+  drift.cand_dir = options.out_dir;
+  drift.outputs.html = w.dir + "/drift.html";
+  for (const std::string* file :
+       {&options.outputs.html, &options.outputs.junit, &drift.outputs.html}) {
+    std::remove(file->c_str());
+  }
+  if (plumb::ScoreCommand(options) == 2) return false;
+  plumb::DriftCommand(drift);
+  out->html = ReadAll(options.outputs.html);
+  out->junit = ReadAll(options.outputs.junit);
+  out->drift = ReadAll(drift.outputs.html);
+  return true;
+}
+
+void Merge(const Markup& more, Markup* into) {
+  into->tags.insert(more.tags.begin(), more.tags.end());
+  into->attributes.insert(more.attributes.begin(), more.attributes.end());
+  into->scripts = more.scripts;
 }
 
 const Workspace& Setup() {
@@ -147,7 +184,9 @@ const Workspace& Setup() {
     char dir[] = "/tmp/plumb_report_fuzz_XXXXXX";
     FUZZ_CHECK(mkdtemp(dir) != nullptr, "cannot make a directory for the run");
     w.dir = dir;
-    FUZZ_CHECK(system(("mkdir -p " + w.dir + "/docs").c_str()) == 0, "cannot make the corpus");
+    static const std::string removed_at_exit = w.dir;
+    std::atexit([] { std::filesystem::remove_all(removed_at_exit); });
+    std::filesystem::create_directories(w.dir + "/docs");
     std::ofstream(w.dir + "/docs/boarding.md")
         << "Foot passengers: Boarding closes ten minutes before departure.\n";
     std::ofstream(w.dir + "/suite.yaml")
@@ -156,11 +195,18 @@ const Workspace& Setup() {
     const int null = open("/dev/null", O_WRONLY);
     dup2(null, 1);
     close(null);
-    std::string html, junit;
-    FUZZ_CHECK(Render(w, {}, &html, &junit) && !html.empty() && !junit.empty(),
-               "the benign run wrote no report");
-    w.page = Scan(html);
-    w.junit = Scan(junit);
+    // The benign pages: a right answer, and a wrong one on either side of the drift, so a
+    // lost and a gained case are among them.
+    const std::vector<std::string> right, wrong = {"Five minutes."};
+    for (const auto& [cand, base] : {std::pair{right, right}, {wrong, right}, {right, wrong}}) {
+      Pages pages;
+      FUZZ_CHECK(Render(w, cand, base, &pages) && !pages.html.empty() && !pages.junit.empty() &&
+                     !pages.drift.empty(),
+                 "a benign run wrote no report");
+      Merge(Scan(pages.html), &w.page);
+      Merge(Scan(pages.junit), &w.junit);
+      Merge(Scan(pages.drift), &w.drift);
+    }
     return w;
   }();
   return workspace;
@@ -194,12 +240,16 @@ extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
       fields.back() += static_cast<char>(data[i]);
     }
   }
-  std::string html, junit;
-  if (!Render(w, fields, &html, &junit)) return 0;
-  FUZZ_CHECK(!html.empty() && !junit.empty(), "a scored run wrote no report");
-  const Markup page = Scan(html);
-  CheckWithin(page, w.page, "the HTML report");
-  FUZZ_CHECK(page.scripts == w.page.scripts, "the page has another <script> than its own");
-  CheckWithin(Scan(junit), w.junit, "the JUnit XML");
+  Pages pages;
+  if (!Render(w, fields, {}, &pages)) return 0;
+  FUZZ_CHECK(!pages.html.empty() && !pages.junit.empty() && !pages.drift.empty(),
+             "a scored run wrote no report");
+  for (const auto& [text, allowed, what] : {std::tuple{&pages.html, &w.page, "the HTML report"},
+                                            {&pages.drift, &w.drift, "the drift page"}}) {
+    const Markup page = Scan(*text);
+    CheckWithin(page, *allowed, what);
+    FUZZ_CHECK(page.scripts == allowed->scripts, "a page has another <script> than its own");
+  }
+  CheckWithin(Scan(pages.junit), w.junit, "the JUnit XML");
   return 0;
 }

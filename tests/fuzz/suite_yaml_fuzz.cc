@@ -7,6 +7,8 @@
 
 #include <cstddef>
 #include <cstdint>
+#include <cstdlib>
+#include <filesystem>
 #include <fstream>
 #include <string>
 
@@ -21,6 +23,8 @@ const std::string& SuitePath() {
   static const std::string path = [] {
     char dir[] = "/tmp/plumb_suite_fuzz_XXXXXX";
     FUZZ_CHECK(mkdtemp(dir) != nullptr, "cannot make a directory for the suite file");
+    static const std::string removed_at_exit = dir;
+    std::atexit([] { std::filesystem::remove_all(removed_at_exit); });
     return std::string(dir) + "/suite.yaml";
   }();
   return path;
