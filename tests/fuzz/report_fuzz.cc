@@ -5,9 +5,10 @@
 // and `plumb drift` compares it with a benign reply's run of the same suite, writing the drift
 // page (a suite the loader refuses, with an empty question say, writes none and is skipped).
 // Contracts checked: scoring, comparing and rendering never crash; each page holds only the tags
-// and attribute names benign runs' pages hold, and exactly as many <script> elements (one); the
-// JUnit file holds only a benign run's tags. Text that escaped its escaping would add a tag or
-// an attribute (an `onerror`, a second script) that the benign pages lack.
+// and attribute names benign runs' pages hold (a passing and a failing reply on either side), and
+// exactly as many <script> elements (one); the JUnit file holds only a benign run's tags. Text that
+// escaped its escaping would add a tag or an attribute (an `onerror`, a second script) that the
+// benign pages lack.
 #include <fcntl.h>
 #include <stdlib.h>
 #include <unistd.h>
@@ -196,17 +197,19 @@ const Workspace& Setup() {
     const int null = open("/dev/null", O_WRONLY);
     dup2(null, 1);
     close(null);
-    // The benign pages: a right answer, and a wrong one on either side of the drift, so a
-    // lost and a gained case are among them.
-    const std::vector<std::string> right, wrong = {"Five minutes."};
-    for (const auto& [cand, base] : {std::pair{right, right}, {wrong, right}, {right, wrong}}) {
-      Pages pages;
-      FUZZ_CHECK(Render(w, cand, base, &pages) && !pages.html.empty() && !pages.junit.empty() &&
-                     !pages.drift.empty(),
-                 "a benign run wrote no report");
-      Merge(Scan(pages.html), &w.page);
-      Merge(Scan(pages.junit), &w.junit);
-      Merge(Scan(pages.drift), &w.drift);
+    // The benign pages: a passing and a failing answer on either side of the drift, so every
+    // group (lost, gained, still failing, still passing) and its cards are among them.
+    const std::vector<std::string> passing = {"Ten minutes."}, failing = {"Five minutes."};
+    for (const auto* cand : {&passing, &failing}) {
+      for (const auto* base : {&passing, &failing}) {
+        Pages pages;
+        FUZZ_CHECK(Render(w, *cand, *base, &pages) && !pages.html.empty() && !pages.junit.empty() &&
+                       !pages.drift.empty(),
+                   "a benign run wrote no report");
+        Merge(Scan(pages.html), &w.page);
+        Merge(Scan(pages.junit), &w.junit);
+        Merge(Scan(pages.drift), &w.drift);
+      }
     }
     return w;
   }();
