@@ -86,15 +86,21 @@ bool ReadRecordedSuiteSettings(const nlohmann::json& record, Suite* suite, std::
   suite->retrieval_k.clear();
   if (const nlohmann::json* ks = fields.Find("retrieval_k", &nlohmann::json::is_array, "list")) {
     for (const nlohmann::json& k : *ks) {
-      if (!k.is_number_integer()) fields.Fail("\"retrieval_k\" must hold whole numbers");
-      if (k.is_number_integer()) suite->retrieval_k.push_back(k.get<int>());
+      if (k.is_number_integer()) {
+        suite->retrieval_k.push_back(k.get<int>());
+      } else {
+        fields.Fail("\"retrieval_k\" must hold whole numbers");
+      }
     }
   }
   suite->case_pass.clear();
   if (const nlohmann::json* pass = fields.Find("case_pass", &nlohmann::json::is_object, "object")) {
     for (auto it = pass->begin(); it != pass->end(); ++it) {
-      if (!it->is_number()) fields.Fail("\"case_pass\" must map metrics to numbers");
-      if (it->is_number()) suite->case_pass[it.key()] = it->get<double>();
+      if (it->is_number()) {
+        suite->case_pass[it.key()] = it->get<double>();
+      } else {
+        fields.Fail("\"case_pass\" must map metrics to numbers");
+      }
     }
   }
   if (!fields.Done(error)) return false;
