@@ -1,7 +1,6 @@
 #include "runner/recorded_suite.h"
 
 #include <cstdint>
-#include <limits>
 
 namespace plumb {
 namespace {
@@ -170,8 +169,9 @@ bool ReadRecordedCase(const std::string& id, const nlohmann::json& entry, Case* 
     if (!n.Done(error)) return false;
     gold->number = value;
   }
-  if (place < 0 || place > std::numeric_limits<int32_t>::max()) {
-    fields.Fail("\"index\" must be a case's place in its suite, from 0");
+  if (place < 0 || place >= static_cast<int64_t>(kMaxRecordedCases)) {
+    fields.Fail("\"index\" must be a case's place in its suite, from 0 to " +
+                std::to_string(kMaxRecordedCases - 1));
   }
   if (!fields.Done(error)) return false;
   gold->pos.line = static_cast<int>(line);

@@ -7,6 +7,7 @@
 /// are computed by the same code as for a run of the suite file itself. Pipelines, quotes and
 /// case inputs are not recorded and stay empty.
 
+#include <cstddef>
 #include <nlohmann/json.hpp>
 #include <string>
 
@@ -19,8 +20,13 @@ namespace plumb {
 /// member that is missing or malformed.
 bool ReadRecordedSuiteSettings(const nlohmann::json& record, Suite* suite, std::string* error);
 
-/// One entry of run.json's "cases": the case's gold and its place in the suite ("index").
-/// False with a sentence naming the member that is missing or malformed.
+/// The most cases a rebuilt suite may hold. A rebuilt Suite keeps each case at its recorded
+/// place, so a place is bounded before anything is sized by it; 16,777,216 cases is far beyond
+/// what plumb loads (a Case is about 300 bytes before its text).
+inline constexpr size_t kMaxRecordedCases = size_t{1} << 24;
+
+/// One entry of run.json's "cases": the case's gold and its place in the suite ("index", below
+/// kMaxRecordedCases). False with a sentence naming the member that is missing or malformed.
 bool ReadRecordedCase(const std::string& id, const nlohmann::json& entry, Case* gold, size_t* index,
                       std::string* error);
 

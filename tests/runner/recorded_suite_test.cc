@@ -117,4 +117,21 @@ TEST_CASE("a malformed record names the member") {
   size_t index = 0;
   CHECK_FALSE(plumb::ReadRecordedCase("c1", {{"gold_hash", "h"}}, &c, &index, &error));
   CHECK(error == "case 'c1' in run.json has no string \"question\"");
+  // A place beyond any loadable suite is refused before `plumb merge` sizes a suite by it.
+  const nlohmann::json far = {{"gold_hash", "h"},
+                              {"question", "q"},
+                              {"answers", {"a"}},
+                              {"patterns", nlohmann::json::array()},
+                              {"tags", nlohmann::json::array()},
+                              {"sources", nlohmann::json::array()},
+                              {"line", 1},
+                              {"index", 2147483647}};
+  CHECK_FALSE(plumb::ReadRecordedCase("c1", far, &c, &index, &error));
+  CHECK(error ==
+        "case 'c1' in run.json: \"index\" must be a case's place in its suite, from 0 to "
+        "16777215");
+  nlohmann::json near = far;
+  near["index"] = 16777215;
+  CHECK(plumb::ReadRecordedCase("c1", near, &c, &index, &error));
+  CHECK(index == 16777215);
 }
