@@ -22,7 +22,7 @@ nlohmann::json DemoRunRecord(const std::string& dir) {
   const plumb_test::Result r =
       plumb_test::Plumb({"score", std::string(PLUMB_SOURCE_DIR) + "/suites/ferry.yaml",
                          dir + "/none.jsonl", "--out", dir + "/run"},
-                        PLUMB_SOURCE_DIR);
+                        dir);
   REQUIRE(r.code == 3);
   return nlohmann::json::parse(plumb_test::ReadFile(dir + "/run/run.json"));
 }
