@@ -1,6 +1,6 @@
-// Times a whole drift report (runner/drift.h) at a large suite's scale: by default 100,000 paired
-// cases, B = 10000 resamples, a dozen metrics (some defined on part of the cases only), eight
-// tags with one or two per case, latencies, and a candidate that changes a few percent of the
+// Times a whole drift report (runner/compare/drift.h) at a large suite's scale: by default 100,000
+// paired cases, B = 10000 resamples, a dozen metrics (some defined on part of the cases only),
+// eight tags with one or two per case, latencies, and a candidate that changes a few percent of the
 // outcomes and most token F1 values a little. Prints wall and CPU seconds so figures can be
 // compared across changes. Not a test: the machine's load changes the numbers. With "light" as
 // the third argument the runs carry only the three default gated metrics and no tags.
@@ -15,7 +15,7 @@
 #include <vector>
 
 #include "metrics/seeded_random.h"
-#include "runner/drift.h"
+#include "runner/compare/drift.h"
 
 namespace {
 

@@ -1,7 +1,7 @@
 // The drift page in a real browser: the verdict and the per-metric delta, interval and p-value
 // at the top, lost cases first with base and candidate answers side by side, then gained ones,
 // then the unchanged, and a status filter. The two runs are made with `plumb score`; the drift
-// JSON is written here by hand in the shape the drift computation emits (runner/drift_json.h),
+// JSON is written here by hand in the shape the drift computation emits (runner/compare/drift_json.h),
 // so every number the page must show is known.
 'use strict';
 

@@ -12,8 +12,8 @@
 #include <sstream>
 #include <string>
 
-#include "runner/html_report.h"
-#include "runner/run_reader.h"
+#include "runner/report/html_report.h"
+#include "runner/run/run_reader.h"
 
 namespace {
 

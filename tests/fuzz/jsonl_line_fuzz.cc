@@ -1,18 +1,18 @@
 // Fuzz target: one line of a JSONL include (SPEC §4), read by the suite loader's one-pass
-// JSON reader (runner/jsonl_reader.h) and its plain-shape reader (runner/plain_case_line.h).
-// Contracts checked: ReadJsonLine never crashes; a line it reads is one nlohmann accepts; a
-// refusal names line 1 and a column within the line; a line the plain reader takes is one
-// ReadJsonLine reads too, with the same id and question.
+// JSON reader (runner/suite/jsonl_reader.h) and its plain-shape reader
+// (runner/suite/plain_case_line.h). Contracts checked: ReadJsonLine never crashes; a line it reads
+// is one nlohmann accepts; a refusal names line 1 and a column within the line; a line the plain
+// reader takes is one ReadJsonLine reads too, with the same id and question.
 #include <cstddef>
 #include <cstdint>
 #include <nlohmann/json.hpp>
 #include <string>
 #include <string_view>
 
-#include "runner/jsonl_reader.h"
-#include "runner/plain_case_line.h"
-#include "runner/source_node.h"
-#include "runner/suite.h"
+#include "runner/suite/jsonl_reader.h"
+#include "runner/suite/plain_case_line.h"
+#include "runner/suite/source_node.h"
+#include "runner/suite/suite.h"
 #include "tests/fuzz/fuzz_check.h"
 
 namespace {

@@ -1,18 +1,18 @@
 // Fuzz target: a pipeline's reply body, which is untrusted (SPEC §5: a pipeline that prints
 // garbage costs one case). ParseResponse must answer true, or false with a reason, for any
 // bytes, under the default reply map and a renamed one, and never crash or throw. When the
-// one-pass flat reader (runner/flat_reply.h) takes the bytes, its header's contract is checked:
-// nlohmann reads an object from them, and FlatReply::Write gives the text JsonWriter::Value
-// gives for that object.
+// one-pass flat reader (runner/pipeline/flat_reply.h) takes the bytes, its header's contract is
+// checked: nlohmann reads an object from them, and FlatReply::Write gives the text
+// JsonWriter::Value gives for that object.
 #include <cstddef>
 #include <cstdint>
 #include <nlohmann/json.hpp>
 #include <string>
 #include <string_view>
 
-#include "runner/flat_reply.h"
-#include "runner/json_writer.h"
-#include "runner/response.h"
+#include "runner/base/json_writer.h"
+#include "runner/pipeline/flat_reply.h"
+#include "runner/pipeline/response.h"
 #include "tests/fuzz/fuzz_check.h"
 
 namespace {

@@ -26,8 +26,8 @@
 #include <utility>
 #include <vector>
 
-#include "runner/drift_command.h"
-#include "runner/score_command.h"
+#include "runner/cli/drift_command.h"
+#include "runner/cli/score_command.h"
 #include "tests/fuzz/fuzz_check.h"
 
 namespace {

@@ -12,9 +12,9 @@
 #include <fstream>
 #include <string>
 
-#include "runner/diagnostic.h"
-#include "runner/suite.h"
-#include "runner/suite_loader.h"
+#include "runner/suite/diagnostic.h"
+#include "runner/suite/suite.h"
+#include "runner/suite/suite_loader.h"
 #include "tests/fuzz/fuzz_check.h"
 
 namespace {

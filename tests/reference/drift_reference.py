@@ -6,7 +6,7 @@ Usage: drift_reference.py PLUMB FIXTURES_RUNS_DIR
 Builds run directories from the recorded predictions in fixtures/runs/ with `plumb score`, runs
 `plumb drift BASE CAND --json` on several pairs, and recomputes every number of the report from
 the runs' own files (run.json's per-case gold hashes and tags, cases.jsonl's scores, pass flags
-and latencies), following the definitions in runner/drift.h, with the reference libraries:
+and latencies), following the definitions in runner/compare/drift.h, with the reference libraries:
   - pairing by id and gold hash, per-case means over repeats, means and deltas: plain Python/numpy,
   - exact McNemar: statsmodels.stats.contingency_tables.mcnemar(exact=True),
   - Wilcoxon signed-rank: scipy.stats.wilcoxon (with method="approx" where metrics/paired_tests.h

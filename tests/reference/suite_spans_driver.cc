@@ -3,7 +3,7 @@
 
 #include <cstdio>
 
-#include "runner/suite_loader.h"
+#include "runner/suite/suite_loader.h"
 
 int main(int argc, char** argv) {
   if (argc != 2) {

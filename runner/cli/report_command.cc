@@ -1,0 +1,150 @@
+#include "runner/cli/report_command.h"
+
+#include <cstdio>
+
+#include "runner/compare/drift.h"
+#include "runner/report/summary_table.h"
+#include "runner/run/exit_code.h"
+#include "runner/run/run_record.h"
+
+namespace plumb {
+namespace {
+
+const nlohmann::json& At(const nlohmann::json& object, const char* key) {
+  static const nlohmann::json kNull;
+  if (!object.is_object()) return kNull;
+  auto it = object.find(key);
+  return it == object.end() ? kNull : *it;
+}
+
+double Number(const nlohmann::json& object, const char* key) {
+  const nlohmann::json& v = At(object, key);
+  return v.is_number() ? v.get<double>() : 0;
+}
+
+int64_t Integer(const nlohmann::json& object, const char* key) {
+  const nlohmann::json& v = At(object, key);
+  return v.is_number() ? v.get<int64_t>() : 0;
+}
+
+std::string Text(const nlohmann::json& object, const char* key) {
+  const nlohmann::json& v = At(object, key);
+  return v.is_string() ? v.get<std::string>() : "";
+}
+
+std::vector<MetricAggregate> MetricsFrom(const nlohmann::json& metrics) {
+  std::vector<MetricAggregate> out;
+  if (!metrics.is_object()) return out;
+  std::vector<std::string> names;
+  for (auto it = metrics.begin(); it != metrics.end(); ++it) names.push_back(it.key());
+  for (const std::string& name : MetricDisplayOrder(names)) {
+    const nlohmann::json& m = metrics[name];
+    MetricAggregate a;
+    a.metric = name;
+    a.summary.mean = Number(m, "mean");
+    a.summary.n = Integer(m, "n");
+    const nlohmann::json& interval = At(m, "interval");
+    if (interval.is_array() && interval.size() == 2 && interval[0].is_number() &&
+        interval[1].is_number()) {
+      a.summary.interval = {interval[0].get<double>(), interval[1].get<double>()};
+    }
+    a.summary.wilson = Text(m, "interval_method") == "wilson";
+    out.push_back(a);
+  }
+  return out;
+}
+
+}  // namespace
+
+RunAggregates AggregatesFromRecord(const nlohmann::json& record) {
+  const nlohmann::json& a = At(record, "aggregates");
+  RunAggregates run;
+  run.cases = Integer(a, "cases");
+  run.items = Integer(a, "items");
+  run.errored = Integer(a, "errored");
+  run.passed = Integer(a, "passed");
+  run.metrics = MetricsFrom(At(a, "metrics"));
+  const nlohmann::json& tags = At(a, "tags");
+  if (tags.is_object()) {
+    for (auto it = tags.begin(); it != tags.end(); ++it) {
+      TagAggregate t;
+      t.tag = it.key();
+      t.cases = Integer(*it, "cases");
+      t.metrics = MetricsFrom(At(*it, "metrics"));
+      run.tags.push_back(std::move(t));
+    }
+  }
+  const nlohmann::json& l = At(a, "latency_ms");
+  run.latency.n = Integer(l, "n");
+  run.latency.p50 = Number(l, "p50");
+  run.latency.p90 = Number(l, "p90");
+  run.latency.p95 = Number(l, "p95");
+  run.latency.p99 = Number(l, "p99");
+  run.latency.mean = Number(l, "mean");
+  run.latency.max = Number(l, "max");
+  run.input_tokens = Integer(At(a, "usage"), "input_tokens");
+  run.output_tokens = Integer(At(a, "usage"), "output_tokens");
+  const nlohmann::json& unstable = At(a, "unstable_cases");
+  if (unstable.is_array()) {
+    for (const nlohmann::json& id : unstable) {
+      if (id.is_string()) run.unstable_cases.push_back(id.get<std::string>());
+    }
+  }
+  return run;
+}
+
+std::vector<ThresholdOutcome> ThresholdsFromRecord(const nlohmann::json& record) {
+  std::vector<ThresholdOutcome> out;
+  const nlohmann::json& list = At(record, "thresholds");
+  if (!list.is_array()) return out;
+  for (const nlohmann::json& t : list) {
+    ThresholdOutcome o;
+    o.tag = Text(t, "tag");
+    o.metric = Text(t, "metric");
+    o.limit = Number(t, "limit");
+    o.ceiling = Text(t, "kind") == "ceiling";
+    if (At(t, "value").is_number()) o.value = At(t, "value").get<double>();
+    o.held = At(t, "held").is_boolean() && At(t, "held").get<bool>();
+    out.push_back(o);
+  }
+  return out;
+}
+
+int ReportCommand(const ReportOptions& options) {
+  LoadedRun run;
+  std::string error;
+  if (!LoadRun(options.run_dir, &run, &error)) {
+    std::fprintf(stderr, "plumb: %s\n", error.c_str());
+    return kExitUsage;
+  }
+  for (const std::string& w : run.warnings) {
+    std::fprintf(stderr, "%s: warning: %s\n", options.run_dir.c_str(), w.c_str());
+  }
+  if (!WriteRunOutputs(run, options.outputs, &error)) {
+    std::fprintf(stderr, "plumb: %s\n", error.c_str());
+    return kExitUsage;
+  }
+  if (options.json) {
+    std::printf("%s\n", run.record.dump(2).c_str());
+    return kExitOk;
+  }
+  const nlohmann::json& r = run.record;
+  SummaryHeader header;
+  header.suite = Text(At(r, "suite"), "name");
+  header.pipeline = Text(At(r, "pipeline"), "name");
+  header.seconds = SecondsBetween(Text(r, "started_at"), Text(r, "finished_at"));
+  header.repeat = At(r, "repeat").is_number_integer() ? At(r, "repeat").get<int>() : 1;
+  RunVerdict verdict;
+  verdict.code = static_cast<int>(Integer(At(r, "verdict"), "exit_code"));
+  verdict.reason = Text(At(r, "verdict"), "reason");
+  // The note goes first, so the verdict stays the last line, as after the run itself.
+  std::printf("recorded run %s (started %s); nothing was re-run\n\n", options.run_dir.c_str(),
+              Text(r, "started_at").c_str());
+  std::fputs(FormatSummary(header, AggregatesFromRecord(r), ThresholdsFromRecord(r), verdict,
+                           UseColour(stdout))
+                 .c_str(),
+             stdout);
+  return kExitOk;
+}
+
+}  // namespace plumb

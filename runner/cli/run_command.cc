@@ -1,0 +1,345 @@
+#include "runner/cli/run_command.h"
+
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include <cerrno>
+#include <chrono>
+#include <cstdio>
+#include <cstring>
+#include <memory>
+#include <set>
+
+#include "runner/base/interrupt.h"
+#include "runner/base/keep_until_exit.h"
+#include "runner/cli/drift_command.h"
+#include "runner/cli/run_summary.h"
+#include "runner/pipeline/adapter_factory.h"
+#include "runner/report/summary_table.h"
+#include "runner/run/prepared_suite.h"
+#include "runner/run/run_journal.h"
+#include "runner/run/run_reader.h"
+#include "runner/run/scheduler.h"
+
+namespace plumb {
+namespace {
+
+const PipelineConfig* FindPipeline(const Suite& suite, const std::string& name) {
+  for (const PipelineConfig& p : suite.pipelines) {
+    if (p.name == name) return &p;
+  }
+  return nullptr;
+}
+
+std::string PipelineNames(const Suite& suite) {
+  std::string names;
+  for (const PipelineConfig& p : suite.pipelines) names += (names.empty() ? "" : ", ") + p.name;
+  return names.empty() ? "none" : names;
+}
+
+/// Outcomes of the items a previous, interrupted run finished, and the items still to do.
+struct ResumeState {
+  std::vector<CaseOutcome> outcomes;
+  std::set<std::pair<std::string, int>> finished;
+  long long keep_bytes = -1;
+};
+
+bool LoadResumeState(const std::string& journal_path, const Suite& suite,
+                     const std::vector<size_t>& selected, ResumeState* state, std::string* error) {
+  JournalContents contents;
+  if (!ReadJournal(journal_path, &contents, error)) return false;
+  for (const std::string& w : contents.warnings) std::fprintf(stderr, "warning: %s\n", w.c_str());
+  std::vector<bool> is_selected(suite.cases.size(), false);
+  for (size_t i : selected) is_selected[i] = true;
+  for (const nlohmann::json& json : contents.records) {
+    CaseRecord record;
+    std::string record_error;
+    if (!CaseRecordFromJson(json, &record, &record_error)) {
+      *error = journal_path + ": " + record_error;
+      return false;
+    }
+    const size_t index = suite.case_ids.Find(suite.cases, record.id);
+    // Not in the suite, or not selected this time: kept in the journal as is.
+    if (index == CaseIdIndex::kAbsent || !is_selected[index]) continue;
+    if (!state->finished.insert({record.id, record.repeat}).second) continue;
+    CaseOutcome outcome = OutcomeOf(record, index);
+    outcome.scores.abstention_case = suite.cases[index].answers.empty();
+    state->outcomes.push_back(std::move(outcome));
+  }
+  state->keep_bytes = contents.valid_bytes;
+  return true;
+}
+
+struct PipelineRun {
+  int code = kExitOk;
+  std::string reason;     // the verdict's sentence
+  nlohmann::json record;  // with --json only: run.json, parsed
+};
+
+int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
+                   const PipelineConfig& pipeline, const std::vector<size_t>& selected,
+                   bool several, PipelineRun* result) {
+  const Suite& suite = prepared.suite;
+  const std::string dir = RunDirectory(options.out_dir, suite.name, pipeline.name, several);
+  std::string error;
+  if (!MakeDirectories(dir, &error)) {
+    std::fprintf(stderr, "plumb: %s\n", error.c_str());
+    return kExitUsage;
+  }
+  const std::string journal_path = dir + "/cases.jsonl";
+  ResumeState resume;
+  if (options.resume && !LoadResumeState(journal_path, suite, selected, &resume, &error)) {
+    std::fprintf(stderr, "plumb: %s\n", error.c_str());
+    return kExitUsage;
+  }
+  std::vector<WorkItem> items;
+  for (size_t index : selected) {
+    for (int repeat = 0; repeat < options.repeat; ++repeat) {
+      if (resume.finished.count({suite.cases[index].id, repeat})) continue;
+      items.push_back({index, repeat});
+    }
+  }
+
+  const int jobs = options.jobs > 0 ? options.jobs : (pipeline.jobs > 0 ? pipeline.jobs : 1);
+  std::unique_ptr<Adapter> adapter = CreateAdapter(pipeline, jobs, &error);
+  if (adapter == nullptr) {
+    std::fprintf(stderr, "%s: error: %s\n", suite.path.c_str(), error.c_str());
+    return kExitUsage;
+  }
+  std::unique_ptr<RunJournal> journal = RunJournal::Open(journal_path, resume.keep_bytes, &error);
+  if (journal == nullptr) {
+    std::fprintf(stderr, "plumb: %s\n", error.c_str());
+    return kExitUsage;
+  }
+  // A leftover run.json from an earlier run must not describe this one while it is running.
+  std::remove((dir + "/run.json").c_str());
+
+  RunContext context;
+  context.suite = &suite;
+  context.selected = selected;
+  context.pipeline_name = pipeline.name;
+  context.pipeline_config = pipeline.redacted_config;
+  context.corpus_fingerprint = prepared.corpus_fingerprint;
+  context.labels = options.labels;
+  context.started_at = NowIso8601();
+  context.shard = options.selection.shard;
+  context.repeat = options.repeat;
+  context.jobs = adapter->slots();
+  context.resumed = options.resume;
+
+  const auto start = std::chrono::steady_clock::now();
+  Adapter* raw_adapter = adapter.get();
+  Progress progress(pipeline.name, static_cast<int64_t>(items.size()),
+                    options.progress && !items.empty(),
+                    [raw_adapter] { return raw_adapter->retries_in_flight(); });
+  ScheduleResult scheduled;
+  {
+    InterruptWatch watch([raw_adapter] { raw_adapter->Shutdown(); });
+    ScheduleInputs inputs;
+    inputs.suite = &suite;
+    inputs.items = &items;
+    inputs.adapter = raw_adapter;
+    inputs.scorer = prepared.scorer.get();
+    inputs.journal = journal.get();
+    inputs.pipeline = &pipeline;
+    inputs.progress = &progress;
+    inputs.stop = &watch.interrupted();
+    scheduled = RunSchedule(inputs);
+    adapter->Shutdown();
+  }
+  progress.Finish();
+  if (!scheduled.fatal_error.empty()) {
+    std::fprintf(stderr, "plumb: %s\n", scheduled.fatal_error.c_str());
+    return kExitUsage;
+  }
+  std::vector<CaseOutcome> outcomes = std::move(resume.outcomes);
+  for (CaseOutcome& o : scheduled.outcomes) outcomes.push_back(std::move(o));
+
+  const double seconds =
+      std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  FinishedRun finished;
+  if (!FinishRun(context, outcomes, scheduled.interrupted, dir, options.json, seconds, &finished,
+                 &error)) {
+    std::fprintf(stderr, "plumb: %s\n", error.c_str());
+    return kExitUsage;
+  }
+  if (scheduled.interrupted) {
+    std::fprintf(stderr, "plumb: %s\n", finished.verdict.reason.c_str());
+  }
+  // Only --json prints the record, with the drift added to it; parse it back for that alone.
+  if (options.json) result->record = nlohmann::json::parse(finished.record);
+  result->reason = finished.verdict.reason;
+  result->code = finished.verdict.code;
+  return finished.verdict.code;
+}
+
+/// The most severe of two exit codes: interrupted, then case errors, usage, floors, ok.
+int Worse(int a, int b) {
+  auto rank = [](int code) {
+    switch (code) {
+      case kExitInterrupted:
+        return 4;
+      case kExitCaseErrors:
+        return 3;
+      case kExitUsage:
+        return 2;
+      case kExitFloorBroken:
+        return 1;
+      default:
+        return 0;
+    }
+  };
+  return rank(a) >= rank(b) ? a : b;
+}
+
+/// After a finished run: its report files and, with --baseline, the drift against the baseline
+/// run (printed after the run's summary, or added to the JSON record as "drift"). Returns the
+/// pipeline's exit code with the drift gate's folded in.
+int ReportOnRun(const RunOptions& options, const std::string& suite, const std::string& pipeline,
+                bool several, int code, const std::string& reason, nlohmann::json* record) {
+  if (options.baseline_dir.empty() && options.outputs.empty()) return code;
+  const std::string dir = RunDirectory(options.out_dir, suite, pipeline, several);
+  const OutputOptions outputs =
+      several ? OutputsForPipeline(options.outputs, pipeline) : options.outputs;
+  LoadedRun run;
+  std::string error;
+  if (!LoadRun(dir, &run, &error)) {
+    std::fprintf(stderr, "plumb: %s\n", error.c_str());
+    return Worse(code, kExitUsage);
+  }
+  if (options.baseline_dir.empty()) {
+    if (!WriteRunOutputs(run, outputs, &error)) {
+      std::fprintf(stderr, "plumb: %s\n", error.c_str());
+      return Worse(code, kExitUsage);
+    }
+    return code;
+  }
+  // With several pipelines the baseline mirrors --out: one run directory per pipeline.
+  const std::string baseline_dir =
+      several ? options.baseline_dir + "/" + pipeline : options.baseline_dir;
+  LoadedRun baseline;
+  if (!LoadRun(baseline_dir, &baseline, &error)) {
+    std::fprintf(stderr, "plumb: --baseline: %s\n", error.c_str());
+    return Worse(code, kExitUsage);
+  }
+  DriftCommandOptions drift;
+  drift.base_dir = baseline_dir;
+  drift.cand_dir = dir;
+  drift.outputs = outputs;
+  drift.json = options.json;
+  drift.colour = UseColour(stdout);
+  if (!options.json) std::printf("\n");
+  nlohmann::json drift_json;
+  const int gate = RunDrift(baseline, run, drift, &drift_json);
+  if (options.json && gate != kExitUsage) (*record)["drift"] = std::move(drift_json);
+  const int combined = Worse(code, gate);
+  // The last line states the process's exit code: the run's own verdict when it outranks the
+  // gate's (case errors, say), repeated after the drift table.
+  if (!options.json && gate != kExitUsage && combined != gate) {
+    std::printf("\nexit %d: %s\n", combined, reason.c_str());
+  }
+  return combined;
+}
+
+}  // namespace
+
+std::string RunDirectory(const std::string& out_dir, const std::string& suite_name,
+                         const std::string& pipeline, bool several) {
+  if (out_dir.empty()) return "plumb-out/" + suite_name + "/" + pipeline;
+  return several ? out_dir + "/" + pipeline : out_dir;
+}
+
+bool MakeDirectories(const std::string& dir, std::string* error) {
+  std::string path;
+  size_t pos = 0;
+  while (pos != std::string::npos) {
+    pos = dir.find('/', pos + 1);
+    path = dir.substr(0, pos);
+    if (path.empty()) continue;
+    if (::mkdir(path.c_str(), 0755) != 0 && errno != EEXIST) {
+      *error = "cannot create directory " + path + ": " + std::strerror(errno);
+      return false;
+    }
+  }
+  struct stat st {};
+  if (::stat(dir.c_str(), &st) != 0 || !S_ISDIR(st.st_mode)) {
+    *error = dir + " exists and is not a directory; choose another --out";
+    return false;
+  }
+  return true;
+}
+
+int RunCommand(const RunOptions& options) {
+  auto owned = std::make_unique<PreparedSuite>();
+  PreparedSuite& prepared = *owned;
+  if (!PrepareSuite(options.suite_path, options.pipelines_file, /*expand_env=*/true, &prepared)) {
+    return kExitUsage;
+  }
+  const Suite& suite = prepared.suite;
+  std::vector<const PipelineConfig*> pipelines;
+  if (options.pipelines.empty()) {
+    if (suite.pipelines.empty()) {
+      std::fprintf(stderr,
+                   "%s: error: the suite defines no pipelines; add a `pipelines:` block or pass "
+                   "--pipelines FILE\n",
+                   suite.path.c_str());
+      return kExitUsage;
+    }
+    pipelines.push_back(&suite.pipelines.front());
+  }
+  for (const std::string& name : options.pipelines) {
+    const PipelineConfig* p = FindPipeline(suite, name);
+    if (p == nullptr) {
+      std::fprintf(stderr, "plumb: --pipeline %s: no such pipeline in %s (it has: %s)\n",
+                   name.c_str(), suite.path.c_str(), PipelineNames(suite).c_str());
+      return kExitUsage;
+    }
+    pipelines.push_back(p);
+  }
+  const std::vector<size_t> selected = SelectCases(suite, options.selection);
+  if (selected.empty()) {
+    std::fprintf(stderr,
+                 "plumb: no case of %s matches the selection (--tag/--case/--shard/--limit)\n",
+                 suite.path.c_str());
+    return kExitUsage;
+  }
+
+  const bool several = pipelines.size() > 1;
+  // A baseline that is not there fails now, before any pipeline runs.
+  for (const PipelineConfig* pipeline : pipelines) {
+    if (options.baseline_dir.empty()) break;
+    const std::string dir =
+        several ? options.baseline_dir + "/" + pipeline->name : options.baseline_dir;
+    if (::access((dir + "/run.json").c_str(), R_OK) != 0) {
+      std::fprintf(stderr,
+                   "plumb: --baseline %s: no run.json in %s; point --baseline at the run "
+                   "directory of a finished run%s\n",
+                   options.baseline_dir.c_str(), dir.c_str(),
+                   several ? " (with several pipelines, one subdirectory per pipeline)" : "");
+      return kExitUsage;
+    }
+  }
+  int code = kExitOk;
+  nlohmann::json runs = nlohmann::json::array();
+  for (const PipelineConfig* pipeline : pipelines) {
+    PipelineRun run;
+    int pipeline_code = RunOnePipeline(options, prepared, *pipeline, selected, several, &run);
+    if (pipeline_code != kExitInterrupted && pipeline_code != kExitUsage) {
+      pipeline_code = ReportOnRun(options, suite.name, pipeline->name, several, pipeline_code,
+                                  run.reason, &run.record);
+    }
+    code = Worse(code, pipeline_code);
+    if (!run.record.is_null()) runs.push_back(std::move(run.record));
+    if (pipeline_code == kExitInterrupted || pipeline_code == kExitUsage) break;
+    if (several && !options.json) std::printf("\n");
+  }
+  if (options.json) {
+    const nlohmann::json out = several ? nlohmann::json{{"runs", runs}, {"exit_code", code}}
+                                       : (runs.empty() ? nlohmann::json::object() : runs[0]);
+    std::printf("%s\n", out.dump(2).c_str());
+  }
+  KeepUntilExit(std::move(owned));
+  return code;
+}
+
+}  // namespace plumb

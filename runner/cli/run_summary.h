@@ -1,0 +1,30 @@
+#ifndef PLUMB_RUNNER_CLI_RUN_SUMMARY_H_
+#define PLUMB_RUNNER_CLI_RUN_SUMMARY_H_
+
+/// The last stage of `plumb run` and `plumb score`: outcomes -> aggregates -> thresholds ->
+/// verdict, then run.json (when the run has a directory) and the summary on stdout (the table,
+/// or with --json nothing: the caller prints the record). Returns the run's verdict.
+
+#include <nlohmann/json.hpp>
+#include <string>
+#include <vector>
+
+#include "runner/run/exit_code.h"
+#include "runner/run/run_record.h"
+#include "runner/run/scheduler.h"
+
+namespace plumb {
+
+struct FinishedRun {
+  RunVerdict verdict;
+  std::string record;  // with `json` only: the run.json text (what --json prints)
+};
+
+/// `run_dir` empty: no run.json is written. `seconds` is the wall time shown in the table.
+bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, bool interrupted,
+               const std::string& run_dir, bool json, double seconds, FinishedRun* finished,
+               std::string* error);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_CLI_RUN_SUMMARY_H_

@@ -1,0 +1,952 @@
+#include "runner/compare/drift.h"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+#include <cstring>
+#include <limits>
+#include <set>
+#include <unordered_map>
+
+#include "metrics/detectable_effect.h"
+#include "metrics/paired_tests.h"
+#include "metrics/percentile.h"
+#include "metrics/seeded_random.h"
+#include "runner/run/exit_code.h"
+
+namespace plumb {
+namespace {
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+
+bool IsBinaryKind(const std::string& metric) {
+  static const std::set<std::string> kBinary = {"exact_match", "correct", "pattern_match",
+                                                "number_match", "pass_rate"};
+  return kBinary.count(metric) > 0;
+}
+
+std::string StringAt(const nlohmann::json& object, const char* key) {
+  if (!object.is_object()) return "";
+  auto it = object.find(key);
+  return it != object.end() && it->is_string() ? it->get<std::string>() : "";
+}
+
+const nlohmann::json& ObjectAt(const nlohmann::json& object, const char* key) {
+  static const nlohmann::json kNull;
+  if (!object.is_object()) return kNull;
+  auto it = object.find(key);
+  return it == object.end() ? kNull : *it;
+}
+
+RunIdentity IdentityOf(const LoadedRun& run) {
+  const nlohmann::json& r = run.record;
+  RunIdentity id;
+  id.dir = run.dir;
+  id.pipeline = StringAt(ObjectAt(r, "pipeline"), "name");
+  const nlohmann::json& labels = ObjectAt(r, "labels");
+  if (labels.is_object()) {
+    for (auto it = labels.begin(); it != labels.end(); ++it) {
+      id.labels[it.key()] = it->is_string() ? it->get<std::string>() : it->dump();
+    }
+  }
+  id.suite_name = StringAt(ObjectAt(r, "suite"), "name");
+  id.suite_hash = StringAt(ObjectAt(r, "suite"), "hash");
+  id.corpus_fingerprint = StringAt(r, "corpus_fingerprint");
+  id.started_at = StringAt(r, "started_at");
+  return id;
+}
+
+using MetricIndex = std::unordered_map<std::string, size_t>;
+
+/// Maps a record's metric ids to indices. Records of one run list their metrics in the same
+/// (sorted) order, so the id at each position is first compared with the one seen there last:
+/// a string comparison instead of a hash lookup per score.
+class MetricLookup {
+ public:
+  explicit MetricLookup(const MetricIndex& index) : index_(index) {}
+  size_t Find(const std::string& metric, size_t position) {
+    if (position < cache_.size() && cache_[position].first == metric) {
+      return cache_[position].second;
+    }
+    const size_t m = index_.at(metric);
+    if (position >= cache_.size()) cache_.resize(position + 1);
+    cache_[position] = {metric, m};
+    return m;
+  }
+
+ private:
+  const MetricIndex& index_;
+  std::vector<std::pair<std::string, size_t>> cache_;
+};
+
+/// The cases run.json lists, one row each, with their journal records folded in: per metric the
+/// sum and count over repeats, pass counts, latency over the repeats that did not error, and the
+/// lowest repeat's record. Records of cases the run did not select (a journal reused with
+/// another selection) are ignored.
+struct RunCases {
+  size_t metrics = 0;
+  std::unordered_map<std::string, uint32_t> row_of;
+  std::vector<const nlohmann::json*> gold;
+  std::vector<double> sum;  // row * metrics + metric
+  std::vector<uint32_t> count;
+  std::vector<int> repeats, passes;
+  std::vector<double> latency_sum;
+  std::vector<int> latency_count;
+  std::vector<const CaseRecord*> first;
+
+  double Value(uint32_t row, size_t m) const {
+    const size_t k = row * metrics + m;
+    return count[k] > 0 ? sum[k] / count[k] : kNaN;
+  }
+  bool Passed(uint32_t row) const { return repeats[row] > 0 && passes[row] == repeats[row]; }
+  bool Unstable(uint32_t row) const { return passes[row] > 0 && passes[row] < repeats[row]; }
+  double Latency(uint32_t row) const {
+    return latency_count[row] > 0 ? latency_sum[row] / latency_count[row] : kNaN;
+  }
+  std::string GoldHash(uint32_t row) const { return StringAt(*gold[row], "gold_hash"); }
+};
+
+RunCases SummarizeCases(const LoadedRun& run, const MetricIndex& index) {
+  RunCases cases;
+  cases.metrics = index.size();
+  const size_t pass_rate = index.at("pass_rate");
+  const nlohmann::json& listed = ObjectAt(run.record, "cases");
+  if (listed.is_object()) {
+    cases.row_of.reserve(listed.size());
+    for (auto it = listed.begin(); it != listed.end(); ++it) {
+      cases.row_of.emplace(it.key(), static_cast<uint32_t>(cases.gold.size()));
+      cases.gold.push_back(&*it);
+    }
+  }
+  const size_t rows = cases.gold.size();
+  cases.sum.assign(rows * cases.metrics, 0);
+  cases.count.assign(rows * cases.metrics, 0);
+  cases.repeats.assign(rows, 0);
+  cases.passes.assign(rows, 0);
+  cases.latency_sum.assign(rows, 0);
+  cases.latency_count.assign(rows, 0);
+  cases.first.assign(rows, nullptr);
+  MetricLookup lookup(index);
+  for (const CaseRecord& r : run.records) {
+    auto it = cases.row_of.find(r.id);
+    if (it == cases.row_of.end()) continue;
+    const uint32_t row = it->second;
+    double* sum = &cases.sum[row * cases.metrics];
+    uint32_t* count = &cases.count[row * cases.metrics];
+    size_t position = 0;
+    for (const auto& [metric, value] : r.scores.values) {
+      const size_t m = lookup.Find(metric, position++);
+      sum[m] += value;
+      count[m] += 1;
+    }
+    sum[pass_rate] += r.scores.pass ? 1 : 0;
+    count[pass_rate] += 1;
+    cases.repeats[row] += 1;
+    cases.passes[row] += r.scores.pass ? 1 : 0;
+    // Latency of a failed call measures the failure (often the timeout), as in the run's own
+    // latency summary.
+    if (r.error.empty()) {
+      cases.latency_sum[row] += r.latency_ms;
+      cases.latency_count[row] += 1;
+    }
+    if (cases.first[row] == nullptr || r.repeat < cases.first[row]->repeat) cases.first[row] = &r;
+  }
+  return cases;
+}
+
+std::vector<std::string> TagsOf(const nlohmann::json& gold) {
+  std::vector<std::string> tags;
+  const nlohmann::json& list = ObjectAt(gold, "tags");
+  if (!list.is_array()) return tags;
+  for (const nlohmann::json& t : list) {
+    if (t.is_string()) tags.push_back(t.get<std::string>());
+  }
+  std::sort(tags.begin(), tags.end());
+  tags.erase(std::unique(tags.begin(), tags.end()), tags.end());
+  return tags;
+}
+
+// --- The shared paired bootstrap --------------------------------------------------------------
+
+/// Every bootstrap interval of a drift report from one stream of resamples (see drift.h). A
+/// resample is a count per paired case (how often it was drawn), and every statistic is read off
+/// those counts: the mean over a case subset D is sum(count_i * d_i) / sum(count_i) over i in D.
+/// Only cases with a non-zero difference enter the numerator, so unchanged cases cost nothing
+/// there; statistics over the same subset share the denominator. Cost per resample: n draws,
+/// the non-zero differences, the subsets' sizes, and about n reads for the latency percentiles.
+class SharedBootstrap {
+ public:
+  SharedBootstrap(size_t n, int resamples, uint64_t seed)
+      : n_(n), resamples_(resamples), seed_(seed) {}
+
+  /// Registers the scope `members` (ascending case positions) and returns its id; `whole` means
+  /// every case, and `members` is then ignored.
+  size_t AddScope(bool whole, std::vector<uint32_t> members) {
+    scopes_.push_back({whole, std::move(members)});
+    return scopes_.size() - 1;
+  }
+
+  /// Registers the mean of `differences` over `subset` (ascending positions within the scope's
+  /// members, differences aligned with them); returns the statistic's id.
+  size_t AddMean(size_t scope, const std::vector<uint32_t>& subset,
+                 const std::vector<double>& differences) {
+    Mean m;
+    m.scope = scope;
+    m.subset = subset;
+    for (size_t k = 0; k < subset.size(); ++k) {
+      if (differences[k] == 0) continue;
+      m.positions.push_back(subset[k]);
+      m.values.push_back(differences[k]);
+    }
+    means_.push_back(std::move(m));
+    return means_.size() - 1;
+  }
+
+  /// Registers the latency ratios over `subset`, with the cases' latencies in each run.
+  void SetLatency(const std::vector<uint32_t>& subset, const std::vector<double>& base,
+                  const std::vector<double>& cand) {
+    latency_subset_ = subset;
+    for (int run = 0; run < 2; ++run) {
+      const std::vector<double>& v = run == 0 ? base : cand;
+      std::vector<uint32_t> order(subset.size());
+      for (uint32_t k = 0; k < order.size(); ++k) order[k] = k;
+      std::stable_sort(order.begin(), order.end(),
+                       [&](uint32_t a, uint32_t b) { return v[a] < v[b]; });
+      latency_[run].sorted.resize(order.size());
+      latency_[run].order.resize(order.size());
+      for (size_t k = 0; k < order.size(); ++k) {
+        latency_[run].sorted[k] = v[order[k]];
+        latency_[run].order[k] = subset[order[k]];
+      }
+    }
+  }
+
+  void Run();
+
+  metrics::Interval MeanInterval(size_t id) const { return means_[id].interval; }
+  metrics::Interval LatencyInterval(int which) const { return latency_interval_[which]; }
+
+ private:
+  struct Scope {
+    bool whole;
+    std::vector<uint32_t> members;
+  };
+  struct Mean {
+    size_t scope = 0;
+    std::vector<uint32_t> subset;
+    std::vector<uint32_t> positions;  // where the difference is not 0
+    std::vector<double> values;
+    metrics::Interval interval{kNaN, kNaN};
+  };
+  /// The statistics over one subset of one scope, and how to count the subset's draws: the
+  /// scope's total (less the scope members outside the subset, when those are fewer), or the
+  /// subset's own sum.
+  struct Domain {
+    size_t scope;
+    enum Kind { kWholeScope, kScopeExcept, kListed } kind;
+    std::vector<uint32_t> list;
+    std::vector<size_t> stats;
+  };
+  /// One run's latencies in ascending order, and the case position of each.
+  struct SortedLatency {
+    std::vector<double> sorted;
+    std::vector<uint32_t> order;
+  };
+
+  std::vector<Domain> BuildDomains(size_t first, size_t last) const;
+  void Pass(size_t first, size_t last, bool latency);
+
+  size_t n_;
+  int resamples_;
+  uint64_t seed_;
+  std::vector<Scope> scopes_;
+  std::vector<Mean> means_;
+  std::vector<uint32_t> latency_subset_;
+  SortedLatency latency_[2];
+  metrics::Interval latency_interval_[2] = {{kNaN, kNaN}, {kNaN, kNaN}};
+};
+
+std::vector<SharedBootstrap::Domain> SharedBootstrap::BuildDomains(size_t first,
+                                                                   size_t last) const {
+  std::vector<Domain> domains;
+  for (size_t id = first; id < last; ++id) {
+    const Mean& m = means_[id];
+    auto same = std::find_if(domains.begin(), domains.end(), [&](const Domain& d) {
+      return d.scope == m.scope && means_[d.stats.front()].subset == m.subset;
+    });
+    if (same != domains.end()) {
+      same->stats.push_back(id);
+      continue;
+    }
+    const Scope& scope = scopes_[m.scope];
+    Domain d;
+    d.scope = m.scope;
+    d.stats = {id};
+    const size_t scope_size = scope.whole ? n_ : scope.members.size();
+    if (m.subset.size() == scope_size) {
+      d.kind = Domain::kWholeScope;
+    } else if (scope_size - m.subset.size() < m.subset.size()) {
+      d.kind = Domain::kScopeExcept;
+      if (scope.whole) {
+        size_t k = 0;
+        for (uint32_t i = 0; i < n_; ++i) {
+          if (k < m.subset.size() && m.subset[k] == i) {
+            ++k;
+          } else {
+            d.list.push_back(i);
+          }
+        }
+      } else {
+        std::set_difference(scope.members.begin(), scope.members.end(), m.subset.begin(),
+                            m.subset.end(), std::back_inserter(d.list));
+      }
+    } else {
+      d.kind = Domain::kListed;
+      d.list = m.subset;
+    }
+    domains.push_back(std::move(d));
+  }
+  return domains;
+}
+
+/// Sum of count[i] over the listed positions.
+uint64_t CountOf(const std::vector<uint32_t>& count, const std::vector<uint32_t>& positions) {
+  uint64_t a0 = 0, a1 = 0;
+  size_t k = 0;
+  for (; k + 2 <= positions.size(); k += 2) {
+    a0 += count[positions[k]];
+    a1 += count[positions[k + 1]];
+  }
+  if (k < positions.size()) a0 += count[positions[k]];
+  return a0 + a1;
+}
+
+/// Sum of count[positions[k]] * values[k]. Four partial sums let the multiply-adds overlap; for
+/// 0/1 metrics every partial sum is an integer, so the result is exact.
+double WeightedSum(const std::vector<uint32_t>& count, const std::vector<uint32_t>& positions,
+                   const std::vector<double>& values) {
+  double a0 = 0, a1 = 0, a2 = 0, a3 = 0;
+  const size_t size = positions.size();
+  size_t k = 0;
+  for (; k + 4 <= size; k += 4) {
+    a0 += count[positions[k]] * values[k];
+    a1 += count[positions[k + 1]] * values[k + 1];
+    a2 += count[positions[k + 2]] * values[k + 2];
+    a3 += count[positions[k + 3]] * values[k + 3];
+  }
+  for (; k < size; ++k) a0 += count[positions[k]] * values[k];
+  return (a0 + a1) + (a2 + a3);
+}
+
+/// The definition-7 percentile of the resample in which the case at sorted position k (case
+/// order[k]) was drawn count[order[k]] times, `total` draws in all; read off the running count
+/// from the nearer end, as metrics/paired_bootstrap.cc does for its single statistic.
+double ResamplePercentile(const std::vector<double>& sorted, const std::vector<uint32_t>& order,
+                          const std::vector<uint32_t>& count, uint64_t total,
+                          const metrics::PercentileRank& rank) {
+  const uint64_t want_above = std::min<uint64_t>(rank.lower + 1, total - 1);
+  double below = 0, above = 0;
+  uint64_t seen = 0;
+  if (rank.lower < total / 2) {
+    size_t k = 0;
+    while (seen + count[order[k]] <= rank.lower) seen += count[order[k++]];
+    below = sorted[k];
+    while (seen + count[order[k]] <= want_above) seen += count[order[k++]];
+    above = sorted[k];
+  } else {
+    size_t k = sorted.size() - 1;
+    while (seen + count[order[k]] <= total - 1 - want_above) seen += count[order[k--]];
+    above = sorted[k];
+    while (seen + count[order[k]] <= total - 1 - rank.lower) seen += count[order[k--]];
+    below = sorted[k];
+  }
+  if (rank.lower + 1 >= total) return below;
+  return metrics::InterpolateBetween(below, above, rank.gamma);
+}
+
+metrics::Interval PercentileInterval(std::vector<double>* values) {
+  // Resamples that drew no case of the statistic's subset have no value (NaN) and are left out.
+  values->erase(
+      std::remove_if(values->begin(), values->end(), [](double v) { return std::isnan(v); }),
+      values->end());
+  if (values->empty()) return {kNaN, kNaN};
+  std::sort(values->begin(), values->end());
+  const double tail = (1 - kDriftConfidence) / 2;
+  return {metrics::PercentileSorted(*values, 100 * tail),
+          metrics::PercentileSorted(*values, 100 * (1 - tail))};
+}
+
+void SharedBootstrap::Pass(size_t first, size_t last, bool latency) {
+  const std::vector<Domain> domains = BuildDomains(first, last);
+  const size_t resamples = static_cast<size_t>(resamples_);
+  std::vector<double> values((last - first) * resamples, kNaN);
+  std::vector<double> ratios[2];
+  // The draws that land in the latency subset: all of them, or n less those outside it.
+  std::vector<uint32_t> latency_outside;
+  if (latency) {
+    ratios[0].reserve(resamples);
+    ratios[1].reserve(resamples);
+    size_t k = 0;
+    for (uint32_t i = 0; i < n_; ++i) {
+      if (k < latency_subset_.size() && latency_subset_[k] == i) {
+        ++k;
+      } else {
+        latency_outside.push_back(i);
+      }
+    }
+  }
+
+  std::vector<uint64_t> scope_total(scopes_.size());
+  std::vector<bool> scope_needed(scopes_.size(), false);
+  for (const Domain& d : domains) {
+    if (d.kind != Domain::kListed) scope_needed[d.scope] = true;
+  }
+  std::vector<uint32_t> count(n_);
+  metrics::SeededRandom random(seed_);
+  const uint64_t n = n_;
+  for (size_t r = 0; r < resamples; ++r) {
+    std::memset(count.data(), 0, count.size() * sizeof(uint32_t));
+    for (uint64_t k = 0; k < n; ++k) ++count[random.UniformIndex(n)];
+
+    for (size_t s = 0; s < scopes_.size(); ++s) {
+      if (scope_needed[s])
+        scope_total[s] = scopes_[s].whole ? n : CountOf(count, scopes_[s].members);
+    }
+    for (const Domain& d : domains) {
+      uint64_t total = 0;
+      switch (d.kind) {
+        case Domain::kWholeScope:
+          total = scope_total[d.scope];
+          break;
+        case Domain::kScopeExcept:
+          total = scope_total[d.scope] - CountOf(count, d.list);
+          break;
+        case Domain::kListed:
+          total = CountOf(count, d.list);
+          break;
+      }
+      if (total == 0) continue;  // no case of the subset drawn: the values stay NaN
+      const double drawn = static_cast<double>(total);
+      for (size_t id : d.stats) {
+        const Mean& m = means_[id];
+        values[(id - first) * resamples + r] = WeightedSum(count, m.positions, m.values) / drawn;
+      }
+    }
+    if (latency) {
+      const uint64_t drawn = n - CountOf(count, latency_outside);
+      if (drawn == 0) continue;
+      for (int which = 0; which < 2; ++which) {
+        const metrics::PercentileRank rank =
+            metrics::PercentileRankType7(static_cast<size_t>(drawn), which == 0 ? 50.0 : 95.0);
+        ratios[which].push_back(
+            ResamplePercentile(latency_[1].sorted, latency_[1].order, count, drawn, rank) /
+            ResamplePercentile(latency_[0].sorted, latency_[0].order, count, drawn, rank));
+      }
+    }
+  }
+
+  for (size_t id = first; id < last; ++id) {
+    const size_t k = id - first;
+    std::vector<double> v(values.begin() + static_cast<std::ptrdiff_t>(k * resamples),
+                          values.begin() + static_cast<std::ptrdiff_t>((k + 1) * resamples));
+    means_[id].interval = PercentileInterval(&v);
+  }
+  if (latency) {
+    for (int which = 0; which < 2; ++which) {
+      latency_interval_[which] = PercentileInterval(&ratios[which]);
+    }
+  }
+}
+
+void SharedBootstrap::Run() {
+  if (n_ == 0 || resamples_ < 1 || n_ > std::numeric_limits<uint32_t>::max()) return;
+  // Resampled values are kept until the end of a pass (for the percentiles); a pass holds at
+  // most this many statistics, about 256 MB at B = 10000, and the next pass replays the draws.
+  const size_t per_pass =
+      std::max<size_t>(1, (size_t{256} << 20) / (sizeof(double) * static_cast<size_t>(resamples_)));
+  size_t first = 0;
+  do {
+    const size_t last = std::min(means_.size(), first + per_pass);
+    Pass(first, last, /*latency=*/first == 0 && !latency_subset_.empty());
+    first = last;
+  } while (first < means_.size());
+}
+
+// --- Report assembly ------------------------------------------------------------------------
+
+double MeanOf(const std::vector<double>& v) {
+  double total = 0;
+  for (double x : v) total += x;
+  return v.empty() ? 0 : total / static_cast<double>(v.size());
+}
+
+/// Metric ids scored in either run, plus pass_rate, in display order.
+std::vector<std::string> MetricIds(const LoadedRun& base, const LoadedRun& cand) {
+  std::vector<std::string> names = {"pass_rate"};
+  std::set<std::string> seen = {"pass_rate"};
+  std::vector<std::string> last;  // the previous record's ids: usually the same ones
+  for (const LoadedRun* run : {&base, &cand}) {
+    for (const CaseRecord& r : run->records) {
+      size_t position = 0;
+      for (const auto& entry : r.scores.values) {
+        if (position < last.size() && last[position] == entry.first) {
+          ++position;
+          continue;
+        }
+        if (seen.insert(entry.first).second) names.push_back(entry.first);
+        if (position >= last.size()) last.resize(position + 1);
+        last[position++] = entry.first;
+      }
+    }
+  }
+  return MetricDisplayOrder(names);
+}
+
+/// The cases both runs hold with the same gold, in id order (the bootstrap's case order), with
+/// each run's per-case values side by side.
+struct PairedCases {
+  std::vector<std::string> names;  // metric ids; m indexes them
+  std::vector<uint32_t> base_row, cand_row;
+  std::vector<double> base_values, cand_values;  // [i * names.size() + m], NaN: undefined
+
+  size_t size() const { return base_row.size(); }
+  double Base(size_t i, size_t m) const { return base_values[i * names.size() + m]; }
+  double Cand(size_t i, size_t m) const { return cand_values[i * names.size() + m]; }
+};
+
+/// Pairs the runs' cases and fills the report's paired, only_in_base, only_in_cand and
+/// gold_changed lists.
+PairedCases PairCases(const RunCases& base, const RunCases& cand,
+                      const std::vector<std::string>& names, DriftReport* report) {
+  struct Pair {
+    const std::string* id;
+    uint32_t base, cand;
+  };
+  std::vector<Pair> pairs;
+  for (const auto& [id, row] : base.row_of) {
+    auto it = cand.row_of.find(id);
+    if (it == cand.row_of.end()) {
+      report->only_in_base.push_back(id);
+    } else if (cand.GoldHash(it->second) != base.GoldHash(row)) {
+      report->gold_changed.push_back(id);
+    } else {
+      pairs.push_back({&id, row, it->second});
+    }
+  }
+  for (const auto& entry : cand.row_of) {
+    if (!base.row_of.count(entry.first)) report->only_in_cand.push_back(entry.first);
+  }
+  std::sort(pairs.begin(), pairs.end(), [](const Pair& a, const Pair& b) { return *a.id < *b.id; });
+  for (auto* list : {&report->only_in_base, &report->only_in_cand, &report->gold_changed}) {
+    std::sort(list->begin(), list->end());
+  }
+  PairedCases paired;
+  paired.names = names;
+  const size_t metrics = names.size();
+  paired.base_values.resize(pairs.size() * metrics);
+  paired.cand_values.resize(pairs.size() * metrics);
+  report->paired.reserve(pairs.size());
+  for (size_t i = 0; i < pairs.size(); ++i) {
+    report->paired.push_back(*pairs[i].id);
+    paired.base_row.push_back(pairs[i].base);
+    paired.cand_row.push_back(pairs[i].cand);
+    for (size_t m = 0; m < metrics; ++m) {
+      paired.base_values[i * metrics + m] = base.Value(pairs[i].base, m);
+      paired.cand_values[i * metrics + m] = cand.Value(pairs[i].cand, m);
+    }
+  }
+  return paired;
+}
+
+/// Per metric: tested as 0/1 (McNemar) when it is of that kind and every paired value is 0 or 1.
+std::vector<bool> BinaryMetrics(const PairedCases& paired) {
+  std::vector<bool> binary(paired.names.size());
+  for (size_t m = 0; m < paired.names.size(); ++m) {
+    bool all01 = IsBinaryKind(paired.names[m]);
+    for (size_t i = 0; i < paired.size() && all01; ++i) {
+      for (const double v : {paired.Base(i, m), paired.Cand(i, m)}) {
+        if (!std::isnan(v) && v != 0 && v != 1) all01 = false;
+      }
+    }
+    binary[m] = all01;
+  }
+  return binary;
+}
+
+/// One metric over one scope, registered with the bootstrap, waiting for its interval.
+struct PendingMetric {
+  size_t metric;                 // index into PairedCases::names
+  std::vector<uint32_t> subset;  // paired positions where both runs define it
+  std::vector<double> base, cand;
+  size_t stat = 0;  // SharedBootstrap id
+};
+
+/// Registers every metric over `members` (nullptr: every paired case) as bootstrap scope
+/// `scope`.
+std::vector<PendingMetric> RegisterScope(const PairedCases& paired, size_t scope,
+                                         const std::vector<uint32_t>* members,
+                                         SharedBootstrap* bootstrap) {
+  std::vector<PendingMetric> pending;
+  for (size_t m = 0; m < paired.names.size(); ++m) {
+    PendingMetric p;
+    p.metric = m;
+    auto consider = [&](uint32_t i) {
+      const double b = paired.Base(i, m), c = paired.Cand(i, m);
+      if (std::isnan(b) || std::isnan(c)) return;
+      p.subset.push_back(i);
+      p.base.push_back(b);
+      p.cand.push_back(c);
+    };
+    if (members == nullptr) {
+      for (uint32_t i = 0; i < paired.size(); ++i) consider(i);
+    } else {
+      for (uint32_t i : *members) consider(i);
+    }
+    if (p.subset.empty()) continue;
+    std::vector<double> differences(p.subset.size());
+    for (size_t k = 0; k < differences.size(); ++k) differences[k] = p.cand[k] - p.base[k];
+    p.stat = bootstrap->AddMean(scope, p.subset, differences);
+    pending.push_back(std::move(p));
+  }
+  return pending;
+}
+
+/// The p50/p95 latency of the paired cases with a positive latency in both runs; registers
+/// their ratios with the bootstrap.
+void RegisterLatency(const PairedCases& paired, const RunCases& base, const RunCases& cand,
+                     DriftReport* report, SharedBootstrap* bootstrap) {
+  std::vector<uint32_t> subset;
+  std::vector<double> lb, lc;
+  for (uint32_t i = 0; i < paired.size(); ++i) {
+    const double b = base.Latency(paired.base_row[i]), c = cand.Latency(paired.cand_row[i]);
+    if (!(std::isfinite(b) && b > 0 && std::isfinite(c) && c > 0)) continue;
+    subset.push_back(i);
+    lb.push_back(b);
+    lc.push_back(c);
+  }
+  report->latency_n = static_cast<int64_t>(subset.size());
+  if (subset.empty()) return;
+  std::vector<double> sb = lb, sc = lc;
+  std::sort(sb.begin(), sb.end());
+  std::sort(sc.begin(), sc.end());
+  for (int which = 0; which < 2; ++which) {
+    LatencyDrift& l = which == 0 ? report->latency_p50 : report->latency_p95;
+    const double p = which == 0 ? 50.0 : 95.0;
+    l.available = true;
+    l.base = metrics::PercentileSorted(sb, p);
+    l.cand = metrics::PercentileSorted(sc, p);
+    l.ratio = l.cand / l.base;
+  }
+  bootstrap->SetLatency(subset, lb, lc);
+}
+
+/// A metric's drift once the bootstrap has run: means, delta, interval, test, verdict.
+MetricDrift FinishMetric(const PendingMetric& p, const PairedCases& paired,
+                         const std::vector<bool>& binary, const SharedBootstrap& bootstrap,
+                         const DriftOptions& options, std::vector<double>* differences) {
+  MetricDrift d;
+  d.metric = paired.names[p.metric];
+  d.n = static_cast<int64_t>(p.subset.size());
+  d.base_mean = MeanOf(p.base);
+  d.cand_mean = MeanOf(p.cand);
+  differences->resize(p.subset.size());
+  for (size_t k = 0; k < p.subset.size(); ++k) (*differences)[k] = p.cand[k] - p.base[k];
+  d.delta = MeanOf(*differences);
+  d.interval = bootstrap.MeanInterval(p.stat);
+  d.mcnemar = binary[p.metric];
+  if (d.mcnemar) {
+    for (double x : *differences) {
+      d.lost += x < 0 ? 1 : 0;
+      d.gained += x > 0 ? 1 : 0;
+    }
+    d.p_value = metrics::McNemarExactP(d.lost, d.gained);
+  } else {
+    d.p_value = metrics::WilcoxonSignedRankP(*differences);
+  }
+  d.p_holm = d.p_value;
+  d.verdict = DecideVerdict(d.delta, d.interval, options.min_effect);
+  d.gated = std::find(options.gate.begin(), options.gate.end(), d.metric) != options.gate.end();
+  return d;
+}
+
+/// Holm over the tags, metric by metric; a tag's verdict must survive the adjustment.
+void AdjustTags(const std::vector<std::string>& names, std::vector<TagDrift>* tags) {
+  for (const std::string& metric : names) {
+    std::vector<MetricDrift*> family;
+    for (TagDrift& t : *tags) {
+      for (MetricDrift& d : t.metrics) {
+        if (d.metric == metric) family.push_back(&d);
+      }
+    }
+    std::vector<double> p;
+    for (const MetricDrift* d : family) p.push_back(d->p_value);
+    const std::vector<double> adjusted = metrics::HolmAdjust(p);
+    for (size_t k = 0; k < family.size(); ++k) {
+      family[k]->p_holm = adjusted[k];
+      if (!(adjusted[k] <= kDriftAlpha)) family[k]->verdict = Verdict::kSteady;
+    }
+  }
+}
+
+/// Lost (pass -> fail) and gained cases, largest change of the gated metrics first.
+void ListChangedCases(const PairedCases& paired, const RunCases& base, const RunCases& cand,
+                      const std::vector<std::string>& gate, DriftReport* report) {
+  for (size_t i = 0; i < paired.size(); ++i) {
+    const bool was = base.Passed(paired.base_row[i]), is = cand.Passed(paired.cand_row[i]);
+    if (was == is) continue;
+    CaseChange change;
+    change.id = report->paired[i];
+    for (size_t m = 0; m < paired.names.size(); ++m) {
+      const double b = paired.Base(i, m), c = paired.Cand(i, m);
+      if (!std::isnan(b) && !std::isnan(c)) change.deltas[paired.names[m]] = c - b;
+    }
+    for (int run = 0; run < 2; ++run) {
+      const CaseRecord* first =
+          run == 0 ? base.first[paired.base_row[i]] : cand.first[paired.cand_row[i]];
+      if (first == nullptr) continue;
+      (run == 0 ? change.base_answer : change.cand_answer) = first->parsed.answer;
+      (run == 0 ? change.base_error : change.cand_error) = first->error;
+    }
+    (was ? report->lost : report->gained).push_back(std::move(change));
+  }
+  auto gated_sum = [&](const CaseChange& c) {
+    double total = 0;
+    for (const std::string& metric : gate) {
+      auto it = c.deltas.find(metric);
+      if (it != c.deltas.end()) total += it->second;
+    }
+    return total;
+  };
+  std::sort(report->lost.begin(), report->lost.end(),
+            [&](const CaseChange& a, const CaseChange& b) {
+              const double sa = gated_sum(a), sb = gated_sum(b);
+              return sa != sb ? sa < sb : a.id < b.id;
+            });
+  std::sort(report->gained.begin(), report->gained.end(),
+            [&](const CaseChange& a, const CaseChange& b) {
+              const double sa = gated_sum(a), sb = gated_sum(b);
+              return sa != sb ? sa > sb : a.id < b.id;
+            });
+}
+
+std::string FloorText(const nlohmann::json& t) {
+  const std::string tag = StringAt(t, "tag");
+  const std::string metric = StringAt(t, "metric");
+  const std::string scope = tag.empty() ? metric : "tag " + tag + " " + metric;
+  const bool ceiling = StringAt(t, "kind") == "ceiling";
+  const nlohmann::json& value = ObjectAt(t, "value");
+  const nlohmann::json& limit = ObjectAt(t, "limit");
+  const double limit_value = limit.is_number() ? limit.get<double>() : kNaN;
+  if (!value.is_number()) return fmt::format("{} was not measured by any case", scope);
+  return fmt::format("{} {:.4g} {} {:.4g}", scope, value.get<double>(), ceiling ? ">" : "<",
+                     limit_value);
+}
+
+DriftGate DecideGate(const DriftReport& report, const LoadedRun& cand) {
+  DriftGate gate;
+  gate.metrics = report.options.gate;
+  std::vector<std::string> states;
+  for (const std::string& metric : gate.metrics) {
+    const MetricDrift* m = report.Find(metric);
+    if (m == nullptr) {
+      states.push_back(metric + " not measured");
+      continue;
+    }
+    states.push_back(metric + " " + VerdictName(m->verdict));
+    if (m->verdict == Verdict::kRegressed) gate.regressed.push_back(metric);
+  }
+  const nlohmann::json& thresholds = ObjectAt(cand.record, "thresholds");
+  int floors = 0;
+  if (thresholds.is_array()) {
+    for (const nlohmann::json& t : thresholds) {
+      ++floors;
+      const nlohmann::json& held = ObjectAt(t, "held");
+      if (held.is_boolean() && !held.get<bool>()) gate.broken_floors.push_back(FloorText(t));
+    }
+  }
+  std::vector<std::string> parts;
+  if (!gate.regressed.empty()) {
+    const MetricDrift& m = *report.Find(gate.regressed.front());
+    std::string names;
+    for (const std::string& r : gate.regressed) names += (names.empty() ? "" : ", ") + r;
+    parts.push_back(fmt::format(
+        "{} regressed ({} {:.4f} -> {:.4f}, delta {:+.4f}, 95% [{:+.4f}, "
+        "{:+.4f}])",
+        names, m.metric, m.base_mean, m.cand_mean, m.delta, m.interval.low, m.interval.high));
+  }
+  if (!gate.broken_floors.empty()) {
+    parts.push_back(
+        fmt::format("candidate floor{} broken: {}{}", gate.broken_floors.size() == 1 ? "" : "s",
+                    gate.broken_floors.front(), gate.broken_floors.size() > 1 ? ", ..." : ""));
+  }
+  if (!parts.empty()) {
+    gate.exit_code = kExitFloorBroken;
+    gate.reason = parts.front();
+    for (size_t i = 1; i < parts.size(); ++i) gate.reason += "; " + parts[i];
+    return gate;
+  }
+  gate.exit_code = kExitOk;
+  std::string list;
+  for (const std::string& s : states) list += (list.empty() ? "" : ", ") + s;
+  gate.reason = "no gated metric regressed (" + (list.empty() ? std::string("none gated") : list) +
+                "); " +
+                (floors == 0 ? std::string("the candidate sets no floors")
+                             : fmt::format("all {} candidate floors held", floors));
+  return gate;
+}
+
+}  // namespace
+
+const char* VerdictName(Verdict verdict) {
+  switch (verdict) {
+    case Verdict::kRegressed:
+      return "regressed";
+    case Verdict::kImproved:
+      return "improved";
+    default:
+      return "steady";
+  }
+}
+
+Verdict DecideVerdict(double delta, const metrics::Interval& interval, double min_effect) {
+  if (interval.high < 0 && delta <= -min_effect) return Verdict::kRegressed;
+  if (interval.low > 0 && delta >= min_effect) return Verdict::kImproved;
+  return Verdict::kSteady;
+}
+
+const MetricDrift* DriftReport::Find(const std::string& metric) const {
+  for (const MetricDrift& m : metrics) {
+    if (m.metric == metric) return &m;
+  }
+  return nullptr;
+}
+
+bool IsKnownCaseMetric(const std::string& metric) {
+  static const std::set<std::string> kKnown = {
+      "correct",      "exact_match",        "token_f1",        "pattern_match",
+      "number_match", "citation_precision", "citation_recall", "citation_f1",
+      "mrr",          "pass_rate"};
+  if (kKnown.count(metric)) return true;
+  const std::string prefix = "recall@";
+  if (metric.size() <= prefix.size() || metric.compare(0, prefix.size(), prefix) != 0) {
+    return false;
+  }
+  return metric.find_first_not_of("0123456789", prefix.size()) == std::string::npos;
+}
+
+std::vector<std::string> MetricDisplayOrder(std::vector<std::string> metrics) {
+  static const std::vector<std::string> kFirst = {
+      "correct",      "exact_match",        "token_f1",        "pattern_match",
+      "number_match", "citation_precision", "citation_recall", "citation_f1"};
+  auto rank = [](const std::string& m) -> std::pair<int, long> {
+    for (size_t i = 0; i < kFirst.size(); ++i) {
+      if (kFirst[i] == m) return {0, static_cast<long>(i)};
+    }
+    if (m.rfind("recall@", 0) == 0 && IsKnownCaseMetric(m)) {
+      return {1, std::strtol(m.c_str() + 7, nullptr, 10)};
+    }
+    if (m == "mrr") return {2, 0};
+    if (m == "pass_rate") return {3, 0};
+    return {4, 0};
+  };
+  std::sort(metrics.begin(), metrics.end(), [&](const std::string& a, const std::string& b) {
+    const auto ra = rank(a), rb = rank(b);
+    return ra != rb ? ra < rb : a < b;
+  });
+  metrics.erase(std::unique(metrics.begin(), metrics.end()), metrics.end());
+  return metrics;
+}
+
+bool ComputeDrift(const LoadedRun& base, const LoadedRun& cand, const DriftOptions& options,
+                  DriftReport* report, std::string* error) {
+  *report = DriftReport();
+  report->options = options;
+  report->base = IdentityOf(base);
+  report->cand = IdentityOf(cand);
+  if (report->base.suite_name != report->cand.suite_name) {
+    *error = fmt::format(
+        "{} is a run of suite '{}' and {} a run of suite '{}'; drift compares two runs of the "
+        "same suite",
+        base.dir, report->base.suite_name, cand.dir, report->cand.suite_name);
+    return false;
+  }
+  report->suite_changed = report->base.suite_hash != report->cand.suite_hash;
+  report->corpus_changed = report->base.corpus_fingerprint != report->cand.corpus_fingerprint;
+  report->pipeline_config_changed = ObjectAt(ObjectAt(base.record, "pipeline"), "config") !=
+                                    ObjectAt(ObjectAt(cand.record, "pipeline"), "config");
+  for (auto [run, repeat] :
+       {std::pair{&base, &report->base_repeat}, {&cand, &report->cand_repeat}}) {
+    const nlohmann::json& r = ObjectAt(run->record, "repeat");
+    *repeat = r.is_number_integer() ? r.get<int>() : 1;
+  }
+
+  const std::vector<std::string> names = MetricIds(base, cand);
+  MetricIndex index;
+  for (size_t m = 0; m < names.size(); ++m) index[names[m]] = m;
+  const RunCases base_cases = SummarizeCases(base, index);
+  const RunCases cand_cases = SummarizeCases(cand, index);
+  const PairedCases paired = PairCases(base_cases, cand_cases, names, report);
+  const std::vector<bool> binary = BinaryMetrics(paired);
+
+  // Scopes: the whole run, then each tag (from the gold, which is equal in both runs).
+  std::map<std::string, std::vector<uint32_t>> tag_members;
+  for (uint32_t i = 0; i < paired.size(); ++i) {
+    for (const std::string& tag : TagsOf(*base_cases.gold[paired.base_row[i]])) {
+      tag_members[tag].push_back(i);
+    }
+  }
+  SharedBootstrap bootstrap(paired.size(), options.resamples, options.seed);
+  const std::vector<PendingMetric> run_level =
+      RegisterScope(paired, bootstrap.AddScope(true, {}), nullptr, &bootstrap);
+  std::vector<std::vector<PendingMetric>> per_tag;
+  for (const auto& [tag, members] : tag_members) {
+    per_tag.push_back(
+        RegisterScope(paired, bootstrap.AddScope(false, members), &members, &bootstrap));
+  }
+  RegisterLatency(paired, base_cases, cand_cases, report, &bootstrap);
+  bootstrap.Run();
+  report->latency_p50.interval = bootstrap.LatencyInterval(0);
+  report->latency_p95.interval = bootstrap.LatencyInterval(1);
+
+  std::vector<double> differences;
+  for (const PendingMetric& p : run_level) {
+    MetricDrift d = FinishMetric(p, paired, binary, bootstrap, options, &differences);
+    // With no paired case changed there is no spread to estimate from: a continuous metric
+    // gets no figure (0 would claim any change is detectable); a 0/1 metric keeps McNemar's
+    // floor of six one-directional flips.
+    const bool unchanged =
+        std::all_of(differences.begin(), differences.end(), [](double x) { return x == 0; });
+    report->min_detectable_effect[d.metric] =
+        unchanged && !d.mcnemar
+            ? kNaN
+            : metrics::MinimumDetectableEffect(differences, d.mcnemar, kDriftAlpha, kDriftPower);
+    report->metrics.push_back(std::move(d));
+  }
+  size_t t = 0;
+  for (const auto& [tag, members] : tag_members) {
+    TagDrift td;
+    td.tag = tag;
+    td.cases = static_cast<int64_t>(members.size());
+    for (const PendingMetric& p : per_tag[t]) {
+      td.metrics.push_back(FinishMetric(p, paired, binary, bootstrap, options, &differences));
+      td.metrics.back().gated = false;  // the gate reads run-level verdicts only
+    }
+    report->tags.push_back(std::move(td));
+    ++t;
+  }
+  AdjustTags(names, &report->tags);
+  ListChangedCases(paired, base_cases, cand_cases, options.gate, report);
+
+  std::set<std::string> unstable;
+  for (const RunCases* cases : {&base_cases, &cand_cases}) {
+    for (const auto& [id, row] : cases->row_of) {
+      if (cases->Unstable(row)) unstable.insert(id);
+    }
+  }
+  report->unstable.assign(unstable.begin(), unstable.end());
+  report->gate = DecideGate(*report, cand);
+  return true;
+}
+
+}  // namespace plumb

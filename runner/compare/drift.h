@@ -1,0 +1,176 @@
+#ifndef PLUMB_RUNNER_COMPARE_DRIFT_H_
+#define PLUMB_RUNNER_COMPARE_DRIFT_H_
+
+/// DriftReport is the comparison of a candidate run with a base run of the same suite (SPEC §7):
+/// cases paired by id, per-metric and per-tag deltas with paired-bootstrap intervals and p-values,
+/// verdicts, lost and gained cases, latency ratios, and the merge gate's exit code. `plumb drift`
+/// and `plumb run --baseline` build one with ComputeDrift and hand it to the JSON, terminal,
+/// Markdown and HTML writers. Pure computation over two LoadedRuns: no I/O.
+///
+/// The statistics, stated once here so every writer can point to them:
+/// - Pairing: a case is paired when both runs' run.json list it with the same gold hash; cases
+///   in one run only, and cases whose gold changed, are listed apart and left out of every
+///   statistic. Paired cases are ordered by id (bytewise), and that order is the bootstrap's
+///   case index. With --repeat, a case's value of a metric is its mean over the repeats that
+///   define it, its latency the mean over repeats that did not error, and it passes when every
+///   repeat passed.
+/// - A metric is paired on a case when both runs define it there. It is tested as a 0/1 metric
+///   (exact McNemar on the discordant pairs) when it is one of exact_match, correct,
+///   pattern_match, number_match, pass_rate and every paired value is exactly 0 or 1; otherwise
+///   with the Wilcoxon signed-rank test on the differences (cand - base). See
+///   metrics/paired_tests.h for both.
+/// - One paired bootstrap serves every interval: resample after resample, n paired-case indices
+///   are drawn with metrics::SeededRandom(seed).UniformIndex(n), the stream
+///   metrics::PairedBootstrapMeanDelta uses. A statistic over a subset of the cases (a tag, or a
+///   metric defined on some cases only) is its mean over the drawn cases of that subset
+///   (each counted as often as drawn); a resample that draws none of them is left out. Interval
+///   ends are the definition-7 percentiles at 2.5 and 97.5 of the kept resamples. For a metric
+///   defined on every paired case this is exactly PairedBootstrapMeanDelta(base, cand, B, seed);
+///   for latency over every paired case, exactly PairedBootstrapQuantileRatio. Sharing the draws
+///   keeps the cost at n * B index draws for the whole report, whatever the number of metrics
+///   and tags.
+/// - Verdict: regressed when the interval's upper end is below 0 and delta <= -min_effect;
+///   improved symmetrically; otherwise steady. A tag's verdict also needs its Holm-adjusted
+///   p-value (over the tags, per metric) at or below 0.05, so that with many tags noise in one of
+///   them is not called a change.
+/// - Minimum detectable effect: metrics::MinimumDetectableEffect over the run-level differences
+///   (normal approximation of a paired test at alpha 0.05, power 0.8, from the observed spread
+///   of the differences; 0/1 metrics floored at the six one-directional flips exact McNemar
+///   needs). A continuous metric on which no paired case changed has no spread to estimate from:
+///   NaN (null in JSON, "n/a" in tables).
+
+#include <cstdint>
+#include <map>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "metrics/interval.h"
+#include "runner/run/run_reader.h"
+
+namespace plumb {
+
+struct DriftOptions {
+  std::vector<std::string> gate = {"correct", "token_f1", "citation_recall"};
+  double min_effect = 0.005;
+  int resamples = 10000;
+  uint64_t seed = 20261201;
+};
+
+/// The level, power and confidence every drift uses (SPEC §7: 95% intervals; the issue: alpha
+/// 0.05 and power 0.8 for the detectable effect).
+inline constexpr double kDriftConfidence = 0.95;
+inline constexpr double kDriftAlpha = 0.05;
+inline constexpr double kDriftPower = 0.8;
+
+enum class Verdict { kSteady, kRegressed, kImproved };
+const char* VerdictName(Verdict verdict);  // "steady", "regressed", "improved"
+
+/// SPEC §7's verdict rule for one delta and its interval (NaN anywhere -> steady).
+Verdict DecideVerdict(double delta, const metrics::Interval& interval, double min_effect);
+
+struct MetricDrift {
+  std::string metric;
+  int64_t n = 0;  // paired cases where both runs define the metric
+  double base_mean = 0;
+  double cand_mean = 0;
+  double delta = 0;  // cand_mean - base_mean, the mean of the paired differences
+  metrics::Interval interval;
+  bool mcnemar = false;  // false: Wilcoxon signed-rank
+  int64_t lost = 0;      // McNemar's discordant pairs: base 1, cand 0
+  int64_t gained = 0;    // base 0, cand 1
+  double p_value = 1;
+  double p_holm = 1;  // tags only: Holm-adjusted over the tags that have this metric
+  Verdict verdict = Verdict::kSteady;
+  bool gated = false;
+};
+
+struct TagDrift {
+  std::string tag;
+  int64_t cases = 0;  // paired cases with the tag
+  std::vector<MetricDrift> metrics;
+};
+
+/// A latency percentile of the paired cases and the candidate's ratio to the base. `available`
+/// is false when no paired case has a positive latency in both runs (e.g. scored predictions
+/// without latency_ms); the numbers are then meaningless.
+struct LatencyDrift {
+  bool available = false;
+  double base = 0;
+  double cand = 0;
+  double ratio = 0;
+  metrics::Interval interval;
+};
+
+/// One paired case whose pass/fail outcome changed.
+struct CaseChange {
+  std::string id;
+  std::map<std::string, double> deltas;    // cand - base, metrics both runs define on the case
+  std::optional<std::string> base_answer;  // first repeat's answer; none on abstention or error
+  std::optional<std::string> cand_answer;
+  std::string base_error;  // first repeat's error, empty when it did not error
+  std::string cand_error;
+};
+
+/// What identifies a run in the report.
+struct RunIdentity {
+  std::string dir;
+  std::string pipeline;
+  std::map<std::string, std::string> labels;
+  std::string suite_name;
+  std::string suite_hash;
+  std::string corpus_fingerprint;
+  std::string started_at;
+};
+
+struct DriftGate {
+  std::vector<std::string> metrics;  // the gated metric ids
+  std::vector<std::string> regressed;
+  std::vector<std::string> broken_floors;  // the candidate's thresholds that did not hold
+  int exit_code = 0;                       // kExitOk or kExitFloorBroken
+  std::string reason;                      // one line
+};
+
+struct DriftReport {
+  DriftOptions options;
+  RunIdentity base;
+  RunIdentity cand;
+  bool suite_changed = false;
+  bool corpus_changed = false;
+  bool pipeline_config_changed = false;
+  std::vector<std::string> paired;  // by id
+  std::vector<std::string> only_in_base;
+  std::vector<std::string> only_in_cand;
+  std::vector<std::string> gold_changed;
+  std::vector<MetricDrift> metrics;  // in display order
+  std::vector<TagDrift> tags;        // sorted by tag
+  int64_t latency_n = 0;             // paired cases with a latency in both runs
+  LatencyDrift latency_p50;
+  LatencyDrift latency_p95;
+  std::map<std::string, double> min_detectable_effect;  // +inf below 2 pairs; NaN see above
+  std::vector<CaseChange> lost;       // pass -> fail, largest drop of the gated metrics first
+  std::vector<CaseChange> gained;     // fail -> pass, largest gain first
+  std::vector<std::string> unstable;  // pass/fail differs between repeats, in either run
+  int base_repeat = 1;
+  int cand_repeat = 1;
+  DriftGate gate;
+
+  const MetricDrift* Find(const std::string& metric) const;
+};
+
+/// Compares `cand` with `base`. False with a sentence when the runs are of different suites
+/// (their suite names differ): such runs have no cases in common worth pairing.
+bool ComputeDrift(const LoadedRun& base, const LoadedRun& cand, const DriftOptions& options,
+                  DriftReport* report, std::string* error);
+
+/// Metric ids in the order every report shows them: the answer metrics, citation metrics,
+/// recall@k by k, mrr, pass_rate, then any other id alphabetically.
+std::vector<std::string> MetricDisplayOrder(std::vector<std::string> metrics);
+
+/// True for the metric ids SPEC §6 defines per case (recall@K for any K), so a misspelt --gate
+/// can be refused.
+bool IsKnownCaseMetric(const std::string& metric);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_COMPARE_DRIFT_H_

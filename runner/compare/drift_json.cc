@@ -1,0 +1,127 @@
+#include "runner/compare/drift_json.h"
+
+#include <cmath>
+
+namespace plumb {
+namespace {
+
+nlohmann::json Number(double x) { return std::isfinite(x) ? nlohmann::json(x) : nlohmann::json(); }
+
+nlohmann::json IntervalJson(const metrics::Interval& interval) {
+  return nlohmann::json::array({Number(interval.low), Number(interval.high)});
+}
+
+nlohmann::json RunJson(const RunIdentity& run) {
+  return {{"dir", run.dir},
+          {"pipeline", run.pipeline},
+          {"labels", run.labels},
+          {"suite_hash", run.suite_hash},
+          {"corpus_fingerprint", run.corpus_fingerprint},
+          {"started_at", run.started_at}};
+}
+
+nlohmann::json MetricJson(const MetricDrift& m, bool tag) {
+  nlohmann::json out = {{"metric", m.metric},
+                        {"base_mean", Number(m.base_mean)},
+                        {"cand_mean", Number(m.cand_mean)},
+                        {"delta", Number(m.delta)},
+                        {"interval", IntervalJson(m.interval)},
+                        {"p_value", Number(m.p_value)},
+                        {"test", m.mcnemar ? "mcnemar" : "wilcoxon"},
+                        {"verdict", VerdictName(m.verdict)},
+                        {"n", m.n},
+                        {"gated", m.gated}};
+  if (m.mcnemar) out["discordant"] = {{"lost", m.lost}, {"gained", m.gained}};
+  if (tag) out["p_holm"] = Number(m.p_holm);
+  return out;
+}
+
+nlohmann::json LatencyJson(const LatencyDrift& l) {
+  if (!l.available) {
+    return {{"base", nullptr}, {"cand", nullptr}, {"ratio", nullptr}, {"interval", nullptr}};
+  }
+  return {{"base", Number(l.base)},
+          {"cand", Number(l.cand)},
+          {"ratio", Number(l.ratio)},
+          {"interval", IntervalJson(l.interval)}};
+}
+
+nlohmann::json OptionalText(const std::optional<std::string>& text) {
+  return text ? nlohmann::json(*text) : nlohmann::json();
+}
+
+nlohmann::json ChangesJson(const std::vector<CaseChange>& changes) {
+  nlohmann::json out = nlohmann::json::array();
+  for (const CaseChange& c : changes) {
+    nlohmann::json deltas = nlohmann::json::object();
+    for (const auto& [metric, delta] : c.deltas) deltas[metric] = Number(delta);
+    out.push_back(
+        {{"id", c.id},
+         {"deltas", deltas},
+         {"base_answer", OptionalText(c.base_answer)},
+         {"cand_answer", OptionalText(c.cand_answer)},
+         {"base_error", c.base_error.empty() ? nlohmann::json() : nlohmann::json(c.base_error)},
+         {"cand_error", c.cand_error.empty() ? nlohmann::json() : nlohmann::json(c.cand_error)}});
+  }
+  return out;
+}
+
+}  // namespace
+
+nlohmann::json DriftReportToJson(const DriftReport& r) {
+  nlohmann::json metrics = nlohmann::json::array();
+  for (const MetricDrift& m : r.metrics) metrics.push_back(MetricJson(m, false));
+  nlohmann::json tags = nlohmann::json::array();
+  for (const TagDrift& t : r.tags) {
+    nlohmann::json list = nlohmann::json::array();
+    for (const MetricDrift& m : t.metrics) list.push_back(MetricJson(m, true));
+    tags.push_back({{"tag", t.tag}, {"cases", t.cases}, {"metrics", list}});
+  }
+  nlohmann::json mde = nlohmann::json::object();
+  for (const auto& [metric, value] : r.min_detectable_effect) mde[metric] = Number(value);
+  const DriftOptions& o = r.options;
+  return {
+      {"plumb_drift", 1},
+      {"suite", r.base.suite_name},
+      {"base", RunJson(r.base)},
+      {"cand", RunJson(r.cand)},
+      {"changed",
+       {{"suite", r.suite_changed},
+        {"corpus", r.corpus_changed},
+        {"pipeline_config", r.pipeline_config_changed}}},
+      {"paired_cases", r.paired},
+      {"only_in_base", r.only_in_base},
+      {"only_in_cand", r.only_in_cand},
+      {"gold_changed", r.gold_changed},
+      {"metrics", metrics},
+      {"tags", tags},
+      {"latency",
+       {{"n", r.latency_n},
+        {"p50", LatencyJson(r.latency_p50)},
+        {"p95", LatencyJson(r.latency_p95)}}},
+      {"min_detectable_effect", mde},
+      {"lost", ChangesJson(r.lost)},
+      {"gained", ChangesJson(r.gained)},
+      {"unstable", r.unstable},
+      {"repeat", {{"base", r.base_repeat}, {"cand", r.cand_repeat}}},
+      {"gate",
+       {{"metrics", r.gate.metrics},
+        {"regressed", r.gate.regressed},
+        {"broken_floors", r.gate.broken_floors},
+        {"exit_code", r.gate.exit_code},
+        {"reason", r.gate.reason}}},
+      {"settings",
+       {{"min_effect", o.min_effect},
+        {"resamples", o.resamples},
+        {"seed", o.seed},
+        {"confidence", kDriftConfidence},
+        {"alpha", kDriftAlpha},
+        {"power", kDriftPower},
+        {"min_detectable_effect_method",
+         "(z(1-alpha/2) + z(power)) * sd(differences) / sqrt(n), normal approximation of a paired "
+         "test; 0/1 metrics at least 6/n, the fewest one-directional flips exact McNemar can "
+         "call significant at alpha 0.05"}}},
+  };
+}
+
+}  // namespace plumb

@@ -1,0 +1,183 @@
+#include "runner/compare/drift_table.h"
+
+#include <fmt/format.h>
+
+#include <cmath>
+
+#include "metrics/utf8.h"
+#include "runner/base/terminal_palette.h"
+
+namespace plumb {
+namespace {
+
+constexpr size_t kShownCases = 10;
+constexpr int kShownTagRows = 20;
+
+/// `text` with C0/C1 controls and DEL as '?', cut to `max` code points.
+std::string Plain(const std::string& text, size_t max = 60) {
+  std::string out;
+  size_t pos = 0, count = 0;
+  while (pos < text.size()) {
+    if (count++ == max) {
+      out += "...";
+      break;
+    }
+    const char32_t cp = metrics::NextCodePoint(text, &pos);
+    if (cp < 0x20 || (cp >= 0x7F && cp < 0xA0)) {
+      out += '?';
+    } else {
+      metrics::AppendUtf8(cp, &out);
+    }
+  }
+  return out;
+}
+
+std::string Num(double x, const char* spec) {
+  if (!std::isfinite(x)) return "n/a";
+  return fmt::format(fmt::runtime(spec), x);
+}
+
+std::string IntervalText(const metrics::Interval& i, const char* spec) {
+  if (!std::isfinite(i.low) || !std::isfinite(i.high)) return "n/a";
+  return "[" + Num(i.low, spec) + ", " + Num(i.high, spec) + "]";
+}
+
+std::string PValue(double p) {
+  if (!std::isfinite(p)) return "n/a";
+  return p < 1e-4 ? fmt::format("{:.1e}", p) : fmt::format("{:.4f}", p);
+}
+
+std::string RunLine(const char* role, const RunIdentity& id) {
+  std::string line = fmt::format("  {:<5} {} ({})", role, Plain(id.pipeline), Plain(id.dir, 80));
+  std::string labels;
+  for (const auto& [key, value] : id.labels) {
+    labels += (labels.empty() ? "" : ", ") + Plain(key + "=" + value);
+  }
+  if (!labels.empty()) line += "  labels: " + labels;
+  if (!id.started_at.empty()) line += "  started " + Plain(id.started_at);
+  return line + "\n";
+}
+
+std::string VerdictCell(Verdict v, const Palette& p) {
+  switch (v) {
+    case Verdict::kRegressed:
+      return std::string(p.bad) + "REGRESSED" + p.reset;
+    case Verdict::kImproved:
+      return std::string(p.good) + "improved" + p.reset;
+    default:
+      return "steady";
+  }
+}
+
+std::string DeltasText(const CaseChange& c, const std::vector<std::string>& gate) {
+  std::string out;
+  for (const std::string& metric : gate) {
+    auto it = c.deltas.find(metric);
+    if (it == c.deltas.end()) continue;
+    out += fmt::format("{}{} {:+.3f}", out.empty() ? "" : ", ", metric, it->second);
+  }
+  return out;
+}
+
+}  // namespace
+
+std::string FormatDriftTable(const DriftReport& r, bool colour) {
+  const Palette p = MakePalette(colour);
+  std::string out;
+  out += fmt::format("{}drift {}{}: {} paired cases", p.bold, Plain(r.base.suite_name), p.reset,
+                     r.paired.size());
+  if (r.base_repeat > 1 || r.cand_repeat > 1) {
+    out += fmt::format(" (repeats: base {}, cand {}; per-case values are means)", r.base_repeat,
+                       r.cand_repeat);
+  }
+  out += "\n" + RunLine("base", r.base) + RunLine("cand", r.cand);
+  if (!r.only_in_base.empty() || !r.only_in_cand.empty() || !r.gold_changed.empty()) {
+    out += fmt::format("  left out: {} only in base, {} only in cand, {} with changed gold\n",
+                       r.only_in_base.size(), r.only_in_cand.size(), r.gold_changed.size());
+  }
+  std::string changed;
+  if (r.suite_changed) changed += "suite, ";
+  if (r.corpus_changed) changed += "corpus, ";
+  if (r.pipeline_config_changed) changed += "pipeline config, ";
+  if (!changed.empty()) {
+    changed.resize(changed.size() - 2);
+    out += "  changed between the runs: " + changed + "\n";
+  }
+
+  out += fmt::format("\n  {}{:<22} {:>7} {:>7} {:>9}   {:<21} {:>8}   {}{}\n", p.dim, "metric",
+                     "base", "cand", "delta", "95% interval", "p", "verdict", p.reset);
+  for (const MetricDrift& m : r.metrics) {
+    const std::string name = m.metric + (m.gated ? " *" : "");
+    out += fmt::format("  {:<22} {:>7} {:>7} {:>9}   {:<21} {:>8}   {}\n", Plain(name, 22),
+                       Num(m.base_mean, "{:.3f}"), Num(m.cand_mean, "{:.3f}"),
+                       Num(m.delta, "{:+.4f}"), IntervalText(m.interval, "{:+.4f}"),
+                       PValue(m.p_value), VerdictCell(m.verdict, p));
+  }
+  out += fmt::format(
+      "  {}* gated. A verdict needs the interval to exclude 0 and |delta| >= {}; "
+      "p: exact McNemar (0/1 metrics) or Wilcoxon signed-rank{}\n",
+      p.dim, r.options.min_effect, p.reset);
+
+  if (r.latency_p50.available) {
+    out += fmt::format("\n  {:<22} p50 {} -> {} ms  x{} {}   p95 {} -> {} ms  x{} {}  (n {})\n",
+                       "latency", Num(r.latency_p50.base, "{:.4g}"),
+                       Num(r.latency_p50.cand, "{:.4g}"), Num(r.latency_p50.ratio, "{:.3f}"),
+                       IntervalText(r.latency_p50.interval, "{:.3f}"),
+                       Num(r.latency_p95.base, "{:.4g}"), Num(r.latency_p95.cand, "{:.4g}"),
+                       Num(r.latency_p95.ratio, "{:.3f}"),
+                       IntervalText(r.latency_p95.interval, "{:.3f}"), r.latency_n);
+  }
+  std::string mde;
+  for (const MetricDrift& m : r.metrics) {
+    auto it = r.min_detectable_effect.find(m.metric);
+    if (!m.gated || it == r.min_detectable_effect.end()) continue;
+    mde += fmt::format("{}{} {}", mde.empty() ? "" : ", ", m.metric, Num(it->second, "{:.4f}"));
+  }
+  if (!mde.empty()) {
+    out += fmt::format("  smallest detectable change at {} pairs (alpha 0.05, power 0.8): {}\n",
+                       r.paired.size(), mde);
+  }
+
+  int tag_changes = 0;
+  std::string tags;
+  for (const TagDrift& t : r.tags) {
+    for (const MetricDrift& m : t.metrics) {
+      if (m.verdict == Verdict::kSteady) continue;
+      if (++tag_changes > kShownTagRows) continue;
+      tags += fmt::format("  tag {:<18} {:<18} {:>9} {:<21} p(Holm) {:<8} {}\n", Plain(t.tag, 18),
+                          m.metric, Num(m.delta, "{:+.4f}"), IntervalText(m.interval, "{:+.4f}"),
+                          PValue(m.p_holm), VerdictCell(m.verdict, p));
+    }
+  }
+  if (!r.tags.empty()) {
+    out += tag_changes == 0 ? fmt::format("  tags: all {} steady (p Holm-adjusted over the tags)\n",
+                                          r.tags.size())
+                            : "\n" + tags;
+    if (tag_changes > kShownTagRows) {
+      out += fmt::format("  ... and {} more tag results that are not steady (see --json)\n",
+                         tag_changes - kShownTagRows);
+    }
+  }
+
+  auto cases = [&](const char* title, const std::vector<CaseChange>& list) {
+    if (list.empty()) return;
+    out += fmt::format("\n  {} {} case(s){}:\n", list.size(), title,
+                       list.size() > kShownCases ? fmt::format(", first {}", kShownCases) : "");
+    for (size_t k = 0; k < std::min(kShownCases, list.size()); ++k) {
+      out += fmt::format("    {:<32} {}\n", Plain(list[k].id, 32),
+                         DeltasText(list[k], r.options.gate));
+    }
+  };
+  cases("lost (pass -> fail)", r.lost);
+  cases("gained (fail -> pass)", r.gained);
+  if (!r.unstable.empty()) {
+    out += fmt::format("\n  unstable across repeats: {} case(s), first: {}\n", r.unstable.size(),
+                       Plain(r.unstable.front()));
+  }
+  const char* tone = r.gate.exit_code == 0 ? p.good : p.bad;
+  out += fmt::format("\n{}exit {}{}: {}\n", tone, r.gate.exit_code, p.reset,
+                     Plain(r.gate.reason, 400));
+  return out;
+}
+
+}  // namespace plumb

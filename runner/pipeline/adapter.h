@@ -1,0 +1,77 @@
+#ifndef PLUMB_RUNNER_PIPELINE_ADAPTER_H_
+#define PLUMB_RUNNER_PIPELINE_ADAPTER_H_
+
+/// An Adapter sends one request to a pipeline and brings back its raw reply (SPEC §5). The
+/// scheduler owns one Adapter per pipeline and calls it from `slots()` worker threads at once;
+/// each thread passes its own slot index, so an adapter may keep per-slot state (a persistent
+/// process, a connection) without locking. Parsing the reply into a Response is not the
+/// adapter's job: it returns bytes, and `ParseResponse` (runner/pipeline/response.h) decides
+/// validity.
+
+#include <cstdint>
+#include <nlohmann/json.hpp>
+#include <string>
+
+namespace plumb {
+
+class JsonWriter;
+
+/// The request of §5: {"id", "question", "input", "repeat"}.
+struct PipelineRequest {
+  std::string id;
+  std::string question;
+  nlohmann::json input = nlohmann::json::object();
+  int repeat = 0;
+
+  nlohmann::json ToJson() const {
+    return {{"id", id}, {"question", question}, {"input", input}, {"repeat", repeat}};
+  }
+  /// The same object as one line of compact JSON, without the newline: what a subprocess
+  /// pipeline reads and what the journal records. Invalid UTF-8 becomes U+FFFD.
+  std::string ToLine() const { return RequestLine(id, question, input, repeat); }
+
+  /// `input` null (a case without input) is written as {}.
+  static std::string RequestLine(const std::string& id, const std::string& question,
+                                 const nlohmann::json& input, int repeat);
+  /// The same object, written as the next value of `out`.
+  static void WriteRequest(const std::string& id, const std::string& question,
+                           const nlohmann::json& input, int repeat, JsonWriter* out);
+};
+
+/// What one call produced. `error` empty means `body` holds a complete reply to parse;
+/// otherwise the call failed and `error` says why in a short sentence ("timed out after 30s",
+/// "process exited with status 3", "response exceeded 16 MiB"). Excerpts are bounded
+/// (a few KiB) and already redacted of the pipeline's secrets.
+struct CallResult {
+  std::string body;            // the reply (one line, or the whole stdout/HTTP body)
+  std::string error;           // empty on success
+  std::string stdout_excerpt;  // on error: the start of what the pipeline wrote
+  std::string stderr_excerpt;  // the end of what the pipeline wrote to stderr, if any
+  double latency_ms = 0;       // request start to full reply (the last attempt)
+  int attempts = 1;            // 2 when a crashed persistent worker was restarted and retried
+  int http_status = 0;         // HTTP adapter only
+};
+
+class Adapter {
+ public:
+  virtual ~Adapter() = default;
+  Adapter() = default;
+  Adapter(const Adapter&) = delete;
+  Adapter& operator=(const Adapter&) = delete;
+
+  /// How many concurrent calls the adapter supports; the scheduler runs that many workers.
+  virtual int slots() const = 0;
+  /// Sends `request` and waits for the reply. Thread-safe across distinct `slot` values in
+  /// [0, slots()); never called concurrently with the same slot. Never throws.
+  virtual CallResult Call(const PipelineRequest& request, int slot) = 0;
+  /// Calls waiting to retry right now (backoff or Retry-After), for the progress line.
+  /// Thread-safe; adapters that never retry keep the default.
+  virtual int retries_in_flight() const { return 0; }
+  /// Stops every process / connection; pending Calls return promptly with an error.
+  /// Called once, after the last Call or from a signal-watching thread on interrupt.
+  virtual void Shutdown() = 0;
+};
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_PIPELINE_ADAPTER_H_

@@ -1,0 +1,418 @@
+#include "runner/report/html_report.h"
+
+#include <algorithm>
+#include <map>
+#include <optional>
+#include <set>
+
+#include "runner/report/html_case_card.h"
+#include "runner/report/html_escape.h"
+#include "runner/report/html_interval_bar.h"
+#include "runner/report/html_page_assets.h"
+#include "runner/report/html_report_parts.h"
+#include "runner/report/source_excerpt.h"
+#include "runner/run/run_record.h"
+
+namespace plumb {
+namespace {
+
+struct CaseEntry {
+  std::string id;
+  const nlohmann::json* gold = nullptr;
+  std::vector<const CaseRecord*> records;
+  const CaseRecord* shown = nullptr;
+  CaseStatus status = CaseStatus::kFailed;
+  int64_t line = 0;
+};
+
+std::vector<CaseEntry> CollectCases(const LoadedRun& run) {
+  std::map<std::string, CaseEntry> by_id;
+  auto cases = run.record.find("cases");
+  if (cases != run.record.end() && cases->is_object()) {
+    for (const auto& [id, gold] : cases->items()) {
+      CaseEntry& e = by_id[id];
+      e.id = id;
+      e.gold = &gold;
+      e.line = gold.value("line", int64_t{0});
+    }
+  }
+  for (const CaseRecord& r : run.records) {
+    CaseEntry& e = by_id[r.id];
+    e.id = r.id;
+    e.records.push_back(&r);
+  }
+  std::vector<CaseEntry> out;
+  for (auto& [id, e] : by_id) {
+    e.shown = RepresentativeRecord(e.records);
+    e.status = StatusOf(e.records);
+    out.push_back(std::move(e));
+  }
+  std::stable_sort(out.begin(), out.end(),
+                   [](const CaseEntry& a, const CaseEntry& b) { return a.line < b.line; });
+  return out;
+}
+
+struct Verdict {
+  std::string word;
+  bool held = false;
+};
+
+Verdict RunVerdictOf(const nlohmann::json& record) {
+  const nlohmann::json verdict = record.value("verdict", nlohmann::json::object());
+  const int code = verdict.value("exit_code", 0);
+  const nlohmann::json thresholds = record.value("thresholds", nlohmann::json::array());
+  bool broken = false;
+  for (const nlohmann::json& t : thresholds) broken = broken || !t.value("held", false);
+  if (code == 0) return {thresholds.empty() ? "No floors set" : "Floors held", true};
+  if (code == 3) return {"Too many case errors", false};
+  if (code == 1) return {broken ? "Floors broken" : "Gate failed", false};
+  return {"Exit " + std::to_string(code), false};
+}
+
+void AppendMasthead(std::string* out, const LoadedRun& run, const std::vector<CaseEntry>& cases,
+                    const CaseCardWriter& cards) {
+  const nlohmann::json& record = run.record;
+  const nlohmann::json suite = record.value("suite", nlohmann::json::object());
+  const nlohmann::json pipeline = record.value("pipeline", nlohmann::json::object());
+  const Verdict verdict = RunVerdictOf(record);
+  out->append(verdict.held ? "<header class=\"mast held\">" : "<header class=\"mast broken\">");
+  out->append("<div class=\"wrap\"><div class=\"brand\">plumb <span>run report</span></div><h1>");
+  out->append("<span class=\"verdict\">");
+  AppendHtmlText(out, verdict.word);
+  out->append("</span>");
+  AppendHtmlText(out, JsonString(suite, "name"));
+  out->append(" \xC2\xB7 ");
+  AppendHtmlText(out, JsonString(pipeline, "name"));
+  out->append("</h1><p class=\"reason\">");
+  const nlohmann::json v = record.value("verdict", nlohmann::json::object());
+  AppendHtmlText(out, JsonString(v, "reason"));
+  out->append("</p><dl class=\"facts\">");
+
+  int64_t counts[3] = {0, 0, 0};
+  for (const CaseEntry& c : cases) counts[static_cast<int>(c.status)] += 1;
+  AppendFact(out, "cases",
+             std::to_string(cases.size()) + ": " +
+                 std::to_string(counts[static_cast<int>(CaseStatus::kFailed)]) + " failed, " +
+                 std::to_string(counts[static_cast<int>(CaseStatus::kErrored)]) + " errored, " +
+                 std::to_string(counts[static_cast<int>(CaseStatus::kPassed)]) + " passed");
+  AppendFact(out, "suite", JsonString(suite, "name") + " (" + JsonString(suite, "path") + ")");
+  out->append("<dt>labels</dt><dd class=\"labels\">");
+  AppendLabels(out, record.value("labels", nlohmann::json::object()));
+  out->append("</dd>");
+  AppendFact(out, "pipeline", JsonString(pipeline, "name"));
+  AppendFact(
+      out, "run",
+      JsonString(record, "started_at") + " \xE2\x86\x92 " + JsonString(record, "finished_at"));
+  AppendFact(out, "normalization",
+             JsonString(suite, "normalize") + ", lang " + JsonString(suite, "lang"));
+  std::string corpus = JsonString(record, "corpus_dir");
+  const std::string fingerprint = JsonString(record, "corpus_fingerprint");
+  if (corpus.empty()) corpus = "none";
+  if (!fingerprint.empty()) corpus += " (fingerprint " + fingerprint.substr(0, 12) + ")";
+  AppendFact(out, "corpus", corpus);
+  const int repeat = record.value("repeat", 1);
+  const nlohmann::json shard = record.value("shard", nlohmann::json::object());
+  std::string extent = "repeat " + std::to_string(repeat);
+  if (shard.value("count", 1) > 1) {
+    extent += ", shard " + std::to_string(shard.value("index", 1)) + " of " +
+              std::to_string(shard.value("count", 1));
+  }
+  if (record.value("resumed", false)) extent += ", resumed";
+  AppendFact(out, "items", extent);
+  const nlohmann::json tool = record.value("tool", nlohmann::json::object());
+  AppendFact(out, "tool", JsonString(tool, "name") + " " + JsonString(tool, "version"));
+  out->append("</dl>");
+  if (!cards.corpus_note().empty()) {
+    out->append("<p class=\"warnbox\">");
+    AppendHtmlText(out, cards.corpus_note());
+    out->append("</p>");
+  }
+  for (const std::string& warning : run.warnings) {
+    out->append("<p class=\"warnbox\">");
+    AppendHtmlText(out, warning);
+    out->append("</p>");
+  }
+  out->append("</div></header>");
+}
+
+void AppendFloors(std::string* out, const nlohmann::json& record) {
+  const nlohmann::json thresholds = record.value("thresholds", nlohmann::json::array());
+  out->append("<section id=\"floors\"><h2>Floors</h2>");
+  if (thresholds.empty()) {
+    out->append("<p class=\"note\">The suite sets no thresholds.</p></section>");
+    return;
+  }
+  out->append(
+      "<table><thead><tr><th>metric</th><th>scope</th><th>needs</th><th>got</th><th>result</th>"
+      "</tr></thead><tbody>");
+  for (const nlohmann::json& t : thresholds) {
+    const bool held = t.value("held", false);
+    const bool ceiling = JsonString(t, "kind") == "ceiling";
+    out->append("<tr><td><code>");
+    AppendHtmlText(out, JsonString(t, "metric"));
+    out->append("</code></td><td>");
+    const std::string tag = JsonString(t, "tag");
+    if (tag.empty()) {
+      out->append("all cases");
+    } else {
+      out->append("tag ");
+      AppendTagLink(out, tag);
+    }
+    out->append("</td><td class=\"num\">");
+    out->append(ceiling ? "\xE2\x89\xA4 " : "\xE2\x89\xA5 ");
+    out->append(FormatScore(t.value("limit", 0.0)));
+    out->append("</td><td class=\"num\">");
+    const nlohmann::json value = t.value("value", nlohmann::json());
+    out->append(value.is_number() ? FormatScore(value.get<double>()) : "not measured");
+    out->append(held ? "</td><td><span class=\"res held\">HELD</span></td></tr>"
+                     : "</td><td><span class=\"res broken\">BROKEN</span></td></tr>");
+  }
+  out->append("</tbody></table></section>");
+}
+
+std::optional<double> RunFloor(const nlohmann::json& record, const std::string& metric) {
+  for (const nlohmann::json& t : record.value("thresholds", nlohmann::json::array())) {
+    if (t.value("tag", nlohmann::json()).is_null() && JsonString(t, "metric") == metric &&
+        JsonString(t, "kind") != "ceiling") {
+      return t.value("limit", 0.0);
+    }
+  }
+  return std::nullopt;
+}
+
+void AppendScoresTable(std::string* out, const nlohmann::json& record) {
+  const nlohmann::json aggregates = record.value("aggregates", nlohmann::json::object());
+  const nlohmann::json metrics = aggregates.value("metrics", nlohmann::json::object());
+  out->append(
+      "<section id=\"scores\"><h2>Scores</h2><table><thead><tr><th>metric</th><th>mean</th>"
+      "<th>95% interval</th><th></th><th>n</th><th>interval</th></tr></thead><tbody>");
+  for (const std::string& metric : MetricOrder(metrics)) {
+    const nlohmann::json& m = metrics[metric];
+    const double mean = m.value("mean", 0.0);
+    const nlohmann::json interval = m.value("interval", nlohmann::json::array({0.0, 0.0}));
+    const double low = interval.size() == 2 ? interval[0].get<double>() : mean;
+    const double high = interval.size() == 2 ? interval[1].get<double>() : mean;
+    out->append("<tr><td><code>");
+    AppendHtmlText(out, metric);
+    out->append("</code></td><td class=\"num\"><strong>" + FormatScore(mean) +
+                "</strong></td><td class=\"num\">" + FormatScore(low) + " \xE2\x80\x93 " +
+                FormatScore(high) + "</td><td>");
+    AppendUnitIntervalBar(out, mean, low, high, RunFloor(record, metric));
+    out->append("</td><td class=\"num\">" + std::to_string(m.value("n", int64_t{0})) +
+                "</td><td class=\"note\">");
+    AppendHtmlText(out, JsonString(m, "interval_method"));
+    out->append("</td></tr>");
+  }
+  out->append("</tbody></table>");
+  const nlohmann::json latency = aggregates.value("latency_ms", nlohmann::json::object());
+  if (latency.value("n", int64_t{0}) > 0) {
+    out->append("<p class=\"note\">Latency over " + std::to_string(latency.value("n", int64_t{0})) +
+                " replies that did not error: ");
+    bool first = true;
+    for (const char* key : {"p50", "p90", "p95", "p99", "mean", "max"}) {
+      if (!first) out->append(" \xC2\xB7 ");
+      first = false;
+      out->append(std::string(key) + " " + FormatMilliseconds(latency.value(key, 0.0)));
+    }
+    out->append(".");
+    const nlohmann::json usage = aggregates.value("usage", nlohmann::json::object());
+    const int64_t in = usage.value("input_tokens", int64_t{0});
+    const int64_t outt = usage.value("output_tokens", int64_t{0});
+    if (in > 0 || outt > 0) {
+      out->append(" Tokens: " + std::to_string(in) + " in, " + std::to_string(outt) + " out.");
+    }
+    out->append("</p>");
+  }
+  const nlohmann::json unstable = aggregates.value("unstable_cases", nlohmann::json::array());
+  if (!unstable.empty()) {
+    out->append("<p class=\"note\">" + std::to_string(unstable.size()) +
+                " cases passed on some repeats and failed on others (unstable).</p>");
+  }
+  out->append("</section>");
+}
+
+void AppendTagTable(std::string* out, const nlohmann::json& record) {
+  const nlohmann::json aggregates = record.value("aggregates", nlohmann::json::object());
+  const nlohmann::json tags = aggregates.value("tags", nlohmann::json::object());
+  if (!tags.is_object() || tags.empty()) return;
+  // Columns: the metrics any tag defines, in the run table's order.
+  nlohmann::json seen = nlohmann::json::object();
+  for (const auto& [tag, t] : tags.items()) {
+    const nlohmann::json metrics = t.value("metrics", nlohmann::json::object());
+    for (const auto& [metric, m] : metrics.items()) seen[metric] = m;
+  }
+  const std::vector<std::string> columns = MetricOrder(seen);
+  std::map<std::pair<std::string, std::string>, std::pair<double, bool>> floors;
+  for (const nlohmann::json& t : record.value("thresholds", nlohmann::json::array())) {
+    if (!t.value("tag", nlohmann::json()).is_string()) continue;
+    floors[{JsonString(t, "tag"), JsonString(t, "metric")}] = {t.value("limit", 0.0),
+                                                               t.value("held", false)};
+  }
+  out->append(
+      "<section id=\"tags\"><h2>By tag</h2><p class=\"note\">Mean, and 95% interval below it. "
+      "A tag name filters the cases.</p><div class=\"scroll\"><table class=\"tagtable\"><thead>"
+      "<tr><th>tag</th><th>cases</th>");
+  for (const std::string& metric : columns) {
+    out->append("<th>");
+    AppendHtmlText(out, metric);
+    out->append("</th>");
+  }
+  out->append("</tr></thead><tbody>");
+  for (const auto& [tag, t] : tags.items()) {
+    out->append("<tr><td>");
+    AppendTagLink(out, tag);
+    out->append("</td><td class=\"num\">" + std::to_string(t.value("cases", int64_t{0})) + "</td>");
+    const nlohmann::json metrics = t.value("metrics", nlohmann::json::object());
+    for (const std::string& metric : columns) {
+      out->append("<td class=\"num\">");
+      auto it = metrics.find(metric);
+      if (it != metrics.end()) {
+        const nlohmann::json interval = it->value("interval", nlohmann::json::array());
+        out->append(FormatScore(it->value("mean", 0.0)));
+        auto floor = floors.find({tag, metric});
+        if (floor != floors.end()) {
+          out->append(floor->second.second ? " <span class=\"res held\">floor "
+                                           : " <span class=\"res broken\">floor ");
+          out->append(FormatScore(floor->second.first) + "</span>");
+        }
+        if (interval.size() == 2) {
+          out->append("<span class=\"iv\">" + FormatScore(interval[0].get<double>()) +
+                      "\xE2\x80\x93" + FormatScore(interval[1].get<double>()) + "</span>");
+        }
+      } else {
+        out->append("<span class=\"note\">\xE2\x80\x94</span>");
+      }
+      out->append("</td>");
+    }
+    out->append("</tr>");
+  }
+  out->append("</tbody></table></div></section>");
+}
+
+void AppendCaseCard(std::string* out, const CaseEntry& c, CaseCardWriter* cards) {
+  static const nlohmann::json kNoGold = nlohmann::json::object();
+  const nlohmann::json& gold = c.gold != nullptr ? *c.gold : kNoGold;
+  const char* status = CaseStatusName(c.status);
+  out->append("<details class=\"case st-");
+  out->append(status);
+  out->append("\" id=\"case-");
+  AppendHtmlAttribute(out, c.id);
+  out->append("\" data-status=\"");
+  out->append(status);
+  out->append("\" data-tags=\"");
+  AppendHtmlAttribute(out, TagsAttribute(JsonStrings(gold, "tags")));
+  out->append("\" data-scores=\"");
+  if (c.shown != nullptr) AppendHtmlAttribute(out, ScoresAttribute(c.shown->scores.values));
+  out->append("\"");
+  if (c.shown != nullptr) {
+    out->append(" data-latency=\"" + FormatNumber(c.shown->latency_ms) + "\"");
+  }
+  out->append(c.status == CaseStatus::kPassed ? ">" : " open>");
+  out->append("<summary><span class=\"badge\">");
+  out->append(c.status == CaseStatus::kPassed    ? "PASSED"
+              : c.status == CaseStatus::kErrored ? "ERRORED"
+                                                 : "FAILED");
+  out->append("</span><code class=\"cid\">");
+  AppendHtmlText(out, c.id);
+  out->append("</code><span class=\"sq\">");
+  AppendHtmlText(out, JsonString(gold, "question"));
+  out->append("</span><span class=\"key\">");
+  if (c.shown != nullptr) AppendHtmlText(out, cards->KeyScores(*c.shown));
+  out->append("</span></summary><div class=\"cbody\">");
+  cards->AppendGold(out, gold);
+  if (c.shown != nullptr) {
+    cards->AppendReply(out, *c.shown, gold, /*two_columns=*/true, /*draw_clean=*/false);
+  } else {
+    out->append("<p class=\"warnbox\">The journal holds no reply for this case.</p>");
+  }
+  out->append("</div></details>\n");
+}
+
+}  // namespace
+
+namespace {
+
+std::string RenderRunPage(const LoadedRun& run) {
+  CaseCardWriter cards(run);
+  const std::vector<CaseEntry> cases = CollectCases(run);
+  const nlohmann::json suite = run.record.value("suite", nlohmann::json::object());
+  const nlohmann::json pipeline = run.record.value("pipeline", nlohmann::json::object());
+
+  std::string html;
+  html.reserve(4096 + cases.size() * 4096);
+  AppendPageStart(&html,
+                  "plumb run \xC2\xB7 " + JsonString(suite, "name") + " \xC2\xB7 " +
+                      JsonString(pipeline, "name"),
+                  "run");
+  AppendMasthead(&html, run, cases, cards);
+  html.append("<main class=\"wrap\">");
+  html.append("<div class=\"top\">");
+  AppendFloors(&html, run.record);
+  AppendScoresTable(&html, run.record);
+  html.append("</div>");
+  AppendTagTable(&html, run.record);
+
+  std::set<std::string> tags;
+  std::map<std::string, nlohmann::json> metric_seen;
+  std::map<CaseStatus, int64_t> counts;
+  for (const CaseEntry& c : cases) {
+    counts[c.status] += 1;
+    if (c.gold != nullptr) {
+      for (const std::string& tag : JsonStrings(*c.gold, "tags")) tags.insert(tag);
+    }
+    if (c.shown != nullptr) {
+      for (const auto& [metric, value] : c.shown->scores.values) metric_seen[metric] = value;
+    }
+  }
+  html.append("<section id=\"cases\"><h2>Cases</h2>");
+  html.append(MarkLegendHtml());
+  AppendFilterForm(&html,
+                   {{"failed", "failed", counts[CaseStatus::kFailed]},
+                    {"errored", "errored", counts[CaseStatus::kErrored]},
+                    {"passed", "passed", counts[CaseStatus::kPassed]}},
+                   {tags.begin(), tags.end()}, MetricOrder(nlohmann::json(metric_seen)), "score of",
+                   static_cast<int64_t>(cases.size()));
+  struct Group {
+    CaseStatus status;
+    const char* title;
+    const char* empty;
+  };
+  const Group groups[] = {
+      {CaseStatus::kFailed, "Failed", "No case failed on its answer."},
+      {CaseStatus::kErrored, "Errored", "No call failed."},
+      {CaseStatus::kPassed, "Passed", "No case passed."},
+  };
+  for (const Group& g : groups) {
+    const bool folded = g.status == CaseStatus::kPassed && counts[g.status] > 0;
+    AppendCaseGroup(&html, CaseStatusName(g.status), g.title, counts[g.status],
+                    folded ? "<span class=\"n\">folded: open a case to read it</span>" : "",
+                    g.empty, [&] {
+                      for (const CaseEntry& c : cases) {
+                        if (c.status == g.status) AppendCaseCard(&html, c, &cards);
+                      }
+                    });
+  }
+  html.append("</section></main>");
+  AppendPageEnd(&html);
+  return html;
+}
+
+}  // namespace
+
+bool WriteHtmlRunReport(const LoadedRun& run, const std::string& path, std::string* error) {
+  std::string html;
+  try {
+    html = RenderRunPage(run);
+  } catch (const nlohmann::json::exception& e) {
+    // Only a run.json or drift JSON of an unexpected shape gets here.
+    *error = std::string("cannot build the HTML report: unexpected record: ") + e.what();
+    return false;
+  }
+  if (!WriteFileAtomically(path, html, error)) {
+    *error = "cannot write the HTML report: " + *error;
+    return false;
+  }
+  return true;
+}
+
+}  // namespace plumb

@@ -1,0 +1,341 @@
+#include "runner/report/markdown_report.h"
+
+#include <fmt/format.h>
+
+#include <algorithm>
+#include <cmath>
+#include <map>
+
+#include "metrics/utf8.h"
+#include "runner/run/run_record.h"
+
+namespace plumb {
+namespace {
+
+constexpr size_t kTopCases = 10;
+
+std::string Fixed(double x, int digits) {
+  if (!std::isfinite(x)) return "n/a";
+  return fmt::format("{:.{}f}", x, digits);
+}
+
+std::string Signed(double x) {
+  if (!std::isfinite(x)) return "n/a";
+  return fmt::format("{:+.4f}", x);
+}
+
+std::string IntervalText(const metrics::Interval& i, bool sign) {
+  if (!std::isfinite(i.low) || !std::isfinite(i.high)) return "n/a";
+  return sign ? fmt::format("[{:+.4f}, {:+.4f}]", i.low, i.high)
+              : fmt::format("[{:.3f}, {:.3f}]", i.low, i.high);
+}
+
+std::string PValue(double p) {
+  if (!std::isfinite(p)) return "n/a";
+  return p < 1e-4 ? fmt::format("{:.1e}", p) : fmt::format("{:.4f}", p);
+}
+
+/// An identifier (metric id, case id, suite, tag) as inline code when it is made of characters
+/// that cannot end a code span or form markup ([A-Za-z0-9._:@/-], as suites require of ids);
+/// otherwise as escaped text.
+std::string Code(const std::string& id) {
+  const bool plain = !id.empty() && id.size() <= 80 &&
+                     id.find_first_not_of(
+                         "abcdefghijklmnopqrstuvwxyzABCDEFGHIJKLMNOPQRSTUVWXYZ"
+                         "0123456789._:@/-") == std::string::npos;
+  return plain ? "`" + id + "`" : MarkdownText(id, 80);
+}
+
+std::string LabelsText(const std::map<std::string, std::string>& labels) {
+  std::string out;
+  for (const auto& [key, value] : labels) {
+    out += (out.empty() ? "" : ", ") + MarkdownText(key + "=" + value, 60);
+  }
+  return out;
+}
+
+std::string JsonString(const nlohmann::json& object, const char* key) {
+  if (!object.is_object() || !object.contains(key) || !object[key].is_string()) return "";
+  return object[key].get<std::string>();
+}
+
+const nlohmann::json& JsonAt(const nlohmann::json& object, const char* key) {
+  static const nlohmann::json kNull;
+  if (!object.is_object() || !object.contains(key)) return kNull;
+  return object[key];
+}
+
+double JsonNumber(const nlohmann::json& object, const char* key) {
+  const nlohmann::json& v = JsonAt(object, key);
+  return v.is_number() ? v.get<double>() : std::nan("");
+}
+
+std::string Count(const nlohmann::json& object, const char* key) {
+  const nlohmann::json& v = JsonAt(object, key);
+  return v.is_number() ? fmt::format("{}", v.get<int64_t>()) : "n/a";
+}
+
+std::string AnswerText(const std::optional<std::string>& answer, const std::string& error) {
+  if (!error.empty()) return "*error:* " + MarkdownText(error, 80);
+  if (!answer) return "*abstained*";
+  return MarkdownText(*answer, 80);
+}
+
+}  // namespace
+
+std::string MarkdownText(std::string_view text, size_t max_code_points) {
+  static const std::string kEscaped = "\\`*_{}[]()<>#+-!|~&$^=";
+  std::string out;
+  size_t pos = 0, count = 0;
+  while (pos < text.size()) {
+    if (count == max_code_points) {
+      out += "…";
+      break;
+    }
+    const char32_t cp = metrics::NextCodePoint(text, &pos);
+    ++count;
+    if (cp < 0x20 || (cp >= 0x7F && cp < 0xA0) || cp == 0x2028 || cp == 0x2029) {
+      out += ' ';
+    } else if (cp < 0x80 && kEscaped.find(static_cast<char>(cp)) != std::string::npos) {
+      out += '\\';
+      out += static_cast<char>(cp);
+    } else if (cp == '@') {
+      out += "@\u2060";
+    } else {
+      metrics::AppendUtf8(cp, &out);
+    }
+  }
+  return out;
+}
+
+std::string FormatRunMarkdown(const LoadedRun& run) {
+  const nlohmann::json& r = run.record;
+  const nlohmann::json& verdict = JsonAt(r, "verdict");
+  const nlohmann::json& aggregates = JsonAt(r, "aggregates");
+  const nlohmann::json& exit_code = JsonAt(verdict, "exit_code");
+  const int code = exit_code.is_number_integer() ? exit_code.get<int>() : -1;
+  std::string out;
+  out +=
+      fmt::format("### plumb: {} / {} — exit {}\n\n", Code(JsonString(JsonAt(r, "suite"), "name")),
+                  Code(JsonString(JsonAt(r, "pipeline"), "name")), code);
+  out += fmt::format("**{}** (exit {}): {}\n\n", code == 0 ? "PASS" : "FAIL", code,
+                     MarkdownText(JsonString(verdict, "reason"), 300));
+  out += fmt::format("{} cases, {} errored, {} passed", Count(aggregates, "cases"),
+                     Count(aggregates, "errored"), Count(aggregates, "passed"));
+  std::map<std::string, std::string> labels;
+  const nlohmann::json& label_json = JsonAt(r, "labels");
+  if (label_json.is_object()) {
+    for (auto it = label_json.begin(); it != label_json.end(); ++it) {
+      labels[it.key()] = it->is_string() ? it->get<std::string>() : it->dump();
+    }
+  }
+  if (!labels.empty()) out += " · labels: " + LabelsText(labels);
+  out += "\n\n";
+
+  // Floors by metric, for the table's last column.
+  std::map<std::string, std::string> floors;
+  const nlohmann::json& thresholds = JsonAt(r, "thresholds");
+  if (thresholds.is_array()) {
+    for (const nlohmann::json& t : thresholds) {
+      if (!JsonString(t, "tag").empty()) continue;
+      const bool held = JsonAt(t, "held").is_boolean() && JsonAt(t, "held").get<bool>();
+      floors[JsonString(t, "metric")] =
+          fmt::format("{} {} {}", JsonString(t, "kind") == "ceiling" ? "≤" : "≥",
+                      fmt::format("{:.4g}", JsonNumber(t, "limit")), held ? "held" : "**broken**");
+    }
+  }
+  const nlohmann::json& table = JsonAt(aggregates, "metrics");
+  std::vector<std::string> names;
+  if (table.is_object()) {
+    for (auto it = table.begin(); it != table.end(); ++it) names.push_back(it.key());
+  }
+  out += "| metric | mean | 95% interval | n | floor |\n|:--|--:|:--|--:|:--|\n";
+  for (const std::string& metric : MetricDisplayOrder(names)) {
+    const nlohmann::json& m = table[metric];
+    const nlohmann::json& interval = JsonAt(m, "interval");
+    metrics::Interval i{std::nan(""), std::nan("")};
+    if (interval.is_array() && interval.size() == 2 && interval[0].is_number() &&
+        interval[1].is_number()) {
+      i = {interval[0].get<double>(), interval[1].get<double>()};
+    }
+    auto floor = floors.find(metric);
+    out += fmt::format("| {} | {} | {} | {} | {} |\n", Code(metric),
+                       Fixed(JsonNumber(m, "mean"), 3), IntervalText(i, false), Count(m, "n"),
+                       floor == floors.end() ? "" : floor->second);
+  }
+  for (const auto& [metric, text] : floors) {
+    if (metric.rfind("latency_", 0) == 0 || metric == "error_rate") {
+      out += fmt::format("| {} | | | | {} |\n", Code(metric), text);
+    }
+  }
+  const nlohmann::json& latency = JsonAt(aggregates, "latency_ms");
+  if (JsonNumber(latency, "n") > 0) {
+    out += fmt::format("\nLatency: p50 {} ms, p95 {} ms (n {})\n",
+                       Fixed(JsonNumber(latency, "p50"), 1), Fixed(JsonNumber(latency, "p95"), 1),
+                       Count(latency, "n"));
+  }
+  if (thresholds.is_array()) {
+    std::string tag_floors;
+    for (const nlohmann::json& t : thresholds) {
+      if (JsonString(t, "tag").empty()) continue;
+      const bool held = JsonAt(t, "held").is_boolean() && JsonAt(t, "held").get<bool>();
+      tag_floors += fmt::format("- tag {} {}: {} (floor {:.4g}) {}\n", Code(JsonString(t, "tag")),
+                                Code(JsonString(t, "metric")), Fixed(JsonNumber(t, "value"), 3),
+                                JsonNumber(t, "limit"), held ? "held" : "**broken**");
+    }
+    if (!tag_floors.empty()) out += "\n" + tag_floors;
+  }
+
+  // Failed cases: errored first, then by token F1, lowest first.
+  struct Failed {
+    std::string id;
+    const CaseRecord* record;
+  };
+  std::vector<Failed> failed;
+  std::map<std::string, const CaseRecord*> first_failure;
+  for (const CaseRecord& c : run.records) {
+    if (c.scores.pass || run.Gold(c.id) == nullptr) continue;
+    auto [it, inserted] = first_failure.emplace(c.id, &c);
+    if (!inserted && c.repeat < it->second->repeat) it->second = &c;
+  }
+  for (const auto& [id, record] : first_failure) failed.push_back({id, record});
+  auto f1 = [](const CaseRecord* c) {
+    auto it = c->scores.values.find("token_f1");
+    return it == c->scores.values.end() ? 0.0 : it->second;
+  };
+  std::sort(failed.begin(), failed.end(), [&](const Failed& a, const Failed& b) {
+    const bool ea = !a.record->error.empty(), eb = !b.record->error.empty();
+    if (ea != eb) return ea;
+    if (f1(a.record) != f1(b.record)) return f1(a.record) < f1(b.record);
+    return a.id < b.id;
+  });
+  if (!failed.empty()) {
+    out += fmt::format("\n<details><summary>Failed cases: {}{}</summary>\n\n", failed.size(),
+                       failed.size() > kTopCases ? fmt::format(" (first {})", kTopCases) : "");
+    out += "| case | correct | token_f1 | answer |\n|:--|--:|--:|:--|\n";
+    for (size_t k = 0; k < std::min(kTopCases, failed.size()); ++k) {
+      const CaseRecord& c = *failed[k].record;
+      auto score = [&](const char* metric) {
+        auto it = c.scores.values.find(metric);
+        return it == c.scores.values.end() ? std::string() : Fixed(it->second, 3);
+      };
+      out += fmt::format("| {} | {} | {} | {} |\n", Code(failed[k].id), score("correct"),
+                         score("token_f1"), AnswerText(c.parsed.answer, c.error));
+    }
+    out += "\n</details>\n";
+  }
+  return out;
+}
+
+std::string FormatDriftMarkdown(const DriftReport& r) {
+  std::string out;
+  const DriftGate& g = r.gate;
+  out += fmt::format("### plumb drift: {} — exit {}\n\n", Code(r.base.suite_name), g.exit_code);
+  out += fmt::format("**{}** (exit {}): {}\n\n", g.exit_code == 0 ? "PASS" : "FAIL", g.exit_code,
+                     MarkdownText(g.reason, 400));
+  auto run_text = [](const char* role, const RunIdentity& id) {
+    std::string s = fmt::format("{} {}", role, Code(id.pipeline));
+    if (!id.labels.empty()) s += " (" + LabelsText(id.labels) + ")";
+    return s;
+  };
+  out += run_text("Base", r.base) + " → " + run_text("candidate", r.cand) + "  \n";
+  out += fmt::format(
+      "{} paired cases; {} only in base, {} only in candidate, {} with changed gold "
+      "(left out)\n",
+      r.paired.size(), r.only_in_base.size(), r.only_in_cand.size(), r.gold_changed.size());
+  std::vector<std::string> changed;
+  if (r.suite_changed) changed.push_back("suite");
+  if (r.corpus_changed) changed.push_back("corpus");
+  if (r.pipeline_config_changed) changed.push_back("pipeline config");
+  if (!changed.empty()) {
+    std::string list;
+    for (const std::string& c : changed) list += (list.empty() ? "" : ", ") + c;
+    out += "\n> Changed between the runs: " + list + ".\n";
+  }
+
+  out +=
+      "\n| metric | base | cand | delta | 95% interval | p | verdict |\n"
+      "|:--|--:|--:|--:|:--|--:|:--|\n";
+  for (const MetricDrift& m : r.metrics) {
+    const std::string verdict = VerdictName(m.verdict);
+    out += fmt::format("| {}{} | {} | {} | {} | {} | {} | {} |\n", Code(m.metric),
+                       m.gated ? " (gated)" : "", Fixed(m.base_mean, 3), Fixed(m.cand_mean, 3),
+                       Signed(m.delta), IntervalText(m.interval, true), PValue(m.p_value),
+                       m.verdict == Verdict::kSteady ? verdict : "**" + verdict + "**");
+  }
+  if (r.latency_p50.available) {
+    out += fmt::format("\nLatency (n {}): p50 ×{} {}, p95 ×{} {}\n", r.latency_n,
+                       Fixed(r.latency_p50.ratio, 3), IntervalText(r.latency_p50.interval, false),
+                       Fixed(r.latency_p95.ratio, 3), IntervalText(r.latency_p95.interval, false));
+  }
+  std::string mde;
+  for (const MetricDrift& m : r.metrics) {
+    if (!m.gated) continue;
+    auto it = r.min_detectable_effect.find(m.metric);
+    if (it == r.min_detectable_effect.end()) continue;
+    mde += fmt::format("{}{} {}", mde.empty() ? "" : ", ", Code(m.metric), Fixed(it->second, 4));
+  }
+  if (!mde.empty()) {
+    out += fmt::format(
+        "\nSmallest detectable change at {} pairs (alpha 0.05, power 0.8): {}; "
+        "verdicts also need |delta| ≥ {}.\n",
+        r.paired.size(), mde, r.options.min_effect);
+  }
+
+  std::string tag_rows;
+  int changed_tags = 0;
+  for (const TagDrift& t : r.tags) {
+    for (const MetricDrift& m : t.metrics) {
+      if (m.verdict == Verdict::kSteady) continue;
+      if (++changed_tags > 20) continue;
+      tag_rows += fmt::format("| {} | {} | {} | {} | {} | {} |\n", Code(t.tag), Code(m.metric),
+                              Signed(m.delta), IntervalText(m.interval, true), PValue(m.p_holm),
+                              VerdictName(m.verdict));
+    }
+  }
+  if (changed_tags > 0) {
+    out +=
+        "\n| tag | metric | delta | 95% interval | p (Holm) | verdict |\n"
+        "|:--|:--|--:|:--|--:|:--|\n" +
+        tag_rows;
+    if (changed_tags > 20) out += fmt::format("\n…and {} more tag results.\n", changed_tags - 20);
+  } else if (!r.tags.empty()) {
+    out += fmt::format("\nNo tag changed ({} tags, Holm-adjusted).\n", r.tags.size());
+  }
+
+  auto case_table = [&](const char* title, const std::vector<CaseChange>& cases) {
+    if (cases.empty()) return;
+    out += fmt::format("\n#### {} ({}{})\n\n", title, cases.size(),
+                       cases.size() > kTopCases ? fmt::format("; top {}", kTopCases) : "");
+    out +=
+        "| case | Δ correct | Δ token_f1 | base answer | candidate answer |\n"
+        "|:--|--:|--:|:--|:--|\n";
+    for (size_t k = 0; k < std::min(kTopCases, cases.size()); ++k) {
+      const CaseChange& c = cases[k];
+      auto delta = [&](const char* metric) {
+        auto it = c.deltas.find(metric);
+        return it == c.deltas.end() ? std::string() : Signed(it->second);
+      };
+      out += fmt::format("| {} | {} | {} | {} | {} |\n", Code(c.id), delta("correct"),
+                         delta("token_f1"), AnswerText(c.base_answer, c.base_error),
+                         AnswerText(c.cand_answer, c.cand_error));
+    }
+  };
+  case_table("Lost cases: pass → fail", r.lost);
+  case_table("Gained cases: fail → pass", r.gained);
+  if (!r.unstable.empty()) {
+    out += fmt::format("\n{} case(s) unstable across repeats, first: {}\n", r.unstable.size(),
+                       Code(r.unstable.front()));
+  }
+  return out;
+}
+
+bool WriteRunMarkdown(const LoadedRun& run, const std::string& path, std::string* error) {
+  return WriteFileAtomically(path, FormatRunMarkdown(run), error);
+}
+
+bool WriteDriftMarkdown(const DriftReport& report, const std::string& path, std::string* error) {
+  return WriteFileAtomically(path, FormatDriftMarkdown(report), error);
+}
+
+}  // namespace plumb

@@ -1,0 +1,88 @@
+#include "runner/report/summary_table.h"
+
+#include <fmt/format.h>
+
+#include "runner/base/terminal_palette.h"
+
+namespace plumb {
+namespace {
+
+std::string ThresholdCell(const std::vector<ThresholdOutcome>& thresholds, const std::string& tag,
+                          const std::string& metric, const Palette& p) {
+  for (const ThresholdOutcome& t : thresholds) {
+    if (t.tag != tag || t.metric != metric) continue;
+    return fmt::format("{} {:<6.4g} {}{}{}", t.ceiling ? "<=" : ">=", t.limit,
+                       t.held ? p.good : p.bad, t.held ? "held" : "BROKEN", p.reset);
+  }
+  return "";
+}
+
+void AppendMetricRows(std::string* out, const std::vector<MetricAggregate>& metrics,
+                      const std::vector<ThresholdOutcome>& thresholds, const std::string& tag,
+                      const std::string& indent, const Palette& p) {
+  for (const MetricAggregate& m : metrics) {
+    const metrics::MetricSummary& s = m.summary;
+    *out += fmt::format("{}{:<20} {:>7.3f}   [{:.3f}, {:.3f}] {:>6}   {}\n", indent, m.metric,
+                        s.mean, s.interval.low, s.interval.high, s.n,
+                        ThresholdCell(thresholds, tag, m.metric, p));
+  }
+}
+
+}  // namespace
+
+std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
+                          const std::vector<ThresholdOutcome>& thresholds,
+                          const RunVerdict& verdict, bool colour) {
+  const Palette p = MakePalette(colour);
+  std::string out;
+  out += fmt::format("{}{} / {}{}  {} cases", p.bold, h.suite, h.pipeline, p.reset, run.cases);
+  if (h.repeat > 1) out += fmt::format(" x {} repeats", h.repeat);
+  out += fmt::format(", {} errored, {} passed, {:.1f}s\n\n", run.errored, run.passed, h.seconds);
+  out += fmt::format("  {}{:<20} {:>7}   {:<16} {:>6}   {}{}\n", p.dim, "metric", "mean",
+                     "95% interval", "n", "threshold", p.reset);
+  AppendMetricRows(&out, run.metrics, thresholds, "", "  ", p);
+
+  const metrics::LatencySummary& l = run.latency;
+  if (l.n > 0) {
+    out += fmt::format(
+        "\n  {:<20} p50 {:.2f}  p90 {:.2f}  p95 {:.2f}  p99 {:.2f}  mean {:.2f}  max {:.2f}  "
+        "(n {})\n",
+        "latency ms", l.p50, l.p90, l.p95, l.p99, l.mean, l.max, l.n);
+  }
+  for (const ThresholdOutcome& t : thresholds) {
+    if (!t.tag.empty() || (t.metric != "latency_p50_ms" && t.metric != "latency_p95_ms")) continue;
+    out += fmt::format("  {:<20} {}\n", t.metric, ThresholdCell(thresholds, "", t.metric, p));
+  }
+  if (run.input_tokens + run.output_tokens > 0) {
+    out += fmt::format("  {:<20} {} in, {} out\n", "tokens", run.input_tokens, run.output_tokens);
+  }
+
+  if (!run.tags.empty()) {
+    out += fmt::format("\n  {}{:<20} {:>6} {:>9} {:>9} {:>9} {:>9}{}\n", p.dim, "tag", "cases",
+                       "correct", "token_f1", "cit_rec", "pass", p.reset);
+    for (const TagAggregate& t : run.tags) {
+      auto cell = [&](const char* metric) {
+        const metrics::MetricSummary* s = run.Find(metric, t.tag);
+        return s == nullptr ? std::string("-") : fmt::format("{:.3f}", s->mean);
+      };
+      out +=
+          fmt::format("  {:<20} {:>6} {:>9} {:>9} {:>9} {:>9}\n", t.tag, t.cases, cell("correct"),
+                      cell("token_f1"), cell("citation_recall"), cell("pass_rate"));
+    }
+    for (const ThresholdOutcome& th : thresholds) {
+      if (th.tag.empty()) continue;
+      const std::string value = th.value ? fmt::format("{:.3f}", *th.value) : "not measured";
+      out += fmt::format("  tag {} {} = {}  {}\n", th.tag, th.metric, value,
+                         ThresholdCell(thresholds, th.tag, th.metric, p));
+    }
+  }
+  if (!run.unstable_cases.empty()) {
+    out += fmt::format("\n  unstable across repeats: {} case(s), first: {}\n",
+                       run.unstable_cases.size(), run.unstable_cases.front());
+  }
+  const char* tone = verdict.code == kExitOk ? p.good : p.bad;
+  out += fmt::format("\n{}exit {}{}: {}\n", tone, verdict.code, p.reset, verdict.reason);
+  return out;
+}
+
+}  // namespace plumb

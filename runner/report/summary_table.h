@@ -1,0 +1,32 @@
+#ifndef PLUMB_RUNNER_REPORT_SUMMARY_TABLE_H_
+#define PLUMB_RUNNER_REPORT_SUMMARY_TABLE_H_
+
+/// The terminal summary a person reads after `plumb run` / `plumb score`: one row per metric
+/// (mean, 95% interval, n, threshold and whether it held), latency percentiles, a compact
+/// per-tag table, and, last, the verdict line with the exit code and its reason. Colour only
+/// when writing to a terminal and NO_COLOR is unset (https://no-color.org convention).
+
+#include <cstdio>
+#include <string>
+#include <vector>
+
+#include "runner/base/terminal_palette.h"
+#include "runner/run/exit_code.h"
+#include "runner/run/run_aggregates.h"
+
+namespace plumb {
+
+struct SummaryHeader {
+  std::string suite;
+  std::string pipeline;
+  double seconds = 0;
+  int repeat = 1;
+};
+
+std::string FormatSummary(const SummaryHeader& header, const RunAggregates& aggregates,
+                          const std::vector<ThresholdOutcome>& thresholds,
+                          const RunVerdict& verdict, bool colour);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_REPORT_SUMMARY_TABLE_H_

@@ -1,0 +1,195 @@
+#include "runner/run/case_scorer.h"
+
+#include <string_view>
+
+#include "metrics/citation_metrics.h"
+#include "metrics/number_match.h"
+#include "metrics/retrieval_metrics.h"
+#include "runner/base/parallel_chunks.h"
+
+namespace plumb {
+namespace {
+
+// Metrics a case usually defines besides recall@K (room set aside in one allocation).
+constexpr size_t kUsualMetrics = 4;
+// Below this many cases per thread, preparing them on one thread is quicker.
+constexpr size_t kCasesPerChunk = 2000;
+
+std::vector<metrics::GoldSpanRef> GoldRefs(const Case& c) {
+  std::vector<metrics::GoldSpanRef> gold;
+  gold.reserve(c.sources.size());
+  for (const GoldSpan& span : c.sources) gold.push_back({span.doc, span.start, span.end});
+  return gold;
+}
+
+void ScoreErroredCase(const Case& c, CaseScores* scores) {
+  scores->errored = true;
+  scores->values["exact_match"] = 0;
+  scores->values["token_f1"] = 0;
+  scores->values["correct"] = 0;
+  if (!c.patterns.empty()) scores->values["pattern_match"] = 0;
+  if (c.number) scores->values["number_match"] = 0;
+  if (!c.sources.empty()) {
+    scores->values["citation_recall"] = 0;
+    scores->values["citation_f1"] = 0;
+  }
+  // Retrieval metrics stay undefined: whether the pipeline retrieves at all is unknown here.
+}
+
+}  // namespace
+
+std::unique_ptr<CaseScorer> CaseScorer::Create(const Suite& suite, Corpus* corpus,
+                                               std::string* error) {
+  std::unique_ptr<CaseScorer> scorer(new CaseScorer(suite, corpus));
+  scorer->prepared_.resize(suite.cases.size());
+  // Cases are prepared independently; a failed chunk keeps its first error, and the error of
+  // the earliest chunk is the one reported (the case that comes first in the suite).
+  std::vector<std::string> errors(static_cast<size_t>(WorkerCount()));
+  ForEachChunk(suite.cases.size(), kCasesPerChunk, [&](size_t chunk, size_t begin, size_t end) {
+    for (size_t i = begin; i < end; ++i) {
+      const Case& c = suite.cases[i];
+      PreparedCase& prepared = scorer->prepared_[i];
+      prepared.gold = metrics::NormalizeGold(c.answers, suite.normalize, suite.lang);
+      if (c.patterns.empty()) continue;
+      std::string pattern_error;
+      if (!metrics::PatternSet::Compile(c.patterns, &prepared.patterns, &pattern_error)) {
+        errors[chunk] = "case '" + c.id + "': " + pattern_error;
+        return;
+      }
+      prepared.has_patterns = true;
+    }
+  });
+  for (const std::string& chunk_error : errors) {
+    if (chunk_error.empty()) continue;
+    *error = chunk_error;
+    return nullptr;
+  }
+  return scorer;
+}
+
+const std::string* CaseScorer::DocumentText(const std::string& doc) const {
+  if (corpus_ == nullptr) return nullptr;
+  std::string error;  // an unknown or unreadable doc: the citation metrics warn and miss
+  const Document* document = corpus_->Get(doc, &error);
+  return document == nullptr ? nullptr : &document->text;
+}
+
+const metrics::CodePointIndex* CaseScorer::DocumentIndex(const std::string& doc) const {
+  const std::string* text = DocumentText(doc);
+  if (text == nullptr) return nullptr;
+  std::lock_guard<std::mutex> lock(index_mutex_);
+  std::unique_ptr<metrics::CodePointIndex>& index = indexes_[doc];
+  if (index == nullptr) index = std::make_unique<metrics::CodePointIndex>(*text);
+  return index.get();
+}
+
+std::vector<metrics::CitedRef> CaseScorer::ToCodePoints(const std::vector<SourceRef>& refs,
+                                                        metrics::OffsetUnit unit, const char* what,
+                                                        std::vector<std::string>* warnings) const {
+  std::vector<metrics::CitedRef> out;
+  out.reserve(refs.size());
+  for (size_t i = 0; i < refs.size(); ++i) {
+    const SourceRef& ref = refs[i];
+    metrics::CitedRef cited{ref.doc, ref.start, ref.end, ref.quote};
+    if (unit != metrics::OffsetUnit::kCodePoints && ref.start && ref.end) {
+      const metrics::CodePointIndex* index = DocumentIndex(ref.doc);
+      int64_t start = 0, end = 0;
+      std::string error;
+      if (index != nullptr &&
+          (!metrics::ConvertToCodePoints(*index, unit, *ref.start, &start, &error) ||
+           !metrics::ConvertToCodePoints(*index, unit, *ref.end, &end, &error))) {
+        warnings->push_back(std::string(what) + " " + std::to_string(i + 1) + " in " + ref.doc +
+                            ": " + error);
+        start = end = -1;  // an invalid span: a miss, never a doc-level hit
+      }
+      if (index != nullptr) {
+        cited.start = start;
+        cited.end = end;
+      }
+    }
+    out.push_back(std::move(cited));
+  }
+  return out;
+}
+
+bool CaseScorer::Passes(const CaseScores& scores) const {
+  if (scores.errored) return false;
+  for (const auto& [metric, minimum] : suite_.case_pass) {
+    auto it = scores.values.find(metric);
+    // A minimum on a metric the case does not define (citation_recall on a case without gold
+    // spans) does not apply to it.
+    if (it != scores.values.end() && it->second < minimum) return false;
+  }
+  return true;
+}
+
+CaseScores CaseScorer::Score(size_t case_index, const Response* response,
+                             metrics::OffsetUnit offsets) const {
+  const Case& c = suite_.cases[case_index];
+  const PreparedCase& prepared = prepared_[case_index];
+  CaseScores scores;
+  scores.values.reserve(kUsualMetrics + suite_.retrieval_k.size());
+  scores.abstention_case = c.answers.empty();
+  if (response == nullptr) {
+    ScoreErroredCase(c, &scores);
+    return scores;
+  }
+
+  const metrics::AnswerScores answer =
+      metrics::ScoreAnswer(response->answer, prepared.gold, suite_.normalize, suite_.lang);
+  scores.values["exact_match"] = answer.exact_match;
+  scores.values["token_f1"] = answer.token_f1;
+  // The reply abstained, or its answer normalized to no tokens (SPEC §6.2).
+  scores.abstained = answer.abstained;
+
+  double correct = answer.exact_match;
+  const std::string_view raw_answer =
+      response->answer ? std::string_view(*response->answer) : std::string_view();
+  if (prepared.has_patterns) {
+    const double pattern = !response->abstained && prepared.patterns.AnyMatch(raw_answer) ? 1 : 0;
+    scores.values["pattern_match"] = pattern;
+    correct = std::max(correct, pattern);
+  }
+  if (c.number) {
+    const double number =
+        !response->abstained &&
+                metrics::NumberMatches(raw_answer, c.number->value, c.number->tolerance)
+            ? 1
+            : 0;
+    scores.values["number_match"] = number;
+    correct = std::max(correct, number);
+  }
+  scores.values["correct"] = correct;
+
+  const metrics::DocumentLookup lookup = [this](const std::string& doc) {
+    return DocumentText(doc);
+  };
+  const metrics::CodePointIndexLookup indexes = [this](const std::string& doc) {
+    return DocumentIndex(doc);
+  };
+  const std::vector<metrics::GoldSpanRef> gold = GoldRefs(c);
+  const metrics::CitationScores citations = metrics::ScoreCitations(
+      ToCodePoints(response->citations, offsets, "citation", &scores.warnings), gold,
+      suite_.min_overlap, lookup, indexes);
+  if (citations.precision) scores.values["citation_precision"] = *citations.precision;
+  if (citations.recall) scores.values["citation_recall"] = *citations.recall;
+  if (citations.f1) scores.values["citation_f1"] = *citations.f1;
+  scores.warnings.insert(scores.warnings.end(), citations.warnings.begin(),
+                         citations.warnings.end());
+
+  if (response->has_retrieved && !gold.empty()) {
+    const metrics::RetrievalScores retrieval = metrics::ScoreRetrieval(
+        ToCodePoints(response->retrieved, offsets, "retrieved item", &scores.warnings), gold,
+        suite_.retrieval_k, suite_.min_overlap, lookup, indexes);
+    scores.warnings.insert(scores.warnings.end(), retrieval.warnings.begin(),
+                           retrieval.warnings.end());
+    for (const auto& [k, recall] : retrieval.recall_at) {
+      scores.values["recall@" + std::to_string(k)] = recall;
+    }
+    if (retrieval.mrr) scores.values["mrr"] = *retrieval.mrr;
+  }
+  scores.pass = Passes(scores);
+  return scores;
+}
+
+}  // namespace plumb

@@ -1,0 +1,70 @@
+#ifndef PLUMB_RUNNER_RUN_CASE_SCORER_H_
+#define PLUMB_RUNNER_RUN_CASE_SCORER_H_
+
+/// CaseScorer turns one pipeline reply into CaseScores (SPEC §6.2-6.4) using the metrics
+/// library. It is built once per suite: gold answers are normalized and patterns compiled up
+/// front, so Score() does only per-reply work. Score() is const and safe to call from several
+/// threads at once. The Suite and Corpus passed to Create must outlive the scorer.
+
+#include <map>
+#include <memory>
+#include <mutex>
+#include <string>
+#include <vector>
+
+#include "metrics/answer_metrics.h"
+#include "metrics/offset_units.h"
+#include "metrics/pattern_match.h"
+#include "metrics/span.h"
+#include "runner/pipeline/response.h"
+#include "runner/run/case_scores.h"
+#include "runner/suite/corpus.h"
+#include "runner/suite/suite.h"
+
+namespace plumb {
+
+class CaseScorer {
+ public:
+  /// `corpus` may be null when the suite has no corpus (then citations only score doc-only).
+  /// Fails when a pattern does not compile (the loader normally caught that already).
+  static std::unique_ptr<CaseScorer> Create(const Suite& suite, Corpus* corpus, std::string* error);
+
+  /// Scores case `case_index` of the suite. `response` is null when the call errored: the case
+  /// then scores 0 on every answer metric it defines, 0 citation recall where it has gold
+  /// spans, and never passes. `offsets` is the unit the pipeline reports offsets in (its
+  /// `offsets:` key); they are converted to code points first, and an offset that cannot be
+  /// converted (inside a UTF-8 sequence, splitting a surrogate pair) makes that item a miss
+  /// with a warning.
+  CaseScores Score(size_t case_index, const Response* response,
+                   metrics::OffsetUnit offsets = metrics::OffsetUnit::kCodePoints) const;
+
+  CaseScorer(const CaseScorer&) = delete;
+  CaseScorer& operator=(const CaseScorer&) = delete;
+
+ private:
+  CaseScorer(const Suite& suite, Corpus* corpus) : suite_(suite), corpus_(corpus) {}
+  const std::string* DocumentText(const std::string& doc) const;
+  /// A code-point index per document, built on first use, so a non-ASCII document is decoded
+  /// once per run rather than once per citation.
+  const metrics::CodePointIndex* DocumentIndex(const std::string& doc) const;
+  std::vector<metrics::CitedRef> ToCodePoints(const std::vector<SourceRef>& refs,
+                                              metrics::OffsetUnit unit, const char* what,
+                                              std::vector<std::string>* warnings) const;
+  bool Passes(const CaseScores& scores) const;
+
+  struct PreparedCase {
+    metrics::NormalizedGold gold;
+    metrics::PatternSet patterns;
+    bool has_patterns = false;
+  };
+
+  const Suite& suite_;
+  Corpus* corpus_;
+  std::vector<PreparedCase> prepared_;
+  mutable std::mutex index_mutex_;
+  mutable std::map<std::string, std::unique_ptr<metrics::CodePointIndex>> indexes_;
+};
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_RUN_CASE_SCORER_H_

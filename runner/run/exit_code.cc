@@ -1,0 +1,46 @@
+#include "runner/run/exit_code.h"
+
+#include <fmt/format.h>
+
+namespace plumb {
+
+RunVerdict DecideRunVerdict(const RunAggregates& run,
+                            const std::vector<ThresholdOutcome>& thresholds, double max_error_rate,
+                            bool interrupted) {
+  if (interrupted) {
+    return {kExitInterrupted,
+            fmt::format("interrupted after {} of the work items; the journal is kept, rerun with "
+                        "--resume to continue",
+                        run.items)};
+  }
+  if (run.items > 0 && run.errored == run.items) {
+    return {kExitCaseErrors, fmt::format("every one of the {} items errored; see the error "
+                                         "column of cases.jsonl for the pipeline's output",
+                                         run.items)};
+  }
+  if (run.ErrorRate() > max_error_rate) {
+    return {kExitCaseErrors,
+            fmt::format("{} of {} items errored ({:.1f}%), above max_error_rate {:.1f}%",
+                        run.errored, run.items, 100 * run.ErrorRate(), 100 * max_error_rate)};
+  }
+  int broken = 0;
+  std::string first;
+  for (const ThresholdOutcome& t : thresholds) {
+    if (t.held) continue;
+    if (broken++ == 0) {
+      const std::string scope = t.tag.empty() ? t.metric : "tag " + t.tag + " " + t.metric;
+      first = t.value ? fmt::format("{} {:.4g} {} {:.4g}", scope, *t.value, t.ceiling ? ">" : "<",
+                                    t.limit)
+                      : fmt::format("{} was not measured by any case", scope);
+    }
+  }
+  if (broken > 0) {
+    return {kExitFloorBroken,
+            fmt::format("{} threshold{} broken: {}{}", broken, broken == 1 ? "" : "s", first,
+                        broken > 1 ? ", ..." : "")};
+  }
+  if (thresholds.empty()) return {kExitOk, "no thresholds set"};
+  return {kExitOk, fmt::format("all {} thresholds held", thresholds.size())};
+}
+
+}  // namespace plumb

@@ -1,0 +1,30 @@
+#ifndef PLUMB_RUNNER_RUN_PREPARED_SUITE_H_
+#define PLUMB_RUNNER_RUN_PREPARED_SUITE_H_
+
+/// A loaded suite with what every command needs beside it: its corpus (opened, fingerprinted)
+/// and a CaseScorer. PrepareSuite prints every load error and warning to stderr, so a caller
+/// only maps failure to exit code 2.
+
+#include <memory>
+#include <string>
+
+#include "runner/run/case_scorer.h"
+#include "runner/suite/corpus.h"
+#include "runner/suite/suite.h"
+
+namespace plumb {
+
+struct PreparedSuite {
+  Suite suite;
+  std::unique_ptr<Corpus> corpus;  // null when the suite names no corpus
+  std::string corpus_fingerprint;
+  std::unique_ptr<CaseScorer> scorer;
+};
+
+/// `expand_env` false skips `${VAR}` expansion (for commands that never start a pipeline).
+bool PrepareSuite(const std::string& path, const std::string& pipelines_file, bool expand_env,
+                  PreparedSuite* out);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_RUN_PREPARED_SUITE_H_

@@ -1,0 +1,315 @@
+#include "runner/run/run_aggregates.h"
+
+#include <algorithm>
+#include <map>
+#include <set>
+#include <utility>
+
+#include "runner/base/parallel_chunks.h"
+
+namespace plumb {
+namespace {
+
+// 0/1 per case (before averaging over repeats): summarized with a Wilson interval.
+bool IsBinaryMetric(const std::string& metric) {
+  static const std::set<std::string> kBinary = {"exact_match",  "correct",   "pattern_match",
+                                                "number_match", "pass_rate", "error_rate"};
+  return kBinary.count(metric) > 0;
+}
+
+std::vector<std::string> DisplayOrder(const Suite& suite) {
+  std::vector<std::string> order = {"correct",         "exact_match",  "token_f1",
+                                    "pattern_match",   "number_match", "citation_precision",
+                                    "citation_recall", "citation_f1"};
+  for (int k : suite.retrieval_k) order.push_back("recall@" + std::to_string(k));
+  order.insert(order.end(),
+               {"mrr", "pass_rate", "abstain_precision", "abstain_recall", "error_rate"});
+  return order;
+}
+
+/// Per-case values of every metric, averaged over the case's repeats.
+struct CaseValues {
+  /// The means: the one outcome's own values, or `averaged` when the case has several.
+  const MetricValues* means = nullptr;
+  MetricValues averaged;
+  const MetricValues* first_values = nullptr;    // the first repeat's (most cases have one)
+  std::vector<const MetricValues*> more_values;  // the other repeats'
+  int repeats = 0;                               // 0: the case has no outcome
+  int passes = 0;
+  int errors = 0;
+  int abstentions = 0;  // repeats on which the reply abstained
+};
+
+/// Sets v->means: each metric averaged over the repeats that define it.
+void AverageRepeats(CaseValues* v) {
+  if (v->more_values.empty()) {
+    v->means = v->first_values;
+    return;
+  }
+  std::vector<const MetricValues*> all = {v->first_values};
+  all.insert(all.end(), v->more_values.begin(), v->more_values.end());
+  MetricValues sum, count;
+  for (const MetricValues* values : all) {
+    for (const auto& [metric, value] : *values) {
+      sum[metric] += value;
+      count[metric] += 1;
+    }
+  }
+  for (const auto& [metric, total] : sum) v->averaged[metric] = total / count.at(metric);
+  v->means = &v->averaged;
+}
+
+std::vector<MetricAggregate> Summarize(const Suite& suite,
+                                       const std::vector<const CaseValues*>& cases,
+                                       const std::vector<bool>& abstention_case) {
+  // One column of per-case values per metric. The cases mostly define the same metrics, in the
+  // same (id) order, so the column after the last one filled is tried first.
+  std::vector<std::pair<std::string_view, std::vector<double>>> columns;
+  std::vector<double> pass_rate, error_rate;
+  pass_rate.reserve(cases.size());
+  error_rate.reserve(cases.size());
+  int64_t abstained = 0, abstained_right = 0, abstention_cases = 0, abstention_cases_hit = 0;
+  for (size_t i = 0; i < cases.size(); ++i) {
+    const CaseValues& v = *cases[i];
+    size_t column = 0;
+    for (const auto& [metric, mean] : *v.means) {
+      if (column >= columns.size() || columns[column].first != metric) {
+        column = static_cast<size_t>(
+            std::find_if(columns.begin(), columns.end(),
+                         [&metric = metric](const auto& c) { return c.first == metric; }) -
+            columns.begin());
+        if (column == columns.size()) {
+          columns.emplace_back(metric, std::vector<double>());
+          columns.back().second.reserve(cases.size());
+        }
+      }
+      columns[column++].second.push_back(mean);
+    }
+    pass_rate.push_back(static_cast<double>(v.passes) / v.repeats);
+    error_rate.push_back(static_cast<double>(v.errors) / v.repeats);
+    // Abstention rates count every (case, repeat): each repeat is one decision to abstain.
+    abstained += v.abstentions;
+    if (abstention_case[i]) {
+      abstained_right += v.abstentions;
+      abstention_cases += v.repeats;
+      abstention_cases_hit += v.abstentions;
+    }
+  }
+  auto values_of = [&](const std::string& metric) -> const std::vector<double>* {
+    if (metric == "pass_rate") return &pass_rate;
+    if (metric == "error_rate") return &error_rate;
+    for (const auto& [name, values] : columns) {
+      if (name == metric) return &values;
+    }
+    return nullptr;
+  };
+  std::vector<MetricAggregate> out;
+  for (const std::string& metric : DisplayOrder(suite)) {
+    if (metric == "abstain_precision" || metric == "abstain_recall") {
+      const int64_t hits = metric == "abstain_precision" ? abstained_right : abstention_cases_hit;
+      const int64_t n = metric == "abstain_precision" ? abstained : abstention_cases;
+      if (n == 0) continue;
+      metrics::MetricSummary s;
+      s.mean = static_cast<double>(hits) / n;
+      s.n = n;
+      s.interval = metrics::WilsonInterval(hits, n);
+      s.wilson = true;
+      out.push_back({metric, s});
+      continue;
+    }
+    const std::vector<double>* values = values_of(metric);
+    if (values == nullptr || values->empty()) continue;
+    out.push_back({metric, metrics::SummarizeMetric(*values, IsBinaryMetric(metric))});
+  }
+  return out;
+}
+
+}  // namespace
+
+const metrics::MetricSummary* RunAggregates::Find(const std::string& metric,
+                                                  const std::string& tag) const {
+  const std::vector<MetricAggregate>* list = &metrics;
+  if (!tag.empty()) {
+    auto it =
+        std::find_if(tags.begin(), tags.end(), [&](const TagAggregate& t) { return t.tag == tag; });
+    if (it == tags.end()) return nullptr;
+    list = &it->metrics;
+  }
+  for (const MetricAggregate& m : *list) {
+    if (m.metric == metric) return &m.summary;
+  }
+  return nullptr;
+}
+
+RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& outcomes) {
+  RunAggregates run;
+  std::vector<CaseValues> per_case(suite.cases.size());
+  std::vector<double> latencies;
+  latencies.reserve(outcomes.size());
+  for (const CaseOutcome& o : outcomes) {
+    CaseValues& v = per_case[o.case_index];
+    (v.first_values == nullptr ? v.first_values : v.more_values.emplace_back()) = &o.scores.values;
+    v.repeats += 1;
+    v.passes += o.scores.pass ? 1 : 0;
+    v.errors += o.scores.errored ? 1 : 0;
+    v.abstentions += o.scores.abstained && !o.scores.errored ? 1 : 0;
+    run.items += 1;
+    run.errored += o.scores.errored ? 1 : 0;
+    // Latency of a failed call measures the failure (often the timeout), not the pipeline.
+    if (!o.scores.errored) latencies.push_back(o.latency_ms);
+    run.input_tokens += o.input_tokens;
+    run.output_tokens += o.output_tokens;
+  }
+  run.latency = metrics::SummarizeLatency(std::move(latencies));
+
+  // groups[0] holds the whole run's cases, then one group per tag in order of first
+  // appearance (tag_groups has them sorted); each is summarized on its own.
+  struct Group {
+    std::vector<const CaseValues*> cases;
+    std::vector<bool> abstention;
+    std::vector<MetricAggregate> metrics;
+  };
+  std::vector<Group> groups(1);
+  std::map<std::string_view, size_t> tag_groups;  // tag -> index in groups
+  std::string_view last_tag;                      // cases often share their tag with the last
+  size_t last_group = 0;
+  for (size_t index = 0; index < per_case.size(); ++index) {
+    CaseValues& values = per_case[index];
+    if (values.repeats == 0) continue;
+    AverageRepeats(&values);
+    const Case& c = suite.cases[index];
+    run.cases += 1;
+    groups[0].cases.push_back(&values);
+    groups[0].abstention.push_back(c.answers.empty());
+    if (values.passes == values.repeats) run.passed += 1;
+    // Passed on some repeats and failed on others.
+    if (values.passes > 0 && values.passes < values.repeats) run.unstable_cases.push_back(c.id);
+    for (const std::string& tag : c.tags) {
+      if (last_group == 0 || tag != last_tag) {
+        auto [it, added] = tag_groups.emplace(tag, groups.size());
+        if (added) groups.emplace_back();
+        last_tag = tag;
+        last_group = it->second;
+      }
+      groups[last_group].cases.push_back(&values);
+      groups[last_group].abstention.push_back(c.answers.empty());
+    }
+  }
+  // Each group's bootstrap costs about the same whatever its size, so the groups are shared
+  // out over the CPUs in equal numbers; every summary is seeded alike, so the results do not
+  // depend on how they are shared.
+  ForEachChunk(groups.size(), 1, [&](size_t, size_t begin, size_t end) {
+    for (size_t i = begin; i < end; ++i) {
+      groups[i].metrics = Summarize(suite, groups[i].cases, groups[i].abstention);
+    }
+  });
+  run.metrics = std::move(groups[0].metrics);
+  for (const auto& [tag, index] : tag_groups) {
+    TagAggregate t;
+    t.tag = std::string(tag);
+    t.cases = static_cast<int64_t>(groups[index].cases.size());
+    t.metrics = std::move(groups[index].metrics);
+    run.tags.push_back(std::move(t));
+  }
+  return run;
+}
+
+bool IsCeilingMetric(const std::string& metric) {
+  return metric == "error_rate" || metric == "latency_p50_ms" || metric == "latency_p95_ms";
+}
+
+namespace {
+
+std::optional<double> ThresholdValue(const RunAggregates& run, const std::string& metric,
+                                     const std::string& tag) {
+  if (tag.empty() && metric == "latency_p50_ms") {
+    if (run.latency.n == 0) return std::nullopt;
+    return run.latency.p50;
+  }
+  if (tag.empty() && metric == "latency_p95_ms") {
+    if (run.latency.n == 0) return std::nullopt;
+    return run.latency.p95;
+  }
+  const metrics::MetricSummary* s = run.Find(metric, tag);
+  if (s == nullptr) return std::nullopt;
+  return s->mean;
+}
+
+}  // namespace
+
+std::vector<ThresholdOutcome> EvaluateThresholds(const Thresholds& thresholds,
+                                                 const RunAggregates& run) {
+  std::vector<ThresholdOutcome> out;
+  auto evaluate = [&](const std::string& tag, const std::string& metric, double limit) {
+    ThresholdOutcome t;
+    t.tag = tag;
+    t.metric = metric;
+    t.limit = limit;
+    t.ceiling = IsCeilingMetric(metric);
+    t.value = ThresholdValue(run, metric, tag);
+    // A floor nothing measured cannot be said to hold.
+    t.held = t.value.has_value() && (t.ceiling ? *t.value <= limit : *t.value >= limit);
+    out.push_back(t);
+  };
+  for (const auto& [metric, limit] : thresholds.metrics) evaluate("", metric, limit);
+  for (const auto& [tag, floors] : thresholds.tags) {
+    for (const auto& [metric, limit] : floors) evaluate(tag, metric, limit);
+  }
+  return out;
+}
+
+namespace {
+
+nlohmann::json SummaryToJson(const metrics::MetricSummary& s) {
+  return {{"mean", s.mean},
+          {"n", s.n},
+          {"interval", {s.interval.low, s.interval.high}},
+          {"interval_method", s.wilson ? "wilson" : "bootstrap"}};
+}
+
+nlohmann::json MetricsToJson(const std::vector<MetricAggregate>& list) {
+  nlohmann::json out = nlohmann::json::object();
+  for (const MetricAggregate& m : list) out[m.metric] = SummaryToJson(m.summary);
+  return out;
+}
+
+}  // namespace
+
+nlohmann::json AggregatesToJson(const RunAggregates& run) {
+  nlohmann::json tags = nlohmann::json::object();
+  for (const TagAggregate& t : run.tags) {
+    tags[t.tag] = {{"cases", t.cases}, {"metrics", MetricsToJson(t.metrics)}};
+  }
+  const metrics::LatencySummary& l = run.latency;
+  return {{"cases", run.cases},
+          {"items", run.items},
+          {"errored", run.errored},
+          {"passed", run.passed},
+          {"metrics", MetricsToJson(run.metrics)},
+          {"tags", tags},
+          {"latency_ms",
+           {{"n", l.n},
+            {"p50", l.p50},
+            {"p90", l.p90},
+            {"p95", l.p95},
+            {"p99", l.p99},
+            {"mean", l.mean},
+            {"max", l.max}}},
+          {"usage", {{"input_tokens", run.input_tokens}, {"output_tokens", run.output_tokens}}},
+          {"unstable_cases", run.unstable_cases}};
+}
+
+nlohmann::json ThresholdsToJson(const std::vector<ThresholdOutcome>& outcomes) {
+  nlohmann::json out = nlohmann::json::array();
+  for (const ThresholdOutcome& t : outcomes) {
+    out.push_back({{"tag", t.tag.empty() ? nlohmann::json(nullptr) : nlohmann::json(t.tag)},
+                   {"metric", t.metric},
+                   {"limit", t.limit},
+                   {"kind", t.ceiling ? "ceiling" : "floor"},
+                   {"value", t.value ? nlohmann::json(*t.value) : nlohmann::json(nullptr)},
+                   {"held", t.held}});
+  }
+  return out;
+}
+
+}  // namespace plumb

@@ -1,0 +1,74 @@
+#ifndef PLUMB_RUNNER_RUN_RUN_AGGREGATES_H_
+#define PLUMB_RUNNER_RUN_RUN_AGGREGATES_H_
+
+/// RunAggregates summarizes a run's CaseOutcomes (SPEC §6.6): for each metric the mean over the
+/// cases where it is defined, the count and a 95% interval (Wilson for 0/1 metrics, seeded
+/// percentile bootstrap otherwise), the same per tag, latency percentiles and token usage.
+/// With repeats, each case's value is first averaged over its repeats. Thresholds (floors, and
+/// ceilings for latency and error_rate) are evaluated against these aggregates.
+
+#include <cstdint>
+#include <nlohmann/json.hpp>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "metrics/metric_summary.h"
+#include "metrics/percentile.h"
+#include "runner/run/scheduler.h"
+#include "runner/suite/suite.h"
+
+namespace plumb {
+
+struct MetricAggregate {
+  std::string metric;
+  metrics::MetricSummary summary;
+};
+
+struct TagAggregate {
+  std::string tag;
+  int64_t cases = 0;
+  std::vector<MetricAggregate> metrics;
+};
+
+struct RunAggregates {
+  int64_t cases = 0;                     // distinct cases with at least one finished repeat
+  int64_t items = 0;                     // finished (case, repeat) items
+  int64_t errored = 0;                   // errored items
+  int64_t passed = 0;                    // cases whose every repeat passed
+  std::vector<MetricAggregate> metrics;  // in display order
+  std::vector<TagAggregate> tags;        // sorted by tag
+  metrics::LatencySummary latency;       // over items that did not error
+  int64_t input_tokens = 0;
+  int64_t output_tokens = 0;
+  std::vector<std::string> unstable_cases;  // pass/fail differs between repeats
+
+  /// The aggregate for `metric` at run level (`tag` empty) or for a tag; null when absent.
+  const metrics::MetricSummary* Find(const std::string& metric, const std::string& tag = "") const;
+  double ErrorRate() const { return items == 0 ? 0 : static_cast<double>(errored) / items; }
+};
+
+RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& outcomes);
+
+/// One threshold and whether it held.
+struct ThresholdOutcome {
+  std::string tag;  // empty: run level
+  std::string metric;
+  double limit = 0;
+  bool ceiling = false;         // latency_*_ms and error_rate: the value must stay at or below
+  std::optional<double> value;  // absent when no case defines the metric (counts as broken)
+  bool held = false;
+};
+
+/// True for the metric ids whose threshold is a ceiling rather than a floor.
+bool IsCeilingMetric(const std::string& metric);
+
+std::vector<ThresholdOutcome> EvaluateThresholds(const Thresholds& thresholds,
+                                                 const RunAggregates& aggregates);
+
+nlohmann::json AggregatesToJson(const RunAggregates& aggregates);
+nlohmann::json ThresholdsToJson(const std::vector<ThresholdOutcome>& outcomes);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_RUN_RUN_AGGREGATES_H_

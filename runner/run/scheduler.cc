@@ -1,0 +1,130 @@
+#include "runner/run/scheduler.h"
+
+#include <thread>
+
+#include "runner/pipeline/excerpt.h"
+
+namespace plumb {
+namespace {
+
+// Bytes of an invalid reply kept in the error details, like the adapters' excerpts.
+constexpr size_t kExcerptBytes = 2048;
+
+}  // namespace
+
+CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
+                          const PipelineConfig& pipeline, const CaseScorer& scorer,
+                          size_t case_index, nlohmann::json* parsed_body) {
+  const std::vector<std::string>& secrets = pipeline.secrets;
+  const ResponseMap map = ResponseMap::FromConfig(pipeline.map);
+  CaseRecord record;
+  record.id = c.id;
+  record.repeat = repeat;
+  record.request = PipelineRequest::RequestLine(c.id, c.question, c.input, repeat);
+  record.latency_ms = call.latency_ms;
+  record.attempts = call.attempts;
+  // A pipeline may echo a secret it was given; nothing it says reaches a file unredacted.
+  const std::string redacted = secrets.empty() ? std::string() : RedactSecrets(call.body, secrets);
+  const std::string& body = secrets.empty() ? call.body : redacted;
+  if (!call.error.empty()) {
+    record.error = call.error;
+    record.stdout_excerpt = call.stdout_excerpt;
+    record.stderr_excerpt = call.stderr_excerpt;
+    record.response = RecordedBody(body, nullptr);
+  } else {
+    nlohmann::json parsed = parsed_body != nullptr
+                                ? std::move(*parsed_body)
+                                : nlohmann::json::parse(body, nullptr, /*allow_exceptions=*/false);
+    std::string parse_error;
+    if (parsed.is_discarded()) {
+      record.error = "response is not valid JSON";
+    } else if (!ParseResponseJson(parsed, map, &record.parsed, &parse_error)) {
+      record.error = parse_error;
+    }
+    if (!record.error.empty()) {
+      record.stdout_excerpt = HeadExcerpt(body, kExcerptBytes, {});
+      record.stderr_excerpt = call.stderr_excerpt;
+      record.parsed = Response();
+      record.response = RecordedBody(body, nullptr);
+    } else {
+      record.response = RecordedBody(body, &parsed);
+    }
+  }
+  record.scores =
+      scorer.Score(case_index, record.error.empty() ? &record.parsed : nullptr, pipeline.offsets);
+  return record;
+}
+
+CaseOutcome OutcomeOf(CaseRecord&& record, size_t case_index) {
+  CaseScores scores = std::move(record.scores);
+  record.scores = CaseScores();
+  CaseOutcome outcome = OutcomeOf(record, case_index);
+  outcome.scores = std::move(scores);
+  return outcome;
+}
+
+CaseOutcome OutcomeOf(const CaseRecord& record, size_t case_index) {
+  CaseOutcome outcome;
+  outcome.case_index = case_index;
+  outcome.repeat = record.repeat;
+  outcome.scores = record.scores;
+  outcome.latency_ms = record.latency_ms;
+  outcome.attempts = record.attempts;
+  outcome.input_tokens = record.parsed.input_tokens.value_or(0);
+  outcome.output_tokens = record.parsed.output_tokens.value_or(0);
+  return outcome;
+}
+
+ScheduleResult RunSchedule(const ScheduleInputs& in) {
+  const std::vector<WorkItem>& items = *in.items;
+  std::vector<CaseOutcome> outcomes(items.size());
+  std::vector<char> finished(items.size(), 0);
+  std::atomic<size_t> next{0};
+  std::atomic<bool> failed{false};
+  std::string fatal_error;
+  std::mutex fatal_mutex;
+  auto stopping = [&] { return failed.load() || (in.stop != nullptr && in.stop->load()); };
+
+  auto worker = [&](int slot) {
+    while (!stopping()) {
+      const size_t i = next.fetch_add(1);
+      if (i >= items.size()) return;
+      const WorkItem& item = items[i];
+      const Case& c = in.suite->cases[item.case_index];
+      const PipelineRequest request{c.id, c.question, CaseInput(c), item.repeat};
+      CallResult call = in.adapter->Call(request, slot);
+      // A call cut short by the interrupt is not the pipeline's fault: leave it unjournaled so
+      // --resume sends it again.
+      if (!call.error.empty() && stopping()) return;
+      CaseRecord record =
+          MakeCaseRecord(c, item.repeat, call, *in.pipeline, *in.scorer, item.case_index);
+      std::string error;
+      if (!in.journal->AppendLine(CaseRecordLine(record), &error)) {
+        std::lock_guard<std::mutex> lock(fatal_mutex);
+        fatal_error = error;
+        failed = true;
+        return;
+      }
+      outcomes[i] = OutcomeOf(record, item.case_index);
+      finished[i] = 1;
+      if (in.progress != nullptr) in.progress->Tick(record.scores.errored);
+    }
+  };
+
+  const int slots = std::max(1, in.adapter->slots());
+  std::vector<std::thread> threads;
+  threads.reserve(static_cast<size_t>(slots));
+  for (int slot = 0; slot < slots; ++slot) threads.emplace_back(worker, slot);
+  for (std::thread& t : threads) t.join();
+
+  ScheduleResult result;
+  result.interrupted = in.stop != nullptr && in.stop->load();
+  result.fatal_error = fatal_error;
+  result.outcomes.reserve(items.size());
+  for (size_t i = 0; i < items.size(); ++i) {
+    if (finished[i]) result.outcomes.push_back(std::move(outcomes[i]));
+  }
+  return result;
+}
+
+}  // namespace plumb

@@ -1,0 +1,79 @@
+#ifndef PLUMB_RUNNER_RUN_SCHEDULER_H_
+#define PLUMB_RUNNER_RUN_SCHEDULER_H_
+
+/// The scheduler drives one pipeline over a list of (case, repeat) work items: `adapter.slots()`
+/// worker threads each take the next item, call the adapter, parse and score the reply, and
+/// append the record to the journal as soon as it finishes. Only small CaseOutcomes stay in
+/// memory (scores, latency), never reply bodies, so memory grows with cases, not responses.
+/// A call that fails costs its case (recorded as a case error), never the run.
+
+#include <atomic>
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include "runner/pipeline/adapter.h"
+#include "runner/pipeline/response.h"
+#include "runner/run/case_record.h"
+#include "runner/run/case_scorer.h"
+#include "runner/run/case_scores.h"
+#include "runner/run/progress.h"
+#include "runner/run/run_journal.h"
+#include "runner/suite/suite.h"
+
+namespace plumb {
+
+struct WorkItem {
+  size_t case_index = 0;
+  int repeat = 0;
+};
+
+/// What the run keeps of a finished item after its record went to the journal.
+struct CaseOutcome {
+  size_t case_index = 0;
+  int repeat = 0;
+  CaseScores scores;
+  double latency_ms = 0;
+  int attempts = 1;
+  int64_t input_tokens = 0;
+  int64_t output_tokens = 0;
+};
+
+struct ScheduleResult {
+  std::vector<CaseOutcome> outcomes;  // finished items, in work-list order
+  bool interrupted = false;           // `stop` was raised; unfinished items are not journaled
+  std::string fatal_error;            // e.g. the journal could not be written; the run stops
+};
+
+struct ScheduleInputs {
+  const Suite* suite = nullptr;
+  const std::vector<WorkItem>* items = nullptr;
+  Adapter* adapter = nullptr;
+  const CaseScorer* scorer = nullptr;
+  RunJournal* journal = nullptr;
+  const PipelineConfig* pipeline = nullptr;
+  Progress* progress = nullptr;
+  /// Raised (e.g. by a SIGINT watcher) to stop taking new items; in-flight calls that then fail
+  /// are treated as interrupted, not as case errors, so --resume runs them again.
+  const std::atomic<bool>* stop = nullptr;
+};
+
+ScheduleResult RunSchedule(const ScheduleInputs& inputs);
+
+/// Builds the journal record and outcome for one reply; shared by `plumb run` (replies from an
+/// adapter) and `plumb score` (recorded replies).
+/// `pipeline` supplies the reply map, the offset unit and the secrets to redact; `plumb score`
+/// passes a default PipelineConfig. `parsed_body`, when not null, is call.body already parsed
+/// as JSON by the caller (valid, and from a pipeline without secrets): it is used, and moved
+/// from, instead of parsing the body a second time.
+CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
+                          const PipelineConfig& pipeline, const CaseScorer& scorer,
+                          size_t case_index, nlohmann::json* parsed_body = nullptr);
+
+CaseOutcome OutcomeOf(const CaseRecord& record, size_t case_index);
+/// The same, taking the scores out of a record that is no longer needed.
+CaseOutcome OutcomeOf(CaseRecord&& record, size_t case_index);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_RUN_SCHEDULER_H_

@@ -1,0 +1,81 @@
+#ifndef PLUMB_RUNNER_SUITE_CORPUS_H_
+#define PLUMB_RUNNER_SUITE_CORPUS_H_
+
+/// The document collection a suite's gold spans point into (SPEC §4 `corpus`). The suite loader
+/// opens it to locate quotes and check offsets; scoring opens it to locate quote citations; the
+/// run records its Fingerprint() so drift can tell that the corpus changed.
+
+#include <cstdint>
+#include <map>
+#include <memory>
+#include <mutex>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace plumb {
+
+/// One corpus document, read whole. `text` is valid UTF-8 (Get refuses other files).
+struct Document {
+  std::string id;    // path relative to the corpus dir, "/" separators
+  std::string text;  // the file's bytes, unchanged
+  int64_t length_cp = 0;
+  std::string sha256;  // of `text`
+  /// Byte offset of every kCheckpointStride-th code point, so code-point/byte conversions cost
+  /// O(stride) instead of a walk from the start. Filled by Corpus::Get for non-ASCII text;
+  /// empty means "walk" (ASCII text, or a Document built by hand).
+  std::vector<size_t> checkpoints;
+  static constexpr int64_t kCheckpointStride = 64;
+};
+
+/// Documents larger than this are refused, like suite files (runner/suite/suite_loader.h).
+constexpr int64_t kMaxDocumentBytes = int64_t{64} << 20;
+
+class Corpus {
+ public:
+  Corpus() = default;
+  Corpus(const Corpus&) = delete;
+  Corpus& operator=(const Corpus&) = delete;
+
+  /// Opens the corpus rooted at `dir`. False with a sentence in *error when `dir` is not a
+  /// readable directory. Reads no document yet.
+  bool Open(const std::string& dir, std::string* error);
+
+  /// The document `doc_id`, read on first use and cached. A doc id must be a relative path with
+  /// "/" separators and no ".", ".." or empty components, no backslash, and must resolve (after
+  /// following symlinks) to a regular file inside the corpus dir; anything else, an unreadable
+  /// file, a file over kMaxDocumentBytes or one that is not valid UTF-8 gives nullptr and a
+  /// sentence naming the id in *error. Thread-safe (the cache is locked); the returned Document
+  /// lives as long as the Corpus and is never modified.
+  const Document* Get(const std::string& doc_id, std::string* error);
+
+  /// SHA-256 over the sorted (id, SHA-256 of bytes) of every regular file under the corpus dir,
+  /// recursively, not following symlinks; a file that cannot be read contributes its id and
+  /// the word "unreadable". Reads every file on each call: compute it once per run.
+  std::string Fingerprint() const;
+
+  const std::string& dir() const { return dir_; }
+
+ private:
+  std::string dir_;           // as given to Open
+  std::string resolved_dir_;  // realpath of dir_, no trailing '/'
+  std::mutex mutex_;
+  std::map<std::string, std::unique_ptr<Document>> documents_;
+};
+
+/// Locates `quote` in `doc`: the first exact occurrence, or failing that the first occurrence
+/// when runs of Unicode whitespace (White_Space) in both the document and the quote count as a
+/// single space and the quote's leading and trailing whitespace is ignored. On success sets the
+/// code-point span [*start_cp, *end_cp) in the original text and *occurrences: how often the
+/// quote occurs verbatim (overlapping occurrences included), or 1 for a whitespace-collapsed
+/// match, which is metrics::LocateQuote's rule and is not counted further. Returns false, with
+/// *occurrences = 0, when the quote is not found or is empty or all whitespace.
+bool FindQuote(const Document& doc, std::string_view quote, int64_t* start_cp, int64_t* end_cp,
+               int* occurrences);
+
+/// The text of code points [start_cp, end_cp) of `doc`; clamped to the document.
+std::string_view CodePointSlice(const Document& doc, int64_t start_cp, int64_t end_cp);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_SUITE_CORPUS_H_

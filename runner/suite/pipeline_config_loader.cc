@@ -1,0 +1,412 @@
+#include "runner/suite/pipeline_config_loader.h"
+
+#include <algorithm>
+#include <cctype>
+#include <cmath>
+#include <string>
+
+#include "runner/suite/did_you_mean.h"
+#include "runner/suite/env_expand.h"
+
+namespace plumb {
+namespace {
+
+const std::vector<std::string> kSubprocessKeys = {"command", "mode", "env", "cwd"};
+const std::vector<std::string> kHttpKeys = {"url",     "method", "headers", "body",
+                                            "retries", "rate",   "insecure"};
+const std::vector<std::string> kCommonKeys = {"timeout", "jobs", "max_response_bytes", "map",
+                                              "offsets"};
+const std::vector<std::string> kMapKeys = {"answer",    "abstained", "citations",
+                                           "retrieved", "usage",     "fields"};
+const std::vector<std::string> kCitationFieldKeys = {"doc", "start", "end", "quote"};
+const std::vector<std::string> kBodyPlaceholders = {"id", "question", "repeat", "input"};
+
+bool Contains(const std::vector<std::string>& names, const std::string& name) {
+  return std::find(names.begin(), names.end(), name) != names.end();
+}
+
+// A non-negative decimal ("12", "0.5") at the start of `text`; the rest goes to *rest.
+bool LeadingNumber(std::string_view text, double* value, std::string_view* rest) {
+  size_t i = 0;
+  while (i < text.size() && text[i] >= '0' && text[i] <= '9') ++i;
+  if (i == 0) return false;
+  if (i < text.size() && text[i] == '.') {
+    size_t fraction = ++i;
+    while (i < text.size() && text[i] >= '0' && text[i] <= '9') ++i;
+    if (i == fraction) return false;
+  }
+  *value = std::stod(std::string(text.substr(0, i)));
+  *rest = text.substr(i);
+  return true;
+}
+
+bool IsJsonPointer(const std::string& pointer) {
+  if (!pointer.empty() && pointer[0] != '/') return false;
+  // RFC 6901 §3: '~' only in the escapes ~0 and ~1.
+  for (size_t i = 0; i < pointer.size(); ++i) {
+    if (pointer[i] == '~' &&
+        (i + 1 == pointer.size() || (pointer[i + 1] != '0' && pointer[i + 1] != '1'))) {
+      return false;
+    }
+  }
+  return true;
+}
+
+class PipelineReader {
+ public:
+  PipelineReader(bool expand_env, NodeChecker* check) : expand_env_(expand_env), check_(*check) {}
+
+  void Read(const SourceEntry& entry, PipelineConfig* config) {
+    config->pos = check_.Pos(entry.key);
+    const SourceNode& node = entry.value;
+    std::vector<std::string> valid = kSubprocessKeys;
+    valid.insert(valid.end(), kHttpKeys.begin(), kHttpKeys.end());
+    valid.insert(valid.end(), kCommonKeys.begin(), kCommonKeys.end());
+    auto keys = check_.Keys(node, valid, "in pipeline '" + config->name + "'", "a pipeline config");
+    if (!node.IsMapping()) return;
+    config->redacted_config = SourceNodeToJson(node);
+
+    bool has_command = keys.count("command") > 0;
+    bool has_url = keys.count("url") > 0;
+    if (has_command == has_url) {
+      check_.Error(entry.key,
+                   has_command ? "pipeline '" + config->name + "' has both 'command' and 'url'"
+                               : "pipeline '" + config->name + "' has neither 'command' nor 'url'",
+                   "give 'command' for a subprocess pipeline or 'url' for an HTTP one");
+    }
+    config->kind = has_url && !has_command ? PipelineKind::kHttp : PipelineKind::kSubprocess;
+    if (has_command != has_url) {
+      const std::vector<std::string>& foreign =
+          config->kind == PipelineKind::kHttp ? kSubprocessKeys : kHttpKeys;
+      for (const auto& [key, key_entry] : keys) {
+        if (!Contains(foreign, key)) continue;
+        check_.Error(key_entry->key,
+                     "'" + key + "' applies to " +
+                         (config->kind == PipelineKind::kHttp ? "subprocess pipelines ('command')"
+                                                              : "HTTP pipelines ('url')") +
+                         ", and pipeline '" + config->name + "' is " +
+                         (config->kind == PipelineKind::kHttp ? "an HTTP one" : "a subprocess"),
+                     "remove it");
+      }
+    }
+
+    for (const auto& [key, key_entry] : keys) {
+      const SourceNode& value = key_entry->value;
+      if (key == "command") {
+        ReadCommand(value, config);
+      } else if (key == "mode") {
+        std::string mode;
+        if (!check_.String(value, key, &mode)) continue;
+        if (mode == "persistent") {
+          config->mode = SubprocessMode::kPersistent;
+        } else if (mode == "per-case") {
+          config->mode = SubprocessMode::kPerCase;
+        } else {
+          check_.Error(value, "unknown mode '" + mode + "'",
+                       DidYouMeanHint(mode, {"persistent", "per-case"}, "modes"));
+        }
+      } else if (key == "env") {
+        ReadExpandedMap(value, key, config, &config->env, &config->redacted_config["env"]);
+        for (const auto& [name, expanded] : config->env) {
+          if (!IsNameOf(name, "_") || (name[0] >= '0' && name[0] <= '9')) {
+            for (const SourceEntry& e : value.entries) {
+              if (e.key.scalar == name) {
+                check_.Error(e.key, "'" + name + "' is not a valid environment variable name",
+                             "use letters, digits and '_', not starting with a digit");
+              }
+            }
+          }
+        }
+      } else if (key == "cwd") {
+        ExpandedString cwd;
+        if (ReadExpanded(value, key, config, &cwd)) {
+          config->redacted_config["cwd"] = cwd.redacted;
+          config->cwd = cwd;
+        }
+      } else if (key == "url") {
+        ExpandedString url;
+        if (!ReadExpanded(value, key, config, &url)) continue;
+        config->redacted_config["url"] = url.redacted;
+        if (url.value.rfind("http://", 0) != 0 && url.value.rfind("https://", 0) != 0) {
+          check_.Error(value,
+                       "'url' must start with http:// or https://, got '" + url.redacted + "'");
+        }
+        config->url = url;
+      } else if (key == "method") {
+        std::string method;
+        if (!check_.String(value, key, &method)) continue;
+        std::transform(method.begin(), method.end(), method.begin(),
+                       [](unsigned char c) { return char(std::toupper(c)); });
+        if (!Contains({"GET", "POST", "PUT", "PATCH"}, method)) {
+          check_.Error(value, "unsupported HTTP method '" + value.scalar + "'",
+                       "use GET, POST, PUT or PATCH");
+          continue;
+        }
+        config->method = method;
+      } else if (key == "headers") {
+        ReadExpandedMap(value, key, config, &config->headers, &config->redacted_config["headers"]);
+      } else if (key == "body") {
+        CheckPlaceholders(value);
+        config->body = SourceNodeToJson(value);
+      } else if (key == "map") {
+        ReadMap(value, config);
+      } else if (key == "retries") {
+        int64_t retries;
+        if (!check_.Int(value, key, &retries)) continue;
+        if (retries < 0 || retries > 100) {
+          check_.Error(value, "'retries' is " + value.scalar + ", out of range",
+                       "expected an integer from 0 to 100");
+          continue;
+        }
+        config->retries = int(retries);
+      } else if (key == "rate") {
+        std::string rate;
+        if (!ScalarAsString(value, &rate) || !ParseRate(rate, &config->rate_per_second)) {
+          check_.Error(value, "invalid rate " + DescribeValue(value),
+                       "write requests per second or minute, e.g. 20/s or 100/m");
+        }
+      } else if (key == "insecure") {
+        check_.Bool(value, key, &config->insecure);
+      } else if (key == "timeout") {
+        std::string text;
+        if (!ScalarAsString(value, &text) || !ParseDuration(text, &config->timeout_ms)) {
+          check_.Error(value, "invalid timeout " + DescribeValue(value),
+                       "write a duration such as 30s, 500ms or 2m, or a number of seconds");
+        }
+      } else if (key == "jobs") {
+        int64_t jobs;
+        if (!check_.Int(value, key, &jobs)) continue;
+        if (jobs < 1 || jobs > 1024) {
+          check_.Error(value, "'jobs' is " + value.scalar + ", out of range",
+                       "expected an integer from 1 to 1024");
+          continue;
+        }
+        config->jobs = int(jobs);
+      } else if (key == "max_response_bytes") {
+        std::string text;
+        if (!ScalarAsString(value, &text) || !ParseByteSize(text, &config->max_response_bytes)) {
+          check_.Error(value, "invalid max_response_bytes " + DescribeValue(value),
+                       "write a size such as 16MiB or 512KiB, or a number of bytes");
+        }
+      } else if (key == "offsets") {
+        std::string unit;
+        if (!check_.String(value, key, &unit)) continue;
+        if (!metrics::ParseOffsetUnit(unit, &config->offsets)) {
+          check_.Error(value, "unknown offset unit '" + unit + "'",
+                       DidYouMeanHint(unit, {"codepoints", "utf8", "utf16"}, "units"));
+        }
+      }
+    }
+    std::sort(config->secrets.begin(), config->secrets.end());
+    config->secrets.erase(std::unique(config->secrets.begin(), config->secrets.end()),
+                          config->secrets.end());
+  }
+
+ private:
+  static std::string DescribeValue(const SourceNode& value) {
+    return value.IsScalar() ? "'" + value.scalar + "'" : "(" + DescribeNode(value) + ")";
+  }
+
+  bool ReadExpanded(const SourceNode& node, const std::string& field, PipelineConfig* config,
+                    ExpandedString* out) {
+    std::string templ;
+    if (!check_.String(node, field, &templ)) return false;
+    std::string error;
+    bool ok = expand_env_ ? ExpandEnv(templ, out, &config->secrets, &error)
+                          : RedactEnv(templ, out, &error);
+    if (!ok) {
+      check_.Error(node, error + " (in '" + field + "')",
+                   "'${NAME}' takes its value from the environment plumb runs in; '$$' is a "
+                   "literal '$'");
+    }
+    return ok;
+  }
+
+  void ReadCommand(const SourceNode& node, PipelineConfig* config) {
+    nlohmann::json redacted;
+    if (node.IsScalar()) {
+      // One string is argv[0] alone: plumb never splits on spaces the way a shell would.
+      ExpandedString item;
+      if (ReadExpanded(node, "command", config, &item)) {
+        redacted = item.redacted;
+        config->command.push_back(item);
+      }
+    } else if (check_.Sequence(node, "command", "strings")) {
+      redacted = nlohmann::json::array();
+      if (node.items.empty()) {
+        check_.Error(node, "'command' is empty", "give the program and its arguments");
+      }
+      for (const SourceNode& item_node : node.items) {
+        ExpandedString item;
+        if (!ReadExpanded(item_node, "command", config, &item)) continue;
+        redacted.push_back(item.redacted);
+        config->command.push_back(item);
+      }
+    }
+    if (!config->command.empty() && config->command[0].value.empty()) {
+      check_.Error(node, "the program in 'command' is empty");
+    }
+    config->redacted_config["command"] = redacted;
+  }
+
+  void ReadExpandedMap(const SourceNode& node, const std::string& field, PipelineConfig* config,
+                       std::map<std::string, ExpandedString>* out, nlohmann::json* redacted) {
+    std::vector<std::pair<const SourceNode*, const SourceNode*>> entries;
+    check_.StringMap(node, field, &entries);
+    *redacted = nlohmann::json::object();
+    for (const auto& [key, value] : entries) {
+      ExpandedString expanded;
+      if (!ReadExpanded(*value, field + "." + key->scalar, config, &expanded)) continue;
+      (*redacted)[key->scalar] = expanded.redacted;
+      (*out)[key->scalar] = expanded;
+    }
+  }
+
+  void ReadMap(const SourceNode& node, PipelineConfig* config) {
+    auto keys = check_.Keys(node, kMapKeys, "in 'map'", "'map'");
+    for (const auto& [key, entry] : keys) {
+      if (key == "fields") {
+        auto fields =
+            check_.Keys(entry->value, kCitationFieldKeys, "in 'map.fields'", "'map.fields'");
+        for (const auto& [field, field_entry] : fields) {
+          std::string name;
+          if (!check_.NonEmptyString(field_entry->value, "map.fields." + field, &name)) continue;
+          config->map["fields." + field] = name;
+        }
+        continue;
+      }
+      std::string pointer;
+      if (!check_.String(entry->value, "map." + key, &pointer)) continue;
+      if (!IsJsonPointer(pointer)) {
+        check_.Error(entry->value, "'map." + key + "' is not a JSON Pointer: '" + pointer + "'",
+                     "RFC 6901 pointers are \"\" or start with '/', e.g. /data/text");
+        continue;
+      }
+      config->map[key] = pointer;
+    }
+  }
+
+  // {{NAME}} in any body string must name a request field the adapter can fill in.
+  void CheckPlaceholders(const SourceNode& node) {
+    if (node.IsSequence()) {
+      for (const SourceNode& item : node.items) CheckPlaceholders(item);
+      return;
+    }
+    if (node.IsMapping()) {
+      for (const SourceEntry& entry : node.entries) CheckPlaceholders(entry.value);
+      return;
+    }
+    if (!node.IsScalar()) return;
+    const std::string& text = node.scalar;
+    for (size_t open = text.find("{{"); open != std::string::npos;
+         open = text.find("{{", open + 2)) {
+      size_t close = text.find("}}", open + 2);
+      if (close == std::string::npos) {
+        check_.Error(node, "unterminated '{{' in 'body'",
+                     "write {{question}}, {{id}} or {{input.KEY}}");
+        return;
+      }
+      std::string name = text.substr(open + 2, close - open - 2);
+      std::string head = name.substr(0, name.find('.'));
+      bool valid = Contains(kBodyPlaceholders, name) ||
+                   (head == "input" && name.size() > 6 && name[5] == '.');
+      if (!valid) {
+        check_.Error(node, "unknown placeholder '{{" + name + "}}' in 'body'",
+                     DidYouMeanHint(name, kBodyPlaceholders, "placeholders") +
+                         (ClosestName(name, kBodyPlaceholders).empty() ? ", input.KEY" : ""));
+      }
+      open = close;
+    }
+  }
+
+  bool expand_env_;
+  NodeChecker& check_;
+};
+
+}  // namespace
+
+void ReadPipelines(const SourceNode& pipelines, bool expand_env, NodeChecker* check,
+                   std::vector<PipelineConfig>* out) {
+  if (!check->Mapping(pipelines, "pipelines")) return;
+  PipelineReader reader(expand_env, check);
+  std::map<std::string, const SourceNode*> seen;
+  for (const SourceEntry& entry : pipelines.entries) {
+    PipelineConfig config;
+    if (!ScalarAsString(entry.key, &config.name)) {
+      check->Error(entry.key, "a pipeline name must be a string, got " + DescribeNode(entry.key));
+      continue;
+    }
+    // The name becomes a directory (DIR/<pipeline>/) when several pipelines run.
+    if (!IsNameOf(config.name, "._-") || config.name == "." || config.name == "..") {
+      check->Error(entry.key, "invalid pipeline name '" + config.name + "'",
+                   "use letters, digits, '.', '_' and '-'");
+    }
+    auto [it, inserted] = seen.emplace(config.name, &entry.key);
+    if (!inserted) {
+      check->Error(entry.key, "duplicate pipeline '" + config.name + "'",
+                   "first defined at " + FormatPos(check->Pos(*it->second)));
+      continue;
+    }
+    reader.Read(entry, &config);
+    out->push_back(std::move(config));
+  }
+}
+
+bool ParseDuration(std::string_view text, int64_t* milliseconds) {
+  double value;
+  std::string_view unit;
+  if (!LeadingNumber(text, &value, &unit)) return false;
+  double scale;
+  if (unit.empty() || unit == "s") {
+    scale = 1000;
+  } else if (unit == "ms") {
+    scale = 1;
+  } else if (unit == "m") {
+    scale = 60000;
+  } else {
+    return false;
+  }
+  double ms = std::round(value * scale);
+  if (ms < 1 || ms > 1e12) return false;
+  *milliseconds = int64_t(ms);
+  return true;
+}
+
+bool ParseByteSize(std::string_view text, int64_t* bytes) {
+  double value;
+  std::string_view unit;
+  if (!LeadingNumber(text, &value, &unit)) return false;
+  if (value != std::floor(value)) return false;
+  double scale;
+  if (unit.empty() || unit == "B") {
+    scale = 1;
+  } else if (unit == "KiB") {
+    scale = 1024;
+  } else if (unit == "MiB") {
+    scale = 1024.0 * 1024;
+  } else if (unit == "GiB") {
+    scale = 1024.0 * 1024 * 1024;
+  } else {
+    return false;
+  }
+  double total = value * scale;
+  if (total < 1 || total > 9e15) return false;
+  *bytes = int64_t(total);
+  return true;
+}
+
+bool ParseRate(std::string_view text, double* per_second) {
+  double value;
+  std::string_view unit;
+  if (!LeadingNumber(text, &value, &unit)) return false;
+  if (unit == "/s") {
+    *per_second = value;
+  } else if (unit == "/m") {
+    *per_second = value / 60;
+  } else {
+    return false;
+  }
+  return *per_second > 0;
+}
+
+}  // namespace plumb

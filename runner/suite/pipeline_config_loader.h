@@ -1,0 +1,38 @@
+#ifndef PLUMB_RUNNER_SUITE_PIPELINE_CONFIG_LOADER_H_
+#define PLUMB_RUNNER_SUITE_PIPELINE_CONFIG_LOADER_H_
+
+/// Reads a suite's (or a --pipelines file's) `pipelines:` block (SPEC §5) into PipelineConfigs:
+/// validates every key, expands `${VAR}` in command items, env values, cwd, url and header
+/// values, and keeps a redacted copy of the config for run.json. Called by the suite loader.
+///
+/// Keys: subprocess pipelines (`command`) take mode, env, cwd; HTTP pipelines (`url`) take
+/// method, headers, body, retries, rate, insecure; both take timeout, jobs, max_response_bytes,
+/// map and offsets (the last two describe the reply, which both adapters parse the same way).
+
+#include <cstdint>
+#include <string_view>
+#include <vector>
+
+#include "runner/suite/node_checker.h"
+#include "runner/suite/source_node.h"
+#include "runner/suite/suite.h"
+
+namespace plumb {
+
+/// Appends one PipelineConfig per entry of the `pipelines` mapping, in file order, reporting
+/// every problem through *check. With `expand_env` false nothing is read from the environment:
+/// each ExpandedString's value is its template unchanged (see RedactEnv), for commands that
+/// load a suite without running its pipelines.
+void ReadPipelines(const SourceNode& pipelines, bool expand_env, NodeChecker* check,
+                   std::vector<PipelineConfig>* out);
+
+/// "500ms", "30s", "2m" (decimals allowed) or a bare number of seconds, > 0. False otherwise.
+bool ParseDuration(std::string_view text, int64_t* milliseconds);
+/// "16MiB", "512KiB", "1GiB", "100B" or a bare number of bytes, > 0. False otherwise.
+bool ParseByteSize(std::string_view text, int64_t* bytes);
+/// "20/s" or "100/m" (decimals allowed), > 0, as requests per second. False otherwise.
+bool ParseRate(std::string_view text, double* per_second);
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_SUITE_PIPELINE_CONFIG_LOADER_H_

@@ -1,0 +1,136 @@
+#ifndef PLUMB_RUNNER_SUITE_SUITE_H_
+#define PLUMB_RUNNER_SUITE_SUITE_H_
+
+/// The in-memory form of a suite file (SPEC §4) and its pipelines (§5), as the suite loader
+/// produces it: every path resolved, every quote located, every `${VAR}` expanded. Later stages
+/// (scheduler, scoring, reports) read a Suite and never the YAML.
+
+#include <cstdint>
+#include <map>
+#include <nlohmann/json.hpp>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "metrics/normalize.h"
+#include "metrics/offset_units.h"
+#include "runner/suite/case_id_index.h"
+#include "runner/suite/diagnostic.h"
+
+namespace plumb {
+
+/// One gold source span. After loading, `start`/`end` are always set: code-point offsets,
+/// half-open, into the document's UTF-8 text, whether the suite gave offsets or a quote.
+struct GoldSpan {
+  std::string doc;                   // path relative to the corpus dir, "/" separators
+  std::optional<std::string> quote;  // as written in the suite, when given
+  int64_t start = 0;
+  int64_t end = 0;
+  std::string text;  // the document's text in [start, end) at load time
+  SourcePos pos;     // where the span is written in the suite
+};
+
+struct NumberGold {
+  double value = 0;
+  double tolerance = 0;
+  std::string unit;  // informational; not used for matching
+};
+
+struct Case {
+  std::string id;
+  std::string question;
+  std::vector<std::string> answers;   // empty: the pipeline must abstain
+  std::vector<std::string> patterns;  // RE2 syntax, validated by the loader
+  std::optional<NumberGold> number;
+  std::vector<GoldSpan> sources;
+  std::vector<std::string> tags;
+  /// Passed to the pipeline untouched. Null when the case gives none (most do): the request
+  /// then carries {} (CaseInput), and loading a large suite allocates nothing for it.
+  nlohmann::json input;
+  SourcePos pos;  // where the case starts
+  /// Hash of everything that defines the case's gold (question, answers, patterns, number,
+  /// sources with their text, tags). Drift pairs cases whose gold_hash is equal.
+  std::string gold_hash;
+};
+
+/// The case's `input` as the request carries it: the case's object, or {} when it gave none.
+const nlohmann::json& CaseInput(const Case& c);
+
+/// A string from the pipeline config after `${VAR}` expansion, with its redacted form: the
+/// template with every expansion replaced by "***". Output files only ever see `redacted`.
+struct ExpandedString {
+  std::string value;
+  std::string redacted;
+};
+
+enum class PipelineKind { kSubprocess, kHttp };
+enum class SubprocessMode { kPersistent, kPerCase };
+
+struct PipelineConfig {
+  std::string name;
+  PipelineKind kind = PipelineKind::kSubprocess;
+  SourcePos pos;
+
+  // Subprocess adapter (§5).
+  std::vector<ExpandedString> command;  // argv; executed without a shell
+  SubprocessMode mode = SubprocessMode::kPersistent;
+  std::optional<ExpandedString> cwd;
+  std::map<std::string, ExpandedString> env;  // added to the inherited environment
+
+  // HTTP adapter (§5); filled by the loader, driven by the HTTP adapter.
+  std::optional<ExpandedString> url;
+  std::string method = "POST";
+  std::map<std::string, ExpandedString> headers;
+  nlohmann::json body;  // template; {{...}} substituted per request
+  // response field -> RFC 6901 pointer; keys answer, abstained, citations, retrieved, usage,
+  // and fields.doc / fields.start / fields.end / fields.quote for renamed citation fields.
+  std::map<std::string, std::string> map;
+  int retries = 3;
+  double rate_per_second = 0;  // 0: unlimited
+  bool insecure = false;       // `insecure: true`: skip TLS certificate verification
+
+  // Both adapters.
+  int64_t timeout_ms = 30000;
+  int jobs = 0;  // 0: take --jobs (or 1)
+  int64_t max_response_bytes = 16 * 1024 * 1024;
+  /// Unit of the offsets in the reply's citations and retrieved items (`offsets:`); the runner
+  /// converts them to code points before scoring.
+  metrics::OffsetUnit offsets = metrics::OffsetUnit::kCodePoints;
+
+  /// Every secret value that `${VAR}` expansion produced, for redaction of excerpts.
+  std::vector<std::string> secrets;
+  /// The config as written, with expansions redacted; recorded in run.json.
+  nlohmann::json redacted_config;
+};
+
+struct Thresholds {
+  std::map<std::string, double> metrics;                      // metric id -> floor
+  std::map<std::string, std::map<std::string, double>> tags;  // tag -> metric id -> floor
+};
+
+struct Suite {
+  std::string path;  // the suite file as given on the command line
+  int format_version = 1;
+  std::string name;
+  std::optional<std::string> corpus_dir;  // absolute or relative to the working directory
+  metrics::NormalizationProfile normalize = metrics::NormalizationProfile::kSquad;
+  std::string lang = "en";
+  std::vector<int> retrieval_k = {1, 5};
+  std::map<std::string, double> case_pass = {{"correct", 1.0}};
+  double min_overlap = 0;        // citation overlap fraction (§6.3)
+  double max_error_rate = 0.05;  // exit 3 above this fraction of errored cases (§8)
+  Thresholds thresholds;
+  std::vector<PipelineConfig> pipelines;  // in file order; the first is the default
+  std::vector<Case> cases;                // in file order, includes concatenated in place
+  /// Every case's id to its index in `cases`; the loader builds it (a suite with a repeated id
+  /// does not load).
+  CaseIdIndex case_ids;
+  /// Hash of the suite's content (all files read, in order); recorded in run.json.
+  std::string suite_hash;
+  /// Every file the suite read (the suite, includes, --pipelines file), for hashing and errors.
+  std::vector<std::string> files;
+};
+
+}  // namespace plumb
+
+#endif  // PLUMB_RUNNER_SUITE_SUITE_H_

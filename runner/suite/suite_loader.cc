@@ -1,0 +1,982 @@
+#include "runner/suite/suite_loader.h"
+
+#include <re2/re2.h>
+#include <sys/stat.h>
+
+#include <algorithm>
+#include <cerrno>
+#include <cstring>
+#include <exception>
+#include <filesystem>
+#include <fstream>
+#include <memory>
+#include <thread>
+#include <utility>
+
+#include "runner/base/code_points.h"
+#include "runner/base/json_writer.h"
+#include "runner/base/parallel_chunks.h"
+#include "runner/base/sha256.h"
+#include "runner/suite/corpus.h"
+#include "runner/suite/did_you_mean.h"
+#include "runner/suite/jsonl_reader.h"
+#include "runner/suite/node_checker.h"
+#include "runner/suite/pipeline_config_loader.h"
+#include "runner/suite/plain_case_line.h"
+#include "runner/suite/source_node.h"
+#include "runner/suite/yaml_reader.h"
+
+namespace plumb {
+namespace {
+
+namespace fs = std::filesystem;
+
+const std::vector<std::string> kSuiteKeys = {
+    "plumb",      "name",        "corpus",    "normalize",   "lang",
+    "include",    "retrieval_k", "case_pass", "min_overlap", "max_error_rate",
+    "thresholds", "pipelines",   "cases"};
+const std::vector<std::string> kCaseKeys = {"id",     "question", "answers", "patterns",
+                                            "number", "sources",  "tags",    "input"};
+const std::vector<std::string> kSourceKeys = {"doc", "quote", "start", "end"};
+const std::vector<std::string> kNumberKeys = {"value", "tolerance", "unit"};
+// Metrics scored on each case (recall@K comes on top, one per K in retrieval_k).
+const std::vector<std::string> kCaseMetrics = {
+    "exact_match",     "token_f1",     "correct",
+    "pattern_match",   "number_match", "citation_precision",
+    "citation_recall", "citation_f1",  "mrr"};
+// Metrics that exist only over a whole run.
+const std::vector<std::string> kRunMetrics = {"abstain_precision", "abstain_recall",
+                                              "pass_rate",         "error_rate",
+                                              "latency_p50_ms",    "latency_p95_ms"};
+
+// Below this many cases per thread, reading or hashing them on one thread is quicker than
+// starting another.
+constexpr size_t kCasesPerChunk = 2000;
+// A JSONL file at least this large is hashed on a thread of its own while its lines are read.
+constexpr size_t kHashApartBytes = 1 << 20;
+constexpr char kNoCorpusMessage[] = "this suite has gold sources but no corpus";
+
+bool Contains(const std::vector<std::string>& names, const std::string& name) {
+  return std::find(names.begin(), names.end(), name) != names.end();
+}
+
+// `value` relative to `dir` (the directory of the file that names it), lexically normalized.
+std::string ResolveAgainst(const std::string& dir, const std::string& value) {
+  fs::path path(value);
+  if (path.is_relative() && !dir.empty()) path = fs::path(dir) / path;
+  std::string out = path.lexically_normal().generic_string();
+  while (out.size() > 1 && out.back() == '/') out.pop_back();
+  return out.empty() ? "." : out;
+}
+
+std::string DirectoryOf(const std::string& file) {
+  return fs::path(file).parent_path().generic_string();
+}
+
+bool HasExtension(const std::string& path, const char* extension) {
+  return fs::path(path).extension() == extension;
+}
+
+std::string FirstCodePoints(const std::string& text, size_t count) {
+  size_t end = 0, seen = 0;
+  while (end < text.size() && seen < count) {
+    ++end;
+    while (end < text.size() && (static_cast<unsigned char>(text[end]) & 0xC0) == 0x80) ++end;
+    ++seen;
+  }
+  return end < text.size() ? text.substr(0, end) + "..." : text;
+}
+
+std::string FormatKs(const std::vector<int>& ks) {
+  std::string out = "[";
+  for (size_t i = 0; i < ks.size(); ++i) out += (i ? ", " : "") + std::to_string(ks[i]);
+  return out + "]";
+}
+
+bool KeyComesBefore(const SourceEntry* a, const SourceEntry* b) {
+  return std::make_pair(a->key.line, a->key.column) < std::make_pair(b->key.line, b->key.column);
+}
+
+class SuiteLoader {
+ public:
+  SuiteLoader(const LoadOptions& options, Suite* suite, Diagnostics* errors, Diagnostics* warnings)
+      : options_(options),
+        suite_(suite),
+        errors_(errors),
+        warnings_(warnings),
+        first_error_(errors->size()),
+        first_warning_(warnings->size()) {}
+
+  void Load(const std::string& path) {
+    suite_->path = path;
+    std::string text;
+    if (ReadFile(path, SourcePos{path, 0, 0}, "suite file", &text)) {
+      SourceNode root;
+      Diagnostic syntax;
+      if (!ReadYaml(text, path, &root, &syntax)) {
+        errors_->push_back(syntax);
+      } else {
+        include_chain_.push_back({Canonical(path), path});
+        NodeChecker check(path, errors_, warnings_);
+        ReadSuiteRoot(root, &check);
+      }
+    }
+    if (!options_.pipelines_file.empty()) ReadPipelinesFile(options_.pipelines_file);
+    Finish();
+  }
+
+ private:
+  enum class CorpusState { kNone, kOpen, kBroken };
+
+  static std::string Canonical(const std::string& path) {
+    std::error_code ec;
+    fs::path canonical = fs::weakly_canonical(path, ec);
+    return ec ? path : canonical.string();
+  }
+
+  // Reads `path` after checking its size; records it for Suite::files and, unless `hash` is
+  // false (the caller then calls HashFileText itself, before any later file), the suite hash.
+  // Problems are reported at `named_at` (where an include names the file, or the file itself).
+  bool ReadFile(const std::string& path, const SourcePos& named_at, const char* what,
+                std::string* text, bool hash = true) {
+    struct stat info;
+    if (stat(path.c_str(), &info) != 0) {
+      errors_->push_back(
+          {named_at,
+           std::string("cannot read ") + what + " '" + path + "': " + std::strerror(errno), ""});
+      return false;
+    }
+    if (!S_ISREG(info.st_mode)) {
+      errors_->push_back(
+          {named_at, std::string("cannot read ") + what + " '" + path + "': not a regular file",
+           ""});
+      return false;
+    }
+    if (info.st_size > kMaxSuiteFileBytes) {
+      errors_->push_back({named_at,
+                          std::string(what) + " '" + path + "' is " + std::to_string(info.st_size) +
+                              " bytes; the limit is " + std::to_string(kMaxSuiteFileBytes) +
+                              " bytes (64 MiB)",
+                          "split the cases into several include files"});
+      return false;
+    }
+    std::ifstream in(path, std::ios::binary);
+    text->assign(static_cast<size_t>(info.st_size), '\0');
+    if (!in.read(text->data(), info.st_size)) {
+      errors_->push_back({named_at, std::string("cannot read ") + what + " '" + path + "'", ""});
+      return false;
+    }
+    suite_->files.push_back(path);
+    if (hash) HashFileText(*text);
+    // yaml-cpp passes ill-formed UTF-8 through into scalars, and every later stage writes
+    // case text into JSON, so the file is checked whole, here.
+    size_t bad = 0;
+    if (!IsValidUtf8(*text, &bad)) {
+      size_t line_start = text->rfind('\n', bad == 0 ? 0 : bad - 1);
+      line_start = line_start == std::string::npos || bad == 0 ? 0 : line_start + 1;
+      int line = 1 + int(std::count(text->begin(), text->begin() + long(line_start), '\n'));
+      int column =
+          1 + int(CountCodePoints(std::string_view(*text).substr(line_start, bad - line_start)));
+      errors_->push_back({{path, line, column},
+                          std::string(what) +
+                              " is not valid UTF-8: ill-formed byte sequence at "
+                              "byte offset " +
+                              std::to_string(bad),
+                          "save the file as UTF-8"});
+      return false;
+    }
+    return true;
+  }
+
+  /// A file's share of the suite hash: its size, a newline, its bytes.
+  void HashFileText(const std::string& text) {
+    suite_hash_.Update(std::to_string(text.size()) + "\n");
+    suite_hash_.Update(text);
+  }
+
+  void ReadSuiteRoot(const SourceNode& root, NodeChecker* check) {
+    if (root.IsNull()) {
+      check->Error(root, "the suite file is empty", "start it with 'plumb: 1' and 'name: ...'");
+      return;
+    }
+    auto keys = check->Keys(root, kSuiteKeys, "at the top level of the suite", "a suite");
+    if (!root.IsMapping()) return;
+    const std::string dir = DirectoryOf(check->file());
+
+    if (auto it = keys.find("plumb"); it == keys.end()) {
+      check->Error(root, "missing required key 'plumb'", "add 'plumb: 1' (the format version)");
+    } else {
+      int64_t version;
+      const SourceNode& value = it->second->value;
+      if (!ScalarAsInt(value, &version)) {
+        check->Error(value, "wrong type for 'plumb'",
+                     "expected the integer 1, got " + DescribeNode(value));
+      } else if (version != 1) {
+        check->Error(value, "unsupported suite format version " + value.scalar,
+                     "this plumb reads 'plumb: 1'");
+      }
+    }
+    if (auto it = keys.find("name"); it == keys.end()) {
+      check->Error(root, "missing required key 'name'", "add e.g. 'name: my-suite'");
+    } else if (check->String(it->second->value, "name", &suite_->name)) {
+      bool valid = !suite_->name.empty();
+      for (char c : suite_->name) {
+        valid = valid && ((c >= 'a' && c <= 'z') || (c >= '0' && c <= '9') || c == '.' ||
+                          c == '_' || c == '-');
+      }
+      if (!valid) {
+        check->Error(it->second->value, "invalid suite name '" + suite_->name + "'",
+                     "use lowercase letters, digits, '.', '_' and '-'");
+      }
+    }
+    if (auto it = keys.find("corpus"); it != keys.end()) {
+      std::string value;
+      if (check->NonEmptyString(it->second->value, "corpus", &value)) {
+        std::string dir_path = ResolveAgainst(dir, value);
+        corpus_ = std::make_unique<Corpus>();
+        std::string error;
+        if (corpus_->Open(dir_path, &error)) {
+          suite_->corpus_dir = dir_path;
+          corpus_state_ = CorpusState::kOpen;
+        } else {
+          check->Error(it->second->value, error,
+                       "'corpus' is relative to the suite file's directory");
+          corpus_state_ = CorpusState::kBroken;
+        }
+      } else {
+        corpus_state_ = CorpusState::kBroken;
+      }
+    }
+    if (auto it = keys.find("normalize"); it != keys.end()) {
+      std::string value;
+      if (check->String(it->second->value, "normalize", &value) &&
+          !metrics::ParseNormalizationProfile(value, &suite_->normalize)) {
+        check->Error(it->second->value, "unknown normalization profile '" + value + "'",
+                     DidYouMeanHint(value, {"squad", "mlqa", "unicode"}, "profiles"));
+      }
+    }
+    if (auto it = keys.find("lang"); it != keys.end()) {
+      if (check->String(it->second->value, "lang", &suite_->lang) &&
+          (!IsNameOf(suite_->lang, "-_") || suite_->lang.size() > 35)) {
+        check->Error(it->second->value, "invalid language code '" + suite_->lang + "'",
+                     "use an ISO 639-1 code such as en, fr or ja");
+      }
+    }
+    if (auto it = keys.find("retrieval_k"); it != keys.end())
+      ReadRetrievalK(it->second->value, check);
+    if (auto it = keys.find("case_pass"); it != keys.end()) {
+      suite_->case_pass.clear();
+      ReadMetricMap(it->second->value, "case_pass", /*per_case=*/true, check, &suite_->case_pass);
+    }
+    if (auto it = keys.find("min_overlap"); it != keys.end()) {
+      check->Fraction(it->second->value, "min_overlap", &suite_->min_overlap);
+    }
+    if (auto it = keys.find("max_error_rate"); it != keys.end()) {
+      check->Fraction(it->second->value, "max_error_rate", &suite_->max_error_rate);
+    }
+    if (auto it = keys.find("thresholds"); it != keys.end())
+      ReadThresholds(it->second->value, check);
+    if (auto it = keys.find("pipelines"); it != keys.end() && options_.pipelines_file.empty()) {
+      ReadPipelines(it->second->value, options_.expand_env, check, &suite_->pipelines);
+    }
+    ReadCasesAndIncludes(keys, check);
+  }
+
+  // `include` and `cases` in the order they are written.
+  void ReadCasesAndIncludes(const KeyIndex& keys, NodeChecker* check) {
+    std::vector<const SourceEntry*> parts;
+    for (const char* key : {"include", "cases"}) {
+      if (auto it = keys.find(key); it != keys.end()) parts.push_back(it->second);
+    }
+    std::sort(parts.begin(), parts.end(), KeyComesBefore);
+    for (const SourceEntry* part : parts) {
+      if (part->key.scalar == "include") {
+        ReadIncludeList(part->value, check);
+      } else if (check->Sequence(part->value, "cases", "cases")) {
+        for (const SourceNode& item : part->value.items) ReadCase(item, check);
+      }
+    }
+  }
+
+  void ReadIncludeList(const SourceNode& list, NodeChecker* check) {
+    std::vector<std::string> names;
+    std::vector<const SourceNode*> nodes;
+    check->StringList(list, "include", &names, &nodes);
+    const std::string dir = DirectoryOf(check->file());
+    for (size_t i = 0; i < names.size(); ++i) {
+      const SourceNode& node = *nodes[i];
+      if (!HasExtension(names[i], ".yaml") && !HasExtension(names[i], ".yml") &&
+          !HasExtension(names[i], ".jsonl")) {
+        check->Error(node, "include '" + names[i] + "' is not a .yaml, .yml or .jsonl file");
+        continue;
+      }
+      ReadIncludedFile(ResolveAgainst(dir, names[i]), node, check);
+    }
+  }
+
+  void ReadIncludedFile(const std::string& path, const SourceNode& named_at,
+                        NodeChecker* named_in) {
+    std::string canonical = Canonical(path);
+    for (size_t i = 0; i < include_chain_.size(); ++i) {
+      if (include_chain_[i].first != canonical) continue;
+      std::string chain;
+      for (size_t j = i; j < include_chain_.size(); ++j) chain += include_chain_[j].second + " -> ";
+      named_in->Error(named_at, "include cycle: " + chain + path,
+                      "a file must not include itself, directly or through other includes");
+      return;
+    }
+    const bool jsonl = HasExtension(path, ".jsonl");
+    std::string text;
+    if (!ReadFile(path, named_in->Pos(named_at), "include file", &text, /*hash=*/!jsonl)) return;
+    include_chain_.push_back({canonical, path});
+    NodeChecker check(path, errors_, warnings_);
+    if (jsonl && text.size() >= kHashApartBytes && WorkerCount() > 1) {
+      // The file's share of the suite hash is taken on another thread while its lines are
+      // read; no other file is hashed meanwhile (a JSONL file includes none), so the order of
+      // the files in the hash holds.
+      std::thread hashing([this, &text] { HashFileText(text); });
+      struct JoinOnExit {
+        std::thread& thread;
+        ~JoinOnExit() { thread.join(); }
+      } join{hashing};
+      ReadJsonLines(text, &check);
+    } else if (jsonl) {
+      HashFileText(text);
+      ReadJsonLines(text, &check);
+    } else {
+      SourceNode root;
+      Diagnostic syntax;
+      if (!ReadYaml(text, path, &root, &syntax)) {
+        errors_->push_back(syntax);
+      } else if (root.IsMapping()) {
+        // Only cases (and further includes) belong in an included file; anything else would
+        // silently not apply, so it is an error rather than ignored.
+        KeyIndex keys;
+        for (const SourceEntry& entry : root.entries) {
+          std::string key;
+          ScalarAsString(entry.key, &key);
+          if (key == "cases" || key == "include") {
+            if (!keys.emplace(key, &entry).second) {
+              check.Error(entry.key, "duplicate key '" + key + "'");
+            }
+          } else if (Contains(kSuiteKeys, key)) {
+            check.Error(entry.key, "'" + key + "' is not allowed in an included file",
+                        "an included file holds only 'cases' (and 'include' for further "
+                        "files); set '" +
+                            key + "' in the suite file");
+          } else {
+            check.Error(entry.key, "unknown key '" + key + "' in an included file",
+                        DidYouMeanHint(key, {"cases", "include"}, "keys"));
+          }
+        }
+        ReadCasesAndIncludes(keys, &check);
+      } else if (!root.IsNull()) {
+        check.Error(root, "an included YAML file must be a mapping with 'cases', got " +
+                              DescribeNode(root));
+      }
+    }
+    include_chain_.pop_back();
+  }
+
+  /// The lines of a JSONL include are parsed and read in chunks on several threads, each chunk
+  /// with its own checker and diagnostics; the cases are then added and the diagnostics kept in
+  /// file order, as if read on one thread.
+  void ReadJsonLines(const std::string& text, NodeChecker* check) {
+    struct Line {
+      std::string_view text;
+      int number;
+    };
+    std::vector<Line> lines;
+    int line_number = 0;
+    for (size_t start = 0; start < text.size();) {
+      size_t end = text.find('\n', start);
+      if (end == std::string::npos) end = text.size();
+      std::string_view line(text.data() + start, end - start);
+      if (!line.empty() && line.back() == '\r') line.remove_suffix(1);
+      ++line_number;
+      start = end + 1;
+      if (line.find_first_not_of(" \t") == std::string_view::npos) continue;
+      lines.push_back({line, line_number});
+    }
+    // Each line's case is read into its own slot of the suite's list; the list is closed up
+    // over the lines that gave no case afterwards, as the ids are registered in file order.
+    const size_t base = suite_->cases.size();
+    suite_->cases.resize(base + lines.size());
+    suite_->case_ids.Reserve(suite_->cases.size());
+    id_positions_.reserve(suite_->cases.size());
+    std::vector<CaseId> ids(lines.size());
+    std::vector<char> added(lines.size(), 0);
+    struct Chunk {
+      Diagnostics errors;
+      Diagnostics warnings;
+      bool reported_missing_corpus = false;
+    };
+    std::vector<Chunk> chunks(static_cast<size_t>(WorkerCount()));
+    const size_t used =
+        ForEachChunk(lines.size(), kCasesPerChunk, [&](size_t index, size_t begin, size_t end) {
+          Chunk& chunk = chunks[index];
+          // A chunk reports a missing corpus once at most; so does the whole load, below.
+          chunk.reported_missing_corpus = reported_missing_corpus_;
+          NodeChecker chunk_check(check->file(), &chunk.errors, &chunk.warnings);
+          for (size_t i = begin; i < end; ++i) {
+            Case& gold = suite_->cases[base + i];
+            if (ReadPlainCase(lines[i].text, check->file(), lines[i].number, &gold, &ids[i])) {
+              added[i] = true;
+              gold.gold_hash = GoldHash(gold);  // here, while the case is in cache
+              continue;
+            }
+            gold = Case();
+            SourceNode root;
+            Diagnostic error;
+            if (!ReadJsonLine(lines[i].text, check->file(), lines[i].number, &root, &error)) {
+              chunk.errors.push_back(std::move(error));
+              continue;
+            }
+            added[i] =
+                ReadCaseFields(root, &chunk_check, &chunk.reported_missing_corpus, &gold, &ids[i]);
+            if (added[i]) gold.gold_hash = GoldHash(gold);
+          }
+        });
+    for (size_t index = 0; index < used; ++index) {
+      Chunk& chunk = chunks[index];
+      for (Diagnostic& error : chunk.errors) {
+        if (error.message == kNoCorpusMessage) {
+          if (reported_missing_corpus_) continue;
+          reported_missing_corpus_ = true;
+        }
+        errors_->push_back(std::move(error));
+      }
+      for (Diagnostic& warning : chunk.warnings) warnings_->push_back(std::move(warning));
+    }
+    size_t kept = base;
+    for (size_t i = 0; i < lines.size(); ++i) {
+      if (!added[i]) continue;
+      if (kept != base + i) suite_->cases[kept] = std::move(suite_->cases[base + i]);
+      RegisterId(kept, ids[i], check);
+      ++kept;
+    }
+    suite_->cases.resize(kept);
+  }
+
+  void ReadRetrievalK(const SourceNode& node, NodeChecker* check) {
+    suite_->retrieval_k.clear();
+    if (!check->Sequence(node, "retrieval_k", "positive integers")) return;
+    for (const SourceNode& item : node.items) {
+      int64_t k;
+      if (!ScalarAsInt(item, &k) || k < 1 || k > 1000000) {
+        check->Error(item, "wrong value in 'retrieval_k'",
+                     "expected a positive integer, got " +
+                         (item.IsScalar() ? "'" + item.scalar + "'" : DescribeNode(item)));
+        continue;
+      }
+      if (std::find(suite_->retrieval_k.begin(), suite_->retrieval_k.end(), k) !=
+          suite_->retrieval_k.end()) {
+        check->Error(item, "k = " + item.scalar + " is listed twice in 'retrieval_k'");
+        continue;
+      }
+      suite_->retrieval_k.push_back(int(k));
+    }
+  }
+
+  // True when `id` names a metric that `field` accepts; otherwise reports at `at`.
+  bool CheckMetricId(const SourceNode& at, const std::string& id, const std::string& field,
+                     bool per_case, NodeChecker* check) {
+    if (id.rfind("recall@", 0) == 0) {
+      std::string k = id.substr(7);
+      bool digits =
+          !k.empty() && k.size() < 8 && k.find_first_not_of("0123456789") == std::string::npos;
+      if (digits && std::find(suite_->retrieval_k.begin(), suite_->retrieval_k.end(),
+                              std::stoi(k)) != suite_->retrieval_k.end()) {
+        return true;
+      }
+      if (digits) {
+        check->Error(at, "'" + id + "' needs " + k + " in retrieval_k",
+                     "retrieval_k is " + FormatKs(suite_->retrieval_k) + "; add " + k + " to it");
+        return false;
+      }
+    }
+    if (Contains(kCaseMetrics, id)) return true;
+    if (Contains(kRunMetrics, id)) {
+      if (!per_case) return true;
+      check->Error(
+          at,
+          "'" + id + "' is a run-level metric; '" + field + "' takes metrics scored on each case",
+          "per-case metrics are: " + [&] {
+            std::string list;
+            for (const std::string& m : ValidMetricIds(true)) {
+              list += (list.empty() ? "" : ", ") + m;
+            }
+            return list;
+          }());
+      return false;
+    }
+    check->Error(at, "unknown metric id '" + id + "' in '" + field + "'",
+                 DidYouMeanHint(id, ValidMetricIds(per_case), "metric ids"));
+    return false;
+  }
+
+  std::vector<std::string> ValidMetricIds(bool per_case) const {
+    std::vector<std::string> ids = kCaseMetrics;
+    for (int k : suite_->retrieval_k) ids.push_back("recall@" + std::to_string(k));
+    if (!per_case) ids.insert(ids.end(), kRunMetrics.begin(), kRunMetrics.end());
+    return ids;
+  }
+
+  void ReadMetricMap(const SourceNode& node, const std::string& field, bool per_case,
+                     NodeChecker* check, std::map<std::string, double>* out,
+                     bool allow_tags = false) {
+    if (!check->Mapping(node, field)) return;
+    std::map<std::string, const SourceNode*> seen;
+    for (const SourceEntry& entry : node.entries) {
+      std::string id;
+      if (!ScalarAsString(entry.key, &id)) {
+        check->Error(entry.key, "a metric id must be a name, got " + DescribeNode(entry.key));
+        continue;
+      }
+      if (auto [it, inserted] = seen.emplace(id, &entry.key); !inserted) {
+        check->Error(entry.key, "duplicate key '" + id + "' in '" + field + "'",
+                     "first given at " + FormatPos(check->Pos(*it->second)));
+        continue;
+      }
+      if (allow_tags && id == "tags") continue;
+      if (!CheckMetricId(entry.key, id, field, per_case, check)) continue;
+      double value;
+      if (id.rfind("latency_", 0) == 0) {
+        if (!check->Number(entry.value, field + "." + id, &value)) continue;
+        if (value < 0) {
+          check->Error(entry.value, "'" + field + "." + id + "' is negative",
+                       "a latency ceiling is a number of milliseconds >= 0");
+          continue;
+        }
+      } else if (!check->Fraction(entry.value, field + "." + id, &value)) {
+        continue;
+      }
+      (*out)[id] = value;
+    }
+  }
+
+  void ReadThresholds(const SourceNode& node, NodeChecker* check) {
+    ReadMetricMap(node, "thresholds", /*per_case=*/false, check, &suite_->thresholds.metrics,
+                  /*allow_tags=*/true);
+    if (!node.IsMapping()) return;
+    for (const SourceEntry& entry : node.entries) {
+      if (entry.key.scalar != "tags") continue;
+      if (!check->Mapping(entry.value, "thresholds.tags")) break;
+      for (const SourceEntry& tag_entry : entry.value.entries) {
+        std::string tag;
+        if (!ScalarAsString(tag_entry.key, &tag) || !IsNameOf(tag, "._-")) {
+          check->Error(tag_entry.key, "invalid tag '" + tag_entry.key.scalar + "'",
+                       "tags use letters, digits, '.', '_' and '-'");
+          continue;
+        }
+        if (suite_->thresholds.tags.count(tag) > 0) {
+          check->Error(tag_entry.key, "duplicate tag '" + tag + "' in 'thresholds.tags'");
+          continue;
+        }
+        threshold_tags_.emplace_back(tag, check->Pos(tag_entry.key));
+        ReadMetricMap(tag_entry.value, "thresholds.tags." + tag, /*per_case=*/false, check,
+                      &suite_->thresholds.tags[tag]);
+      }
+      break;
+    }
+  }
+
+  void ReadCase(const SourceNode& node, NodeChecker* check) {
+    Case gold;
+    CaseId id;
+    if (!ReadCaseFields(node, check, &reported_missing_corpus_, &gold, &id)) return;
+    suite_->cases.push_back(std::move(gold));
+    RegisterId(suite_->cases.size() - 1, id, check);
+  }
+
+  /// Where a case's id was written, when it is well formed (and so checked for duplicates).
+  struct CaseId {
+    bool register_id = false;
+    int line = 0;
+    int column = 0;
+  };
+
+  /// Registers the id of suite_->cases[index], in file order: a repeated id is reported here,
+  /// naming where it was first defined.
+  void RegisterId(size_t index, const CaseId& id, NodeChecker* check) {
+    if (!id.register_id) return;
+    if (id_positions_.size() <= index) id_positions_.resize(index + 1);
+    id_positions_[index] = {id.line, id.column};
+    const size_t first = suite_->case_ids.Insert(suite_->cases, index);
+    if (first == CaseIdIndex::kAbsent) return;
+    const std::string& name = suite_->cases[index].id;
+    const SourcePos where{suite_->cases[first].pos.file, id_positions_[first].first,
+                          id_positions_[first].second};
+    errors_->push_back({SourcePos{check->file(), id.line, id.column},
+                        "duplicate case id '" + name + "'",
+                        "first defined at " + FormatPos(where)});
+  }
+
+  static bool IsCaseId(std::string_view id) { return IsNameOf(id, "._:-"); }
+  static bool IsTag(std::string_view tag) { return IsNameOf(tag, "._-"); }
+  static bool IsBlank(std::string_view text) {
+    return text.find_first_not_of(" \t\r\n") == std::string_view::npos;
+  }
+
+  /// A JSONL line of the plain shape (runner/suite/plain_case_line.h) whose values ReadCaseFields
+  /// would take without a word, read without a SourceNode tree. False for any other line, which
+  /// the caller reads through ReadJsonLine and ReadCaseFields.
+  static bool ReadPlainCase(std::string_view line, const std::string& file, int line_number,
+                            Case* gold, CaseId* case_id) {
+    PlainCaseColumns columns;
+    if (!ReadPlainCaseLine(line, gold, &columns) || !IsCaseId(gold->id) ||
+        IsBlank(gold->question)) {
+      return false;
+    }
+    for (const std::string& answer : gold->answers) {
+      if (IsBlank(answer)) return false;
+    }
+    for (const std::string& tag : gold->tags) {
+      if (!IsTag(tag)) return false;
+    }
+    gold->pos = SourcePos{file, line_number, columns.object};
+    *case_id = CaseId{true, line_number, columns.id};
+    return true;
+  }
+
+  /// Reads and checks one case's fields into *gold, reporting through `check`. Touches no loader
+  /// state but `*reported_missing_corpus` (so chunks of a JSONL file can be read on several
+  /// threads, each with its own flag and checker). False when the node is not a mapping
+  /// (nothing to add).
+  bool ReadCaseFields(const SourceNode& node, NodeChecker* check, bool* reported_missing_corpus,
+                      Case* out, CaseId* case_id) const {
+    Case& gold = *out;
+    gold.pos = check->Pos(node);
+    auto keys = check->Keys(node, kCaseKeys, "in a case", "a case");
+    if (!node.IsMapping()) return false;
+    auto field = [&](const char* key) -> const SourceNode* {
+      auto it = keys.find(key);
+      return it == keys.end() ? nullptr : &it->second->value;
+    };
+
+    if (const SourceNode* id = field("id"); id == nullptr) {
+      check->Error(node, "case has no 'id'",
+                   "add 'id: NAME' (letters, digits, '.', '_', ':', '-')");
+    } else if (check->String(*id, "id", &gold.id)) {
+      if (!IsCaseId(gold.id)) {
+        check->Error(*id, "invalid case id '" + gold.id + "'",
+                     "use letters, digits, '.', '_', ':' and '-'");
+      } else {
+        *case_id = CaseId{true, id->line, id->column};
+      }
+    }
+    std::string label = gold.id.empty() ? "the case" : "case '" + gold.id + "'";
+
+    if (const SourceNode* question = field("question"); question == nullptr) {
+      check->Error(node, label + " has no 'question'", "add 'question: ...'");
+    } else {
+      check->NonEmptyString(*question, "question", &gold.question);
+    }
+
+    if (const SourceNode* answers = field("answers"); answers == nullptr) {
+      check->Error(node, label + " has no 'answers'",
+                   "list the gold answers, or write 'answers: []' when the pipeline must abstain");
+    } else {
+      std::vector<const SourceNode*> nodes;
+      check->StringList(*answers, "answers", &gold.answers, &nodes);
+      for (size_t i = 0; i < gold.answers.size(); ++i) {
+        if (IsBlank(gold.answers[i])) {
+          check->Error(*nodes[i], "an answer is empty",
+                       "write 'answers: []' for a case the pipeline must abstain on");
+        }
+      }
+    }
+
+    if (const SourceNode* patterns = field("patterns")) {
+      std::vector<const SourceNode*> nodes;
+      check->StringList(*patterns, "patterns", &gold.patterns, &nodes);
+      RE2::Options re2_options;
+      re2_options.set_log_errors(false);
+      for (size_t i = 0; i < gold.patterns.size(); ++i) {
+        RE2 pattern(gold.patterns[i], re2_options);
+        if (!pattern.ok()) {
+          check->Error(*nodes[i], "invalid pattern '" + gold.patterns[i] + "'",
+                       "RE2 says: " + pattern.error());
+        }
+      }
+    }
+
+    if (const SourceNode* number = field("number")) ReadNumber(*number, check, &gold);
+    if (const SourceNode* sources = field("sources")) {
+      ReadSources(*sources, check, reported_missing_corpus, &gold);
+    }
+
+    if (const SourceNode* tags = field("tags")) {
+      std::vector<const SourceNode*> nodes;
+      check->StringList(*tags, "tags", &gold.tags, &nodes);
+      for (size_t i = 0; i < gold.tags.size(); ++i) {
+        if (!IsTag(gold.tags[i])) {
+          check->Error(*nodes[i], "invalid tag '" + gold.tags[i] + "'",
+                       "tags use letters, digits, '.', '_' and '-'");
+        }
+      }
+    }
+
+    if (const SourceNode* input = field("input")) {
+      if (check->Mapping(*input, "input")) gold.input = SourceNodeToJson(*input);
+    }
+    return true;
+  }
+
+  static void ReadNumber(const SourceNode& node, NodeChecker* check, Case* gold) {
+    auto keys = check->Keys(node, kNumberKeys, "in 'number'", "'number'");
+    if (!node.IsMapping()) return;
+    NumberGold number;
+    bool ok = true;
+    if (auto it = keys.find("value"); it == keys.end()) {
+      check->Error(node, "'number' has no 'value'",
+                   "write e.g. number: {value: 10, unit: minutes}");
+      ok = false;
+    } else {
+      ok = check->Number(it->second->value, "number.value", &number.value) && ok;
+    }
+    if (auto it = keys.find("tolerance"); it != keys.end()) {
+      if (!check->Number(it->second->value, "number.tolerance", &number.tolerance)) {
+        ok = false;
+      } else if (number.tolerance < 0) {
+        check->Error(it->second->value, "'number.tolerance' is negative", "expected a number >= 0");
+        ok = false;
+      }
+    }
+    if (auto it = keys.find("unit"); it != keys.end()) {
+      ok = check->String(it->second->value, "number.unit", &number.unit) && ok;
+    }
+    if (ok) gold->number = number;
+  }
+
+  void ReadSources(const SourceNode& list, NodeChecker* check, bool* reported_missing_corpus,
+                   Case* gold) const {
+    if (!check->Sequence(list, "sources", "sources ({doc, quote} or {doc, start, end})")) return;
+    for (const SourceNode& item : list.items) {
+      auto keys = check->Keys(item, kSourceKeys, "in a source", "a source");
+      if (!item.IsMapping()) continue;
+      auto field = [&](const char* key) -> const SourceNode* {
+        auto it = keys.find(key);
+        return it == keys.end() ? nullptr : &it->second->value;
+      };
+      GoldSpan span;
+      span.pos = check->Pos(item);
+      const SourceNode* doc = field("doc");
+      const SourceNode* quote = field("quote");
+      const SourceNode* start = field("start");
+      const SourceNode* end = field("end");
+      bool ok = true;
+      if (doc == nullptr) {
+        check->Error(item, "source has no 'doc'",
+                     "give the document's path relative to the corpus dir");
+        ok = false;
+      } else {
+        ok = check->NonEmptyString(*doc, "doc", &span.doc);
+      }
+      // A misspelt key was reported already; "needs a 'quote'" would only repeat it.
+      if (keys.size() < item.entries.size()) continue;
+      if (quote != nullptr && (start != nullptr || end != nullptr)) {
+        check->Error(item, "a source gives either 'quote' or 'start' and 'end', not both");
+        continue;
+      }
+      if (quote == nullptr && (start == nullptr || end == nullptr)) {
+        check->Error(item, start == nullptr && end == nullptr
+                               ? "a source needs a 'quote', or 'start' and 'end'"
+                               : std::string("a source with '") + (start ? "start" : "end") +
+                                     "' needs '" + (start ? "end" : "start") + "' too");
+        continue;
+      }
+      std::string quote_text;
+      int64_t start_cp = 0, end_cp = 0;
+      if (quote != nullptr) {
+        ok = check->NonEmptyString(*quote, "quote", &quote_text) && ok;
+        span.quote = quote_text;
+      } else {
+        ok = check->Int(*start, "start", &start_cp) && ok;
+        ok = check->Int(*end, "end", &end_cp) && ok;
+      }
+      if (!ok) continue;
+
+      if (corpus_state_ == CorpusState::kNone) {
+        if (!*reported_missing_corpus) {
+          check->Error(item, kNoCorpusMessage,
+                       "add 'corpus: DIR' (relative to the suite file) to the suite file");
+          *reported_missing_corpus = true;
+        }
+        continue;
+      }
+      if (corpus_state_ == CorpusState::kBroken) continue;
+      std::string error;
+      const Document* document = corpus_->Get(span.doc, &error);
+      if (document == nullptr) {
+        check->Error(*doc, error);
+        continue;
+      }
+      if (quote != nullptr) {
+        int occurrences = 0;
+        if (!FindQuote(*document, quote_text, &start_cp, &end_cp, &occurrences)) {
+          check->Error(
+              *quote,
+              "quote not found in '" + span.doc + "': \"" + FirstCodePoints(quote_text, 60) + "\"",
+              "the quote must appear in the document as written (runs of whitespace "
+              "may differ)");
+          continue;
+        }
+        if (occurrences > 1) {
+          check->Warning(*quote,
+                         "quote occurs " + std::to_string(occurrences) + " times in '" + span.doc +
+                             "'; the first, at code points [" + std::to_string(start_cp) + ", " +
+                             std::to_string(end_cp) + "), is used",
+                         "lengthen the quote, or give 'start' and 'end'");
+        }
+      } else if (start_cp < 0 || start_cp >= end_cp || end_cp > document->length_cp) {
+        check->Error(*start,
+                     "offsets [" + std::to_string(start_cp) + ", " + std::to_string(end_cp) +
+                         ") are out of range for '" + span.doc + "'",
+                     "'" + span.doc + "' is " + std::to_string(document->length_cp) +
+                         " code points long; offsets need 0 <= start < end <= " +
+                         std::to_string(document->length_cp));
+        continue;
+      }
+      span.start = start_cp;
+      span.end = end_cp;
+      span.text = std::string(CodePointSlice(*document, start_cp, end_cp));
+      gold->sources.push_back(std::move(span));
+    }
+  }
+
+  void ReadPipelinesFile(const std::string& path) {
+    suite_->pipelines.clear();
+    std::string text;
+    if (!ReadFile(path, SourcePos{path, 0, 0}, "pipelines file", &text)) return;
+    SourceNode root;
+    Diagnostic syntax;
+    if (!ReadYaml(text, path, &root, &syntax)) {
+      errors_->push_back(syntax);
+      return;
+    }
+    NodeChecker check(path, errors_, warnings_);
+    if (root.IsNull()) {
+      check.Error(root, "the pipelines file is empty", "it holds one key, 'pipelines:'");
+      return;
+    }
+    auto keys = check.Keys(root, {"pipelines"}, "in a pipelines file (it holds only 'pipelines')",
+                           "a pipelines file");
+    if (!root.IsMapping()) return;
+    auto it = keys.find("pipelines");
+    if (it == keys.end()) {
+      check.Error(root, "the pipelines file has no 'pipelines' key");
+      return;
+    }
+    ReadPipelines(it->second->value, options_.expand_env, &check, &suite_->pipelines);
+  }
+
+  /// SHA-256 of "plumb-gold-v1\n" + the case's gold as compact JSON with keys in sorted order
+  /// (the layout nlohmann's dump() gives; doubles in its spelling, so hashes stay stable).
+  static std::string GoldHash(const Case& gold) {
+    thread_local JsonWriter w;  // one buffer per loading thread, reused case after case
+    w.Clear();
+    w.BeginObject().PlainKey("answers").StringArray(gold.answers).PlainKey("number");
+    if (gold.number) {
+      w.BeginObject()
+          .PlainKey("tolerance")
+          .Raw(nlohmann::json(gold.number->tolerance).dump())
+          .PlainKey("unit")
+          .String(gold.number->unit)
+          .PlainKey("value")
+          .Raw(nlohmann::json(gold.number->value).dump())
+          .EndObject();
+    } else {
+      w.Null();
+    }
+    w.PlainKey("patterns")
+        .StringArray(gold.patterns)
+        .PlainKey("question")
+        .String(gold.question)
+        .PlainKey("sources");
+    w.BeginArray();
+    for (const GoldSpan& span : gold.sources) {
+      w.BeginObject()
+          .PlainKey("doc")
+          .String(span.doc)
+          .PlainKey("end")
+          .Int(static_cast<int64_t>(span.end))
+          .PlainKey("start")
+          .Int(static_cast<int64_t>(span.start))
+          .PlainKey("text")
+          .String(span.text)
+          .EndObject();
+    }
+    w.EndArray().PlainKey("tags").StringArray(gold.tags).EndObject();
+    return Sha256Hex("plumb-gold-v1\n", w.text());
+  }
+
+  void Finish() {
+    std::vector<Case>& cases = suite_->cases;
+    ForEachChunk(cases.size(), kCasesPerChunk, [&cases](size_t, size_t begin, size_t end) {
+      for (size_t i = begin; i < end; ++i) {
+        if (cases[i].gold_hash.empty()) cases[i].gold_hash = GoldHash(cases[i]);
+      }
+    });
+    suite_->suite_hash = suite_hash_.HexDigest();
+    for (const auto& [tag, pos] : threshold_tags_) {
+      bool used = false;
+      for (const Case& gold : suite_->cases) {
+        used = used || std::find(gold.tags.begin(), gold.tags.end(), tag) != gold.tags.end();
+      }
+      if (!used) {
+        warnings_->push_back({pos, "no case has tag '" + tag + "'; its thresholds never apply",
+                              "check the spelling against the cases' tags"});
+      }
+    }
+    SortFrom(errors_, first_error_);
+    SortFrom(warnings_, first_warning_);
+  }
+
+  // Orders the diagnostics this load added by file (in the order read), line and column.
+  void SortFrom(Diagnostics* list, size_t first) {
+    auto rank = [&](const Diagnostic& d) {
+      auto it = std::find(suite_->files.begin(), suite_->files.end(), d.pos.file);
+      return std::make_tuple(size_t(it - suite_->files.begin()), d.pos.line, d.pos.column);
+    };
+    std::stable_sort(list->begin() + long(first), list->end(),
+                     [&](const Diagnostic& a, const Diagnostic& b) { return rank(a) < rank(b); });
+  }
+
+  const LoadOptions& options_;
+  Suite* suite_;
+  Diagnostics* errors_;
+  Diagnostics* warnings_;
+  size_t first_error_;
+  size_t first_warning_;
+  std::unique_ptr<Corpus> corpus_;
+  CorpusState corpus_state_ = CorpusState::kNone;
+  bool reported_missing_corpus_ = false;
+  std::vector<std::pair<std::string, std::string>> include_chain_;  // (canonical, as named)
+  /// Where each case's id is written (line, column), by case index: its file is the case's.
+  std::vector<std::pair<int, int>> id_positions_;
+  std::vector<std::pair<std::string, SourcePos>> threshold_tags_;
+  Sha256 suite_hash_;
+};
+
+}  // namespace
+
+bool LoadSuite(const std::string& path, const LoadOptions& options, Suite* suite,
+               Diagnostics* errors, Diagnostics* warnings) {
+  size_t errors_before = errors->size();
+  *suite = Suite();
+  try {
+    SuiteLoader loader(options, suite, errors, warnings);
+    loader.Load(path);
+  } catch (const std::exception& e) {
+    // Nothing below is meant to throw; this keeps a missed case (bad_alloc, a library
+    // surprise) a reported error rather than a crash.
+    Diagnostic internal;  // field by field: GCC 12 misreports a braced one as uninitialized
+    internal.pos = SourcePos{path, 0, 0};
+    internal.message = std::string("internal error while loading: ") + e.what();
+    errors->push_back(std::move(internal));
+  }
+  return errors->size() == errors_before;
+}
+
+}  // namespace plumb

@@ -1,0 +1,327 @@
+// ComputeDrift (runner/compare/drift.h) on small runs built in memory, where every expected value
+// is worked by hand from the definitions in SPEC §7 and runner/compare/drift.h: pairing, per-case
+// means over repeats, exact McNemar as a binomial tail, Holm's step-down, the verdict rule, the
+// gate. The paired bootstrap is checked against metrics::PairedBootstrapMeanDelta and
+// PairedBootstrapQuantileRatio (themselves checked against numpy over the same resamples in
+// tests/reference/statistics_reference.py); the whole report against scipy/statsmodels in
+// tests/reference/drift_reference.py.
+#include "runner/compare/drift.h"
+
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <string>
+#include <vector>
+
+#include "metrics/paired_bootstrap.h"
+
+using plumb::CaseRecord;
+using plumb::ComputeDrift;
+using plumb::DriftOptions;
+using plumb::DriftReport;
+using plumb::LoadedRun;
+using plumb::Verdict;
+
+namespace {
+
+struct Item {
+  std::string id;
+  std::map<std::string, double> scores;
+  bool pass = true;
+  double latency_ms = 100;
+  int repeat = 0;
+  std::vector<std::string> tags = {};
+  std::string gold_hash = "gold";
+  std::string answer = "an answer";
+  std::string error = "";
+};
+
+/// A finished run of suite `suite` whose journal holds `items` (run.json lists every id once,
+/// with the first item's gold hash and tags).
+LoadedRun MakeRun(const std::vector<Item>& items, const std::string& suite = "fixture",
+                  const nlohmann::json& thresholds = nlohmann::json::array()) {
+  LoadedRun run;
+  run.dir = "runs/" + suite;
+  run.record = {{"plumb_run", 1},
+                {"suite", {{"name", suite}, {"hash", "suite-hash"}}},
+                {"corpus_fingerprint", "corpus"},
+                {"pipeline", {{"name", "p"}, {"config", {{"command", {"p"}}}}}},
+                {"labels", {{"git", "abc123"}}},
+                {"started_at", "2026-12-01T10:00:00Z"},
+                {"repeat", 1},
+                {"thresholds", thresholds},
+                {"cases", nlohmann::json::object()}};
+  for (const Item& item : items) {
+    if (!run.record["cases"].contains(item.id)) {
+      run.record["cases"][item.id] = {{"gold_hash", item.gold_hash}, {"tags", item.tags}};
+    }
+    CaseRecord r;
+    r.id = item.id;
+    r.repeat = item.repeat;
+    r.latency_ms = item.latency_ms;
+    r.error = item.error;
+    if (item.error.empty()) r.parsed.answer = item.answer;
+    r.scores.values = item.scores;
+    r.scores.pass = item.pass;
+    r.scores.errored = !item.error.empty();
+    run.records.push_back(r);
+  }
+  return run;
+}
+
+/// A case scored 0/1 on correct (pass = correct) and `f1` on token_f1.
+Item Scored(const std::string& id, double correct, double f1,
+            const std::vector<std::string>& tags = {}) {
+  Item item;
+  item.id = id;
+  item.scores = {{"correct", correct}, {"token_f1", f1}};
+  item.pass = correct == 1;
+  item.tags = tags;
+  return item;
+}
+
+DriftReport Drift(const LoadedRun& base, const LoadedRun& cand, DriftOptions options = {}) {
+  DriftReport report;
+  std::string error;
+  REQUIRE(ComputeDrift(base, cand, options, &report, &error));
+  return report;
+}
+
+const plumb::MetricDrift& Metric(const DriftReport& r, const std::string& metric) {
+  const plumb::MetricDrift* m = r.Find(metric);
+  REQUIRE(m != nullptr);
+  return *m;
+}
+
+}  // namespace
+
+TEST_CASE("the verdict rule: the interval must exclude 0 and |delta| reach min_effect") {
+  using plumb::DecideVerdict;
+  // SPEC §7: regressed when the upper bound is below 0 and delta <= -min_effect.
+  CHECK(DecideVerdict(-0.05, {-0.0725, -0.03}, 0.005) == Verdict::kRegressed);
+  CHECK(DecideVerdict(0.05, {0.03, 0.0725}, 0.005) == Verdict::kImproved);
+  // An upper bound of exactly 0 does not exclude 0.
+  CHECK(DecideVerdict(-0.005, {-0.0125, 0.0}, 0.005) == Verdict::kSteady);
+  // Significant but smaller than min_effect.
+  CHECK(DecideVerdict(-0.004, {-0.006, -0.002}, 0.005) == Verdict::kSteady);
+  // delta == -min_effect counts (<=).
+  CHECK(DecideVerdict(-2.0 / 400, {-0.01, -0.001}, 0.005) == Verdict::kRegressed);
+  CHECK(DecideVerdict(std::nan(""), {std::nan(""), std::nan("")}, 0.005) == Verdict::kSteady);
+}
+
+TEST_CASE("cases pair by id and gold hash, the rest are listed apart and left out") {
+  const LoadedRun base = MakeRun({Scored("a", 1, 1), Scored("b", 1, 1), Scored("c", 0, 0.5), [] {
+                                    Item d = Scored("d", 1, 1);
+                                    d.gold_hash = "old gold";
+                                    return d;
+                                  }()});
+  const LoadedRun cand =
+      MakeRun({Scored("b", 0, 0.25), Scored("c", 0, 0.5), Scored("d", 0, 0), Scored("e", 0, 0)});
+  const DriftReport r = Drift(base, cand);
+  CHECK(r.paired == std::vector<std::string>{"b", "c"});
+  CHECK(r.only_in_base == std::vector<std::string>{"a"});
+  CHECK(r.only_in_cand == std::vector<std::string>{"e"});
+  CHECK(r.gold_changed == std::vector<std::string>{"d"});
+  // Over b and c only: correct 1, 0 -> 0, 0 and token_f1 1, 0.5 -> 0.25, 0.5.
+  const plumb::MetricDrift& correct = Metric(r, "correct");
+  CHECK(correct.n == 2);
+  CHECK(correct.base_mean == 0.5);
+  CHECK(correct.cand_mean == 0.0);
+  CHECK(correct.delta == -0.5);
+  CHECK(correct.mcnemar);
+  CHECK(correct.lost == 1);
+  CHECK(correct.gained == 0);
+  CHECK(correct.p_value == 1.0);  // min(1, 2 * P(X <= 0)), X ~ Bin(1, 1/2) = min(1, 2 * 0.5)
+  const plumb::MetricDrift& f1 = Metric(r, "token_f1");
+  CHECK_FALSE(f1.mcnemar);
+  CHECK(f1.delta == Approx(-0.375));  // ((0.25 - 1) + (0.5 - 0.5)) / 2
+  REQUIRE(r.lost.size() == 1);
+  CHECK(r.lost[0].id == "b");
+  CHECK(r.lost[0].deltas.at("correct") == -1);
+  CHECK(r.lost[0].deltas.at("token_f1") == -0.75);
+  CHECK(r.lost[0].base_answer == std::optional<std::string>("an answer"));
+  CHECK(r.gained.empty());
+}
+
+TEST_CASE("runs of different suites are refused") {
+  DriftReport report;
+  std::string error;
+  CHECK_FALSE(ComputeDrift(MakeRun({Scored("a", 1, 1)}, "ferry"),
+                           MakeRun({Scored("a", 1, 1)}, "harbour"), DriftOptions(), &report,
+                           &error));
+  CHECK(error.find("'ferry'") != std::string::npos);
+  CHECK(error.find("'harbour'") != std::string::npos);
+}
+
+TEST_CASE("a metric on every paired case has exactly PairedBootstrapMeanDelta's interval") {
+  // 40 cases, 7 lost, 2 gained, token F1 moved on most of them: one shared resample stream must
+  // give each metric the interval the single-statistic bootstrap gives it (same draws: the
+  // documented contract of runner/compare/drift.h).
+  std::vector<Item> b, c;
+  std::vector<double> bc, cc, bf, cf, bl, cl;
+  for (int i = 0; i < 40; ++i) {
+    const double was = i % 5 == 0 ? 0 : 1;
+    const double is = i < 18 && i % 2 == 1 ? 0 : (i == 0 || i == 5 ? 1 : was);
+    const double f1b = 0.1 + 0.02 * i, f1c = f1b + (i % 3 == 0 ? 0 : 0.01 * (i % 7) - 0.03);
+    b.push_back(Scored("case" + std::to_string(100 + i), was, f1b));
+    c.push_back(Scored("case" + std::to_string(100 + i), is, f1c));
+    b.back().latency_ms = 50 + 7 * (i % 11);
+    c.back().latency_ms = b.back().latency_ms * (1 + 0.01 * (i % 4));
+    bc.push_back(was), cc.push_back(is), bf.push_back(f1b), cf.push_back(f1c);
+    bl.push_back(b.back().latency_ms), cl.push_back(c.back().latency_ms);
+  }
+  DriftOptions options;
+  options.resamples = 3000;
+  options.seed = 99;
+  const DriftReport r = Drift(MakeRun(b), MakeRun(c), options);
+  const auto want_correct = plumb::metrics::PairedBootstrapMeanDelta(bc, cc, 3000, 99);
+  const plumb::MetricDrift& correct = Metric(r, "correct");
+  // 0/1 differences: every partial sum is an integer, so the two agree to the bit.
+  CHECK(correct.interval.low == want_correct.interval.low);
+  CHECK(correct.interval.high == want_correct.interval.high);
+  CHECK(correct.delta == want_correct.delta);
+  const auto want_f1 = plumb::metrics::PairedBootstrapMeanDelta(bf, cf, 3000, 99);
+  const plumb::MetricDrift& f1 = Metric(r, "token_f1");
+  CHECK(f1.interval.low == Approx(want_f1.interval.low).epsilon(1e-12).margin(1e-15));
+  CHECK(f1.interval.high == Approx(want_f1.interval.high).epsilon(1e-12).margin(1e-15));
+  const auto want_p50 = plumb::metrics::PairedBootstrapQuantileRatio(bl, cl, 50, 3000, 99);
+  const auto want_p95 = plumb::metrics::PairedBootstrapQuantileRatio(bl, cl, 95, 3000, 99);
+  REQUIRE(r.latency_p50.available);
+  CHECK(r.latency_p50.ratio == want_p50.ratio);
+  CHECK(r.latency_p50.interval.low == want_p50.interval.low);
+  CHECK(r.latency_p50.interval.high == want_p50.interval.high);
+  CHECK(r.latency_p95.interval.low == want_p95.interval.low);
+  CHECK(r.latency_p95.interval.high == want_p95.interval.high);
+}
+
+TEST_CASE("per-tag p-values are Holm-adjusted, and a tag verdict must survive the adjustment") {
+  // Three tags of 8 cases. Tag a: all 8 lost, McNemar p = 2 * 2^-8 = 0.0078125. Tag b: 6 lost,
+  // p = 2 * 2^-6 = 0.03125. Tag c: nothing changed, p = 1. Holm (m = 3): 3 * 0.0078125 =
+  // 0.0234375; max(0.0234375, 2 * 0.03125) = 0.0625; max(0.0625, 1 * 1) = 1.
+  std::vector<Item> b, c;
+  for (const char* tag : {"a", "b", "c"}) {
+    for (int i = 0; i < 8; ++i) {
+      const std::string id = std::string(tag) + std::to_string(i);
+      const bool lost = tag[0] == 'a' || (tag[0] == 'b' && i < 6);
+      b.push_back(Scored(id, 1, 1, {tag}));
+      c.push_back(Scored(id, lost ? 0 : 1, lost ? 0 : 1, {tag}));
+    }
+  }
+  const DriftReport r = Drift(MakeRun(b), MakeRun(c));
+  REQUIRE(r.tags.size() == 3);
+  auto tag_metric = [&](size_t t) -> const plumb::MetricDrift& {
+    for (const plumb::MetricDrift& m : r.tags[t].metrics) {
+      if (m.metric == "correct") return m;
+    }
+    FAIL("no correct in tag " << r.tags[t].tag);
+    return r.tags[t].metrics.front();
+  };
+  CHECK(r.tags[0].tag == "a");
+  CHECK(tag_metric(0).p_value == 0.0078125);
+  CHECK(tag_metric(0).p_holm == 0.0234375);
+  CHECK(tag_metric(0).interval.high == -1.0);  // every drawn case of tag a is a loss
+  CHECK(tag_metric(0).verdict == Verdict::kRegressed);
+  CHECK(tag_metric(1).p_value == 0.03125);
+  CHECK(tag_metric(1).p_holm == 0.0625);
+  // Tag b's interval alone would call it regressed; Holm's 0.0625 > 0.05 keeps it steady.
+  CHECK(plumb::DecideVerdict(tag_metric(1).delta, tag_metric(1).interval, 0.005) ==
+        Verdict::kRegressed);
+  CHECK(tag_metric(1).verdict == Verdict::kSteady);
+  CHECK(tag_metric(2).p_holm == 1.0);
+  CHECK(tag_metric(2).verdict == Verdict::kSteady);
+  // Run level: 14 of 24 lost, p = 2 * 2^-14; delta = -14/24.
+  CHECK(Metric(r, "correct").p_value == 2.0 / 16384);
+  CHECK(Metric(r, "correct").delta == Approx(-14.0 / 24));
+}
+
+TEST_CASE("with repeats a case's value is its mean over repeats, and split outcomes are unstable") {
+  // Base: x passes twice. Cand: x passes once and fails once (correct 1 and 0, F1 1 and 0.5):
+  // mean correct 0.5, mean F1 0.75, pass_rate 0.5, not a pass (a case passes when every repeat
+  // did), so x is lost and unstable. Means that are not 0/1 leave McNemar for Wilcoxon.
+  Item x0 = Scored("x", 1, 1), x1 = Scored("x", 1, 1);
+  x1.repeat = 1;
+  Item y0 = Scored("y", 1, 1), y1 = Scored("y", 1, 1);
+  y1.repeat = 1;
+  Item cx0 = Scored("x", 1, 1), cx1 = Scored("x", 0, 0.5);
+  cx1.repeat = 1;
+  LoadedRun base = MakeRun({x0, x1, y0, y1}), cand = MakeRun({cx0, cx1, y0, y1});
+  base.record["repeat"] = 2;
+  cand.record["repeat"] = 2;
+  const DriftReport r = Drift(base, cand);
+  const plumb::MetricDrift& correct = Metric(r, "correct");
+  CHECK_FALSE(correct.mcnemar);
+  CHECK(correct.cand_mean == 0.75);                 // (0.5 + 1) / 2
+  CHECK(Metric(r, "token_f1").cand_mean == 0.875);  // (0.75 + 1) / 2
+  CHECK(Metric(r, "pass_rate").cand_mean == 0.75);
+  CHECK(r.unstable == std::vector<std::string>{"x"});
+  REQUIRE(r.lost.size() == 1);
+  CHECK(r.lost[0].deltas.at("correct") == -0.5);
+  CHECK(r.cand_repeat == 2);
+}
+
+TEST_CASE("latency pairs only cases that did not error on either side") {
+  Item ok = Scored("a", 1, 1), failed = Scored("b", 0, 0), b2 = Scored("b", 1, 1);
+  failed.error = "timed out after 30000 ms";
+  failed.latency_ms = 30000;
+  const DriftReport r = Drift(MakeRun({ok, b2}), MakeRun({ok, failed}));
+  CHECK(r.latency_n == 1);
+  CHECK(r.latency_p50.ratio == 1.0);
+  REQUIRE(r.lost.size() == 1);
+  CHECK(r.lost[0].cand_error == "timed out after 30000 ms");
+  CHECK_FALSE(r.lost[0].cand_answer.has_value());
+}
+
+TEST_CASE("the gate: gated regressions and broken candidate floors exit 1") {
+  // 20 of 20 lost: delta -1, p = 2 * 2^-20, interval [-1, -1].
+  std::vector<Item> b, c;
+  for (int i = 0; i < 20; ++i) {
+    b.push_back(Scored("q" + std::to_string(i), 1, 1));
+    c.push_back(Scored("q" + std::to_string(i), 0, 0));
+  }
+  DriftOptions gated;
+  const DriftReport r = Drift(MakeRun(b), MakeRun(c), gated);
+  CHECK(r.gate.exit_code == 1);
+  CHECK(r.gate.regressed == std::vector<std::string>{"correct", "token_f1"});
+  CHECK(r.gate.reason.rfind("correct, token_f1 regressed", 0) == 0);
+
+  DriftOptions citations_only;
+  citations_only.gate = {"citation_recall"};
+  const DriftReport not_gated = Drift(MakeRun(b), MakeRun(c), citations_only);
+  CHECK(not_gated.gate.exit_code == 0);
+  CHECK(not_gated.gate.reason.find("citation_recall not measured") != std::string::npos);
+  CHECK(Metric(not_gated, "correct").verdict == Verdict::kRegressed);
+  CHECK_FALSE(Metric(not_gated, "correct").gated);
+
+  const nlohmann::json floors = nlohmann::json::array({{{"tag", nullptr},
+                                                        {"metric", "token_f1"},
+                                                        {"limit", 0.8},
+                                                        {"kind", "floor"},
+                                                        {"value", 0.75},
+                                                        {"held", false}}});
+  const DriftReport broken = Drift(MakeRun(b), MakeRun(b, "fixture", floors), citations_only);
+  CHECK(broken.gate.exit_code == 1);
+  CHECK(broken.gate.regressed.empty());
+  CHECK(broken.gate.broken_floors == std::vector<std::string>{"token_f1 0.75 < 0.8"});
+}
+
+TEST_CASE("the report says what changed between the runs and carries both runs' labels") {
+  LoadedRun base = MakeRun({Scored("a", 1, 1)}), cand = MakeRun({Scored("a", 1, 1)});
+  cand.record["corpus_fingerprint"] = "another corpus";
+  cand.record["labels"] = {{"git", "def456"}, {"prompt", "v2"}};
+  const DriftReport r = Drift(base, cand);
+  CHECK_FALSE(r.suite_changed);
+  CHECK(r.corpus_changed);
+  CHECK_FALSE(r.pipeline_config_changed);
+  CHECK(r.base.labels == std::map<std::string, std::string>{{"git", "abc123"}});
+  CHECK(r.cand.labels.at("prompt") == "v2");
+  CHECK(Metric(r, "correct").verdict == Verdict::kSteady);
+}
+
+TEST_CASE("metric ids are shown in one order everywhere") {
+  CHECK(plumb::MetricDisplayOrder(
+            {"mrr", "zeta", "recall@10", "token_f1", "recall@2", "correct", "pass_rate"}) ==
+        std::vector<std::string>{"correct", "token_f1", "recall@2", "recall@10", "mrr", "pass_rate",
+                                 "zeta"});
+  CHECK(plumb::IsKnownCaseMetric("recall@5"));
+  CHECK_FALSE(plumb::IsKnownCaseMetric("recall@"));
+  CHECK_FALSE(plumb::IsKnownCaseMetric("corect"));
+}
