@@ -12,6 +12,7 @@
 #include <memory>
 #include <string>
 #include <string_view>
+#include <vector>
 
 namespace plumb {
 
@@ -38,6 +39,13 @@ class AtomicFile {
   bool failed_ = false;
   int error_number_ = 0;
 };
+
+/// Removes from `dir` the temporary files of plumb processes that are no longer running:
+/// NAME.tmp.PID (AtomicFile) and NAME.pending.PID (`plumb score`'s journal), which a process
+/// killed by SIGKILL between creating and renaming one leaves behind. A file whose PID is alive,
+/// or is this process, is kept. Returns the names removed; errors are ignored (a file that
+/// cannot be removed is only clutter).
+std::vector<std::string> RemoveStaleTempFiles(const std::string& dir);
 
 }  // namespace plumb
 

@@ -8,6 +8,7 @@
 #include <string>
 #include <vector>
 
+#include "runner/base/interrupt.h"
 #include "runner/cli/check_command.h"
 #include "runner/cli/drift_command.h"
 #include "runner/cli/merge_command.h"
@@ -47,6 +48,8 @@ void AddOutputOptions(CLI::App* command, plumb::OutputOptions* outputs, bool jun
 }  // namespace
 
 int main(int argc, char** argv) {
+  // First of all: a SIGINT or SIGTERM at any moment ends plumb with 130 or 143, not by the signal.
+  plumb::InstallInterruptHandlers();
   // Loading and scoring a large suite allocates steadily on several threads; with glibc's
   // default padding each thread's heap grows by a system call every 128 KiB (about 2,000 of
   // them for 20,000 cases). Growing by 32 MiB at a time costs address space, not memory.

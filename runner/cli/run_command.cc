@@ -10,6 +10,7 @@
 #include <memory>
 #include <set>
 
+#include "runner/base/atomic_file.h"
 #include "runner/base/interrupt.h"
 #include "runner/base/keep_until_exit.h"
 #include "runner/cli/drift_command.h"
@@ -86,6 +87,7 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
     std::fprintf(stderr, "plumb: %s\n", error.c_str());
     return kExitUsage;
   }
+  ReportStaleTempFiles(dir);
   const std::string journal_path = dir + "/cases.jsonl";
   ResumeState resume;
   if (options.resume && !LoadResumeState(journal_path, suite, selected, &resume, &error)) {
@@ -146,6 +148,8 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
     inputs.stop = &watch.interrupted();
     scheduled = RunSchedule(inputs);
     adapter->Shutdown();
+    // A signal after the last case but before the watch ended still interrupts the run.
+    scheduled.interrupted = scheduled.interrupted || watch.interrupted();
   }
   progress.Finish();
   if (!scheduled.fatal_error.empty()) {
@@ -243,6 +247,14 @@ int ReportOnRun(const RunOptions& options, const std::string& suite, const std::
 
 }  // namespace
 
+void ReportStaleTempFiles(const std::string& dir) {
+  for (const std::string& name : RemoveStaleTempFiles(dir)) {
+    std::fprintf(stderr,
+                 "plumb: removed %s/%s, left by a plumb process that is no longer running\n",
+                 dir.c_str(), name.c_str());
+  }
+}
+
 std::string RunDirectory(const std::string& out_dir, const std::string& suite_name,
                          const std::string& pipeline, bool several) {
   if (out_dir.empty()) return "plumb-out/" + suite_name + "/" + pipeline;
@@ -333,6 +345,8 @@ int RunCommand(const RunOptions& options) {
     if (pipeline_code == kExitInterrupted || pipeline_code == kExitUsage) break;
     if (several && !options.json) std::printf("\n");
   }
+  // 130 for SIGINT, 143 for SIGTERM (SPEC §8; the shell's 128 + signal number).
+  if (code == kExitInterrupted) code = InterruptExitCode();
   if (options.json) {
     const nlohmann::json out = several ? nlohmann::json{{"runs", runs}, {"exit_code", code}}
                                        : (runs.empty() ? nlohmann::json::object() : runs[0]);

@@ -40,6 +40,10 @@ std::string RunDirectory(const std::string& out_dir, const std::string& suite_na
 /// Creates `dir` and its parents; false with a sentence on failure.
 bool MakeDirectories(const std::string& dir, std::string* error);
 
+/// Removes the temporary files dead plumb processes left in a run directory (RemoveStaleTempFiles)
+/// and names each on stderr.
+void ReportStaleTempFiles(const std::string& dir);
+
 }  // namespace plumb
 
 #endif  // PLUMB_RUNNER_CLI_RUN_COMMAND_H_

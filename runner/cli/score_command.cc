@@ -8,6 +8,7 @@
 #include <cstring>
 #include <memory>
 
+#include "runner/base/interrupt.h"
 #include "runner/base/keep_until_exit.h"
 #include "runner/cli/run_command.h"
 #include "runner/cli/run_summary.h"
@@ -37,8 +38,10 @@ int ScoreCommand(const ScoreOptions& options) {
   }
   // Records are scored as the predictions are read, into a journal beside the real one: a bad
   // predictions file leaves an earlier run in this directory as it was.
+  ReportStaleTempFiles(run_dir);
   const std::string journal_path = run_dir + "/cases.jsonl";
   const std::string pending_path = journal_path + ".pending." + std::to_string(getpid());
+  RemoveOnInterrupt(pending_path);
   auto owned_outcomes = std::make_unique<std::vector<CaseOutcome>>();
   std::vector<CaseOutcome>& outcomes = *owned_outcomes;
   outcomes.reserve(suite.cases.size());
@@ -53,11 +56,14 @@ int ScoreCommand(const ScoreOptions& options) {
     PredictionReader reader(options.predictions_path, prepared, journal.get());
     if (!reader.ReadAll(&outcomes, &max_repeat, &error) || !journal->Flush(&error)) {
       std::remove(pending_path.c_str());
+      KeepOnInterrupt(pending_path);
       std::fprintf(stderr, "plumb: %s\n", error.c_str());
       return 2;
     }
   }
-  if (std::rename(pending_path.c_str(), journal_path.c_str()) != 0) {
+  const bool renamed = std::rename(pending_path.c_str(), journal_path.c_str()) == 0;
+  KeepOnInterrupt(pending_path);
+  if (!renamed) {
     std::fprintf(stderr, "plumb: cannot write %s: %s\n", journal_path.c_str(),
                  std::strerror(errno));
     std::remove(pending_path.c_str());

@@ -4,6 +4,7 @@
 #define PLUMB_TESTS_SUPPORT_PLUMB_PROCESS_H_
 
 #include <fcntl.h>
+#include <signal.h>
 #include <spawn.h>
 #include <sys/wait.h>
 #include <unistd.h>
@@ -54,7 +55,10 @@ struct Process {
   std::string err_path;
 };
 
-inline Process Start(const std::vector<std::string>& args, const std::string& dir) {
+/// Starts plumb with stdout and stderr in files of `dir`; with `blocked`, plumb starts with
+/// those signals blocked (a signal sent then waits until plumb unblocks it).
+inline Process Start(const std::vector<std::string>& args, const std::string& dir,
+                     const sigset_t* blocked = nullptr) {
   Process p;
   p.out_path = dir + "/stdout.txt";
   p.err_path = dir + "/stderr.txt";
@@ -69,7 +73,14 @@ inline Process Start(const std::vector<std::string>& args, const std::string& di
   argv.push_back(const_cast<char*>(kPlumb.c_str()));
   for (const std::string& a : args) argv.push_back(const_cast<char*>(a.c_str()));
   argv.push_back(nullptr);
-  REQUIRE(posix_spawn(&p.pid, kPlumb.c_str(), &actions, nullptr, argv.data(), environ) == 0);
+  posix_spawnattr_t attributes;
+  posix_spawnattr_init(&attributes);
+  if (blocked != nullptr) {
+    posix_spawnattr_setsigmask(&attributes, blocked);
+    posix_spawnattr_setflags(&attributes, POSIX_SPAWN_SETSIGMASK);
+  }
+  REQUIRE(posix_spawn(&p.pid, kPlumb.c_str(), &actions, &attributes, argv.data(), environ) == 0);
+  posix_spawnattr_destroy(&attributes);
   posix_spawn_file_actions_destroy(&actions);
   return p;
 }
