@@ -90,7 +90,7 @@ TEST_CASE("SIGINT in the first milliseconds exits 130, not by the signal") {
   SignalBeforeMain(SIGINT, 130);
 }
 
-TEST_CASE("SIGTERM while run.json is written after the last case exits 143; --resume finishes") {
+TEST_CASE("SIGTERM while run.json is written after the last case exits 143 and --resume finishes") {
   const std::string dir = plumb_test::MakeTempDir();
   const std::string suite = WriteSuite(dir, 5);
   const std::string out = dir + "/out";
