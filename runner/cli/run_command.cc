@@ -16,6 +16,7 @@
 #include "runner/cli/drift_command.h"
 #include "runner/cli/run_summary.h"
 #include "runner/pipeline/adapter_factory.h"
+#include "runner/pipeline/child_process.h"
 #include "runner/report/summary_table.h"
 #include "runner/run/prepared_suite.h"
 #include "runner/run/run_journal.h"
@@ -148,6 +149,10 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
     inputs.stop = &watch.interrupted();
     scheduled = RunSchedule(inputs);
     adapter->Shutdown();
+    // Each worker's adopted descendants died with it; what is left is a descendant that shed
+    // its PLUMB_WORKER mark. plumb starts no children but pipelines, so every adopted process
+    // is a pipeline's.
+    KillAdoptedDescendants("");
     // A signal after the last case but before the watch ended still interrupts the run.
     scheduled.interrupted = scheduled.interrupted || watch.interrupted();
   }

@@ -1,5 +1,6 @@
 #include "runner/pipeline/child_process.h"
 
+#include <dirent.h>
 #include <errno.h>
 #include <fcntl.h>
 #include <poll.h>
@@ -12,9 +13,14 @@
 #include <sys/wait.h>
 #include <unistd.h>
 
+#include <atomic>
 #include <cmath>
+#include <fstream>
 #include <mutex>
+#include <set>
+#include <sstream>
 #include <thread>
+#include <vector>
 
 namespace plumb {
 namespace {
@@ -30,6 +36,84 @@ int MillisecondsUntil(Clock::time_point deadline) {
   if (left <= Clock::duration::zero()) return 0;
   // Round up: a poll that wakes a fraction of a millisecond early would only spin.
   return static_cast<int>(std::ceil(std::chrono::duration<double, std::milli>(left).count()));
+}
+
+// The pids of live ChildProcess objects: plumb's own children, never taken for adopted ones.
+std::mutex g_spawned_mutex;
+std::set<pid_t> g_spawned;
+std::atomic<long> g_spawn_serial{0};
+
+void TrackSpawned(pid_t pid, bool alive) {
+  std::lock_guard<std::mutex> lock(g_spawned_mutex);
+  if (alive) {
+    g_spawned.insert(pid);
+  } else {
+    g_spawned.erase(pid);
+  }
+}
+
+bool IsSpawned(pid_t pid) {
+  std::lock_guard<std::mutex> lock(g_spawned_mutex);
+  return g_spawned.count(pid) != 0;
+}
+
+std::string ReadSmallFile(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  std::stringstream text;
+  text << in.rdbuf();
+  return text.str();
+}
+
+// plumb's children: from /proc/self/task/*/children (any of plumb's threads may be the parent
+// of an adopted process), or, on kernels without that file, from every /proc/PID/stat.
+std::vector<pid_t> OwnChildren() {
+  std::vector<pid_t> children;
+  bool have_children_files = false;
+  if (DIR* tasks = opendir("/proc/self/task")) {
+    while (const dirent* task = readdir(tasks)) {
+      if (task->d_name[0] == '.') continue;
+      const std::string path = std::string("/proc/self/task/") + task->d_name + "/children";
+      if (access(path.c_str(), R_OK) != 0) continue;
+      have_children_files = true;
+      std::istringstream list(ReadSmallFile(path));
+      for (pid_t pid; list >> pid;) children.push_back(pid);
+    }
+    closedir(tasks);
+  }
+  if (have_children_files) return children;
+  const pid_t self = getpid();
+  if (DIR* proc = opendir("/proc")) {
+    while (const dirent* entry = readdir(proc)) {
+      if (entry->d_name[0] < '0' || entry->d_name[0] > '9') continue;
+      // /proc/PID/stat: "pid (comm) state ppid ..."; comm may hold spaces and parentheses.
+      const std::string stat = ReadSmallFile(std::string("/proc/") + entry->d_name + "/stat");
+      const size_t close = stat.rfind(')');
+      if (close == std::string::npos) continue;
+      std::istringstream fields(stat.substr(close + 1));
+      std::string state;
+      pid_t parent = 0;
+      if (fields >> state >> parent && parent == self) children.push_back(atoi(entry->d_name));
+    }
+    closedir(proc);
+  }
+  return children;
+}
+
+// The PLUMB_WORKER value in a process's environment as it was at exec; empty if none or
+// unreadable (a zombie has none).
+std::string WorkerTagOf(pid_t pid) {
+  const std::string environ = ReadSmallFile("/proc/" + std::to_string(pid) + "/environ");
+  const std::string key = std::string(kWorkerVariable) + "=";
+  size_t at = 0;
+  while (at < environ.size()) {
+    size_t end = environ.find('\0', at);
+    if (end == std::string::npos) end = environ.size();
+    if (environ.compare(at, key.size(), key) == 0) {
+      return environ.substr(at + key.size(), end - at - key.size());
+    }
+    at = end + 1;
+  }
+  return "";
 }
 
 void CloseFd(int* fd) {
@@ -155,6 +239,33 @@ std::string DescribeExit(int wait_status) {
   return "process ended with wait status " + std::to_string(wait_status);
 }
 
+int KillAdoptedDescendants(const std::string& tag) {
+  int killed = 0;
+  // Killing one may orphan its own children, which plumb then adopts: look again until a look
+  // finds nothing, a bounded number of times (a fork bomb cannot hold plumb here).
+  for (int round = 0; round < 16; ++round) {
+    std::vector<pid_t> victims;
+    for (const pid_t pid : OwnChildren()) {
+      if (IsSpawned(pid)) continue;
+      if (!tag.empty() && WorkerTagOf(pid) != tag) continue;
+      victims.push_back(pid);
+    }
+    if (victims.empty()) break;
+    for (const pid_t pid : victims) {
+      if (getpgid(pid) == pid) kill(-pid, SIGKILL);  // a group of its own, as setsid makes one
+      kill(pid, SIGKILL);
+    }
+    for (const pid_t pid : victims) {
+      const Clock::time_point limit = Clock::now() + kGroupReapLimit;
+      while (waitpid(pid, nullptr, WNOHANG) == 0 && Clock::now() < limit) {
+        std::this_thread::sleep_for(std::chrono::microseconds(200));
+      }
+      ++killed;
+    }
+  }
+  return killed;
+}
+
 std::unique_ptr<ChildProcess> ChildProcess::Spawn(const SpawnSpec& spec, std::string* error) {
   BecomeSubreaper();
   int in[2], out[2], err[2];
@@ -204,9 +315,17 @@ std::unique_ptr<ChildProcess> ChildProcess::Spawn(const SpawnSpec& spec, std::st
   argv.reserve(spec.argv.size() + 1);
   for (const std::string& arg : spec.argv) argv.push_back(const_cast<char*>(arg.c_str()));
   argv.push_back(nullptr);
+  child->tag_ = std::to_string(getpid()) + "." + std::to_string(++g_spawn_serial);
+  const std::string tag_variable = std::string(kWorkerVariable) + "=" + child->tag_;
+  const std::string tag_prefix = std::string(kWorkerVariable) + "=";
   std::vector<char*> envp;
-  envp.reserve(spec.env.size() + 1);
-  for (const std::string& var : spec.env) envp.push_back(const_cast<char*>(var.c_str()));
+  envp.reserve(spec.env.size() + 2);
+  for (const std::string& var : spec.env) {
+    if (var.compare(0, tag_prefix.size(), tag_prefix) != 0) {
+      envp.push_back(const_cast<char*>(var.c_str()));
+    }
+  }
+  envp.push_back(const_cast<char*>(tag_variable.c_str()));
   envp.push_back(nullptr);
 
   pid_t pid = -1;
@@ -222,6 +341,7 @@ std::unique_ptr<ChildProcess> ChildProcess::Spawn(const SpawnSpec& spec, std::st
     return nullptr;  // the destructor closes our ends; there is no process to reap
   }
   child->pid_ = pid;
+  TrackSpawned(pid, true);
   child->exit_fd_ = OpenPidfd(pid);
   if (!SetNonBlocking(child->stdin_fd_) || !SetNonBlocking(child->stdout_fd_) ||
       !SetNonBlocking(child->stderr_fd_)) {
@@ -291,6 +411,7 @@ int ChildProcess::KillAndReap() {
   }
   reaped_ = true;
   wait_status_ = status;
+  TrackSpawned(pid_, false);
   // Helpers in the group were re-parented to plumb (a subreaper) when their parent died.
   const Clock::time_point limit = Clock::now() + kGroupReapLimit;
   while (true) {
@@ -304,6 +425,7 @@ int ChildProcess::KillAndReap() {
     if (Clock::now() >= limit) break;
     std::this_thread::sleep_for(std::chrono::milliseconds(1));
   }
+  KillAdoptedDescendants(tag_);
   CloseFd(&exit_fd_);
   return wait_status_;
 }

@@ -34,6 +34,19 @@ bool FindExecutable(const std::string& name, const std::string& cwd, const std::
 /// the words of a case error.
 std::string DescribeExit(int wait_status);
 
+/// The environment variable that marks a pipeline process and everything it starts:
+/// PLUMB_WORKER=<plumb's pid>.<serial>, a serial per ChildProcess (see ChildProcess::tag).
+inline constexpr char kWorkerVariable[] = "PLUMB_WORKER";
+
+/// Kills and reaps the descendants plumb adopted as a subreaper: processes whose parent is now
+/// plumb but which plumb did not start as a ChildProcess (a pipeline's helper that left its
+/// process group, with setsid say, and whose parent died). With a non-empty `tag`, only those
+/// whose environment carries PLUMB_WORKER=`tag` (a descendant of that one ChildProcess); with
+/// an empty `tag`, every such process (only for a plumb that starts no other children). Each is
+/// SIGKILLed with its process group when it leads one; processes that its death orphans are
+/// adopted in turn and killed too. Returns how many were killed. Thread-safe.
+int KillAdoptedDescendants(const std::string& tag);
+
 /// Not thread-safe: one thread drives a ChildProcess at a time. Copying is deleted: the object
 /// owns the process (it is killed and reaped by the destructor at the latest) and the pipe ends.
 class ChildProcess {
@@ -55,6 +68,8 @@ class ChildProcess {
 
   /// The child's pid, which is also its process group id.
   pid_t pid() const { return pid_; }
+  /// The value of PLUMB_WORKER in the child's environment, unique within this plumb.
+  const std::string& tag() const { return tag_; }
   /// Our ends of the pipes; -1 once closed.
   int stdin_fd() const { return stdin_fd_; }
   int stdout_fd() const { return stdout_fd_; }
@@ -78,8 +93,9 @@ class ChildProcess {
   void SignalGroup(int signal);
 
   /// SIGKILLs the whole group (before reaping the leader, so the group id is still ours), reaps
-  /// the child and every member of the group re-parented to plumb, and returns the child's wait
-  /// status. Later calls return the same status.
+  /// the child and every member of the group re-parented to plumb, kills the descendants that
+  /// left the group and were adopted by plumb (KillAdoptedDescendants(tag())), and returns the
+  /// child's wait status. Later calls return the same status.
   int KillAndReap();
 
   /// The polite end: SIGTERM to the group, up to `grace` for the child to exit (cut short when
@@ -97,6 +113,7 @@ class ChildProcess {
   int exit_fd_ = -1;
   bool reaped_ = false;
   int wait_status_ = 0;
+  std::string tag_;
 };
 
 }  // namespace plumb
