@@ -138,6 +138,24 @@ ssize_t ReadInto(int fd, ReplyBuffer* buffer, size_t limit) {
 
 bool IsReady(const pollfd& fd) { return fd.fd >= 0 && fd.revents != 0; }
 
+// The protocol's rule for an "id" in a reply: when a reply object carries one, it is the
+// request's. Only replies that contain the bytes "id" (in quotes) are parsed for it.
+bool ReplyIdMatches(const std::string& body, const std::string& request_id, std::string* error) {
+  if (body.find("\"id\"") == std::string::npos) return true;
+  const nlohmann::json reply = nlohmann::json::parse(body, nullptr, /*allow_exceptions=*/false);
+  if (!reply.is_object()) return true;  // not this check's business: parsing words it
+  const auto id = reply.find("id");
+  if (id == reply.end()) return true;
+  if (id->is_string() && id->get_ref<const std::string&>() == request_id) return true;
+  // The id is the pipeline's text: bounded here, redacted by the caller.
+  const std::string text = id->is_string() ? id->get<std::string>() : id->dump();
+  const std::string shown = std::string(Utf8Prefix(text, 200)) + (text.size() > 200 ? "..." : "");
+  *error = "the reply's id " + (id->is_string() ? "'" + shown + "'" : shown) +
+           " is not the request's id '" + request_id +
+           "' (a reply that carries an id must carry the request's)";
+  return false;
+}
+
 std::vector<std::string> MergeEnvironment(const std::map<std::string, ExpandedString>& extra) {
   std::vector<std::string> env;
   for (char** var = environ; var != nullptr && *var != nullptr; ++var) {
@@ -168,6 +186,9 @@ struct SubprocessAdapter::Slot {
   TailBuffer err{kStderrTailBytes};
   std::unique_ptr<char[]> scratch{new char[kReadChunk]};  // stderr reads land here
   size_t err_this_call = 0;  // stderr bytes read during the current call
+  // The worker printed more after its reply line: it is out of step with the requests, so it
+  // is replaced before the next request.
+  bool out_of_step = false;
 
   void ReadStderrOnce() {
     if (!child || !stderr_open) return;
@@ -293,6 +314,18 @@ CallResult SubprocessAdapter::Call(const PipelineRequest& request, int index) {
       outcome = Attempt(slot, line, &result);
     }
   }
+  if (outcome == Outcome::kReply && !ReplyIdMatches(result.body, request.id, &result.error)) {
+    // Most likely the late reply to an earlier request: the worker is out of step.
+    result.error = RedactSecrets(result.error, secrets_);
+    outcome = Outcome::kCrash;
+    if (slot.child) {
+      result.error += "; the worker was restarted";
+      slot.child->KillAndReap();
+      slot.DrainStderr();
+      slot.child.reset();
+    }
+    slot.out_of_step = false;
+  }
   // A call cut short by Shutdown fails for that reason, whatever the process was doing.
   if (outcome != Outcome::kReply && interrupted_) result.error = "run interrupted";
   FillExcerpts(slot, outcome != Outcome::kReply, &result);
@@ -325,37 +358,43 @@ bool SubprocessAdapter::EnsureStarted(Slot& slot, CallResult* result) {
   return true;
 }
 
-void SubprocessAdapter::ReapDeadWorker(Slot& slot) {
-  if (!slot.child) return;
+bool SubprocessAdapter::ReapDeadWorker(Slot& slot) {
+  if (!slot.child) return false;
   ChildProcess& child = *slot.child;
   // One non-blocking look before the request goes out: a worker that died (or closed stdout)
-  // since its last reply is replaced without spending this case's retry, and stray output it
-  // printed after that reply is dropped rather than taken as this request's answer.
+  // since its last reply is replaced without spending this case's retry. Output it printed
+  // while no request was outstanding breaks the protocol (one reply line per request): it is
+  // never taken as this request's answer, and the worker, out of step, is replaced too.
   pollfd fds[2] = {{child.stdout_fd(), POLLIN, 0}, {child.exit_fd(), POLLIN, 0}};
   const nfds_t count = child.exit_fd() >= 0 ? 2 : 1;
   bool dead = false;
+  bool stray = slot.out_of_step;
   if (poll(fds, count, 0) > 0) {
     if (count == 2 && fds[1].revents != 0) dead = true;
     if (fds[0].revents != 0) {
       for (int i = 0; i < kFinalDrainReads; ++i) {
         const ssize_t got = ReadInto(child.stdout_fd(), &slot.out, kReadChunk);
         slot.out.clear();
+        if (got > 0) stray = true;
         if (got == 0) dead = true;
         if (got <= 0) break;
       }
     }
   }
   if (count == 1 && !dead) dead = child.HasExited();
-  if (!dead) return;
+  slot.out_of_step = false;
+  if (!dead && !stray) return false;
   child.KillAndReap();
   slot.DrainStderr();
   slot.child.reset();
+  return stray;
 }
 
 SubprocessAdapter::Outcome SubprocessAdapter::Attempt(Slot& slot, const std::string& line,
                                                       CallResult* result) {
   slot.out.clear();
-  ReapDeadWorker(slot);
+  // A worker replaced for stray output costs this case a retry: say so in its attempts.
+  if (ReapDeadWorker(slot)) result->attempts = 2;
   if (!EnsureStarted(slot, result)) return Outcome::kStartFailed;
   ChildProcess& child = *slot.child;
   const size_t limit = max_response_bytes_ + kReadChunk + 1;
@@ -406,6 +445,8 @@ SubprocessAdapter::Outcome SubprocessAdapter::Attempt(Slot& slot, const std::str
     }
     result->latency_ms = MillisecondsSince(start);
     result->body.assign(out.data(), length);
+    // Bytes after the reply line answer no request: the worker is replaced before the next.
+    if (out.size() > length + 1) slot.out_of_step = true;
     *outcome = Outcome::kReply;
     return true;
   };

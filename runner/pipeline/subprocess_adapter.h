@@ -7,6 +7,11 @@
 /// request, closes stdin and takes everything the process prints before it exits as the reply.
 /// The scheduler creates one per pipeline and calls it from `slots()` worker threads.
 ///
+/// The protocol (README): one reply line per request; a reply that carries an "id" must carry
+/// the request's, else the call fails naming both ids (and a persistent worker is replaced, being
+/// out of step); output a persistent worker prints while no request is outstanding is never an
+/// answer: the worker is replaced before the next request, which then counts two attempts.
+///
 /// Failures become CallResult errors, never exceptions: "timed out after 30s", "response
 /// exceeded 16 MiB", "process exited with status 3", "process killed by signal SIGSEGV",
 /// "run interrupted". A persistent worker that crashes before replying is restarted and the
@@ -85,7 +90,7 @@ class SubprocessAdapter : public Adapter {
   Outcome Attempt(Slot& slot, const std::string& request_line, CallResult* result);
   Outcome AttemptPerCase(Slot& slot, const std::string& request_line, CallResult* result);
   bool EnsureStarted(Slot& slot, CallResult* result);
-  void ReapDeadWorker(Slot& slot);
+  bool ReapDeadWorker(Slot& slot);
   void FillExcerpts(Slot& slot, bool failed, CallResult* result) const;
 
   SpawnSpec spawn_;
