@@ -757,12 +757,16 @@ DriftGate DecideGate(const DriftReport& report, const LoadedRun& cand) {
     if (m->verdict == Verdict::kRegressed) gate.regressed.push_back(metric);
   }
   const nlohmann::json& thresholds = ObjectAt(cand.record, "thresholds");
-  int floors = 0;
+  int floors = 0, ceilings = 0, broken_floors = 0, broken_ceilings = 0;
   if (thresholds.is_array()) {
     for (const nlohmann::json& t : thresholds) {
-      ++floors;
+      const bool ceiling = StringAt(t, "kind") == "ceiling";
+      ++(ceiling ? ceilings : floors);
       const nlohmann::json& held = ObjectAt(t, "held");
-      if (held.is_boolean() && !held.get<bool>()) gate.broken_floors.push_back(FloorText(t));
+      if (held.is_boolean() && !held.get<bool>()) {
+        gate.broken_floors.push_back(FloorText(t));
+        ++(ceiling ? broken_ceilings : broken_floors);
+      }
     }
   }
   std::vector<std::string> parts;
@@ -776,9 +780,11 @@ DriftGate DecideGate(const DriftReport& report, const LoadedRun& cand) {
         names, m.metric, m.base_mean, m.cand_mean, m.delta, m.interval.low, m.interval.high));
   }
   if (!gate.broken_floors.empty()) {
-    parts.push_back(
-        fmt::format("candidate floor{} broken: {}{}", gate.broken_floors.size() == 1 ? "" : "s",
-                    gate.broken_floors.front(), gate.broken_floors.size() > 1 ? ", ..." : ""));
+    // "candidate floor broken: ...", "candidate 2 floors and 1 ceiling broken: ..."
+    std::string count = CountFloorsAndCeilings(broken_floors, broken_ceilings);
+    if (gate.broken_floors.size() == 1) count = count.substr(2);
+    parts.push_back(fmt::format("candidate {} broken: {}{}", count, gate.broken_floors.front(),
+                                gate.broken_floors.size() > 1 ? ", ..." : ""));
   }
   if (!parts.empty()) {
     gate.exit_code = kExitFloorBroken;
@@ -789,10 +795,11 @@ DriftGate DecideGate(const DriftReport& report, const LoadedRun& cand) {
   gate.exit_code = kExitOk;
   std::string list;
   for (const std::string& s : states) list += (list.empty() ? "" : ", ") + s;
-  gate.reason = "no gated metric regressed (" + (list.empty() ? std::string("none gated") : list) +
-                "); " +
-                (floors == 0 ? std::string("the candidate sets no floors")
-                             : fmt::format("all {} candidate floors held", floors));
+  gate.reason =
+      "no gated metric regressed (" + (list.empty() ? std::string("none gated") : list) + "); " +
+      (floors + ceilings == 0
+           ? std::string("the candidate sets no floors or ceilings")
+           : "all " + CountFloorsAndCeilings(floors, ceilings) + " of the candidate held");
   return gate;
 }
 

@@ -126,7 +126,7 @@ struct RunIdentity {
 struct DriftGate {
   std::vector<std::string> metrics;  // the gated metric ids
   std::vector<std::string> regressed;
-  std::vector<std::string> broken_floors;  // the candidate's thresholds that did not hold
+  std::vector<std::string> broken_floors;  // the candidate's floors and ceilings that broke
   int exit_code = 0;                       // kExitOk or kExitFloorBroken
   std::string reason;                      // one line
 };

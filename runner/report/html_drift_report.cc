@@ -197,14 +197,15 @@ void AppendMasthead(std::string* out, const nlohmann::json& drift, const LoadedR
     regressed += JsonString(m, "verdict") == "regressed" ? 1 : 0;
     improved += JsonString(m, "verdict") == "improved" ? 1 : 0;
   }
-  // The gate fails for a regressed gated metric or for the candidate's broken floors; say which.
+  // The gate fails for a regressed gated metric or for the candidate's broken floors or
+  // ceilings; say which.
   const bool gate_regressed = !JsonStrings(gate, "regressed").empty();
   const bool floors_broken = !JsonStrings(gate, "broken_floors").empty();
   std::string word = code == 0        ? (regressed > 0  ? "No gated regression"
                                          : improved > 0 ? "Improved"
                                                         : "Steady")
                      : gate_regressed ? "Regressed"
-                     : floors_broken  ? "Floors broken"
+                     : floors_broken  ? "Floor or ceiling broken"
                                       : "Gate failed";
   out->append(code == 0 ? "<header class=\"mast held\">" : "<header class=\"mast broken\">");
   out->append("<div class=\"wrap\"><div class=\"brand\">plumb <span>drift report</span></div><h1>");

@@ -61,11 +61,27 @@ Verdict RunVerdictOf(const nlohmann::json& record) {
   const nlohmann::json verdict = record.value("verdict", nlohmann::json::object());
   const int code = verdict.value("exit_code", 0);
   const nlohmann::json thresholds = record.value("thresholds", nlohmann::json::array());
-  bool broken = false;
-  for (const nlohmann::json& t : thresholds) broken = broken || !t.value("held", false);
-  if (code == 0) return {thresholds.empty() ? "No floors set" : "Floors held", true};
+  bool floor_broken = false, ceiling_broken = false, any_floor = false, any_ceiling = false;
+  for (const nlohmann::json& t : thresholds) {
+    const bool ceiling = JsonString(t, "kind") == "ceiling";
+    (ceiling ? any_ceiling : any_floor) = true;
+    if (!t.value("held", false)) (ceiling ? ceiling_broken : floor_broken) = true;
+  }
+  if (code == 0) {
+    if (thresholds.empty()) return {"No floors or ceilings set", true};
+    return {any_floor && any_ceiling ? "Floors and ceilings held"
+            : any_ceiling            ? "Ceilings held"
+                                     : "Floors held",
+            true};
+  }
   if (code == 3) return {"Too many case errors", false};
-  if (code == 1) return {broken ? "Floors broken" : "Gate failed", false};
+  if (code == 1) {
+    return {floor_broken && ceiling_broken ? "Floors and ceilings broken"
+            : floor_broken                 ? "Floors broken"
+            : ceiling_broken               ? "Ceilings broken"
+                                           : "Gate failed",
+            false};
+  }
   return {"Exit " + std::to_string(code), false};
 }
 
@@ -137,13 +153,14 @@ void AppendMasthead(std::string* out, const LoadedRun& run, const std::vector<Ca
 
 void AppendFloors(std::string* out, const nlohmann::json& record) {
   const nlohmann::json thresholds = record.value("thresholds", nlohmann::json::array());
-  out->append("<section id=\"floors\"><h2>Floors</h2>");
+  out->append("<section id=\"floors\"><h2>Floors and ceilings</h2>");
   if (thresholds.empty()) {
-    out->append("<p class=\"note\">The suite sets no thresholds.</p></section>");
+    out->append("<p class=\"note\">The suite sets no floors or ceilings.</p></section>");
     return;
   }
   out->append(
-      "<table><thead><tr><th>metric</th><th>scope</th><th>needs</th><th>got</th><th>result</th>"
+      "<table><thead><tr><th>metric</th><th>scope</th><th>floor / "
+      "ceiling</th><th>got</th><th>result</th>"
       "</tr></thead><tbody>");
   for (const nlohmann::json& t : thresholds) {
     const bool held = t.value("held", false);
@@ -159,7 +176,7 @@ void AppendFloors(std::string* out, const nlohmann::json& record) {
       AppendTagLink(out, tag);
     }
     out->append("</td><td class=\"num\">");
-    out->append(ceiling ? "\xE2\x89\xA4 " : "\xE2\x89\xA5 ");
+    out->append(ceiling ? "ceiling \xE2\x89\xA4 " : "floor \xE2\x89\xA5 ");
     out->append(FormatScore(t.value("limit", 0.0)));
     out->append("</td><td class=\"num\">");
     const nlohmann::json value = t.value("value", nlohmann::json());
@@ -242,11 +259,16 @@ void AppendTagTable(std::string* out, const nlohmann::json& record) {
     for (const auto& [metric, m] : metrics.items()) seen[metric] = m;
   }
   const std::vector<std::string> columns = MetricOrder(seen);
-  std::map<std::pair<std::string, std::string>, std::pair<double, bool>> floors;
+  struct Limit {
+    double value = 0;
+    bool held = false;
+    bool ceiling = false;
+  };
+  std::map<std::pair<std::string, std::string>, Limit> floors;
   for (const nlohmann::json& t : record.value("thresholds", nlohmann::json::array())) {
     if (!t.value("tag", nlohmann::json()).is_string()) continue;
-    floors[{JsonString(t, "tag"), JsonString(t, "metric")}] = {t.value("limit", 0.0),
-                                                               t.value("held", false)};
+    floors[{JsonString(t, "tag"), JsonString(t, "metric")}] = {
+        t.value("limit", 0.0), t.value("held", false), JsonString(t, "kind") == "ceiling"};
   }
   out->append(
       "<section id=\"tags\"><h2>By tag</h2><p class=\"note\">Mean, and 95% interval below it. "
@@ -271,9 +293,10 @@ void AppendTagTable(std::string* out, const nlohmann::json& record) {
         out->append(FormatScore(it->value("mean", 0.0)));
         auto floor = floors.find({tag, metric});
         if (floor != floors.end()) {
-          out->append(floor->second.second ? " <span class=\"res held\">floor "
-                                           : " <span class=\"res broken\">floor ");
-          out->append(FormatScore(floor->second.first) + "</span>");
+          out->append(floor->second.held ? " <span class=\"res held\">"
+                                         : " <span class=\"res broken\">");
+          out->append(floor->second.ceiling ? "ceiling " : "floor ");
+          out->append(FormatScore(floor->second.value) + "</span>");
         }
         if (interval.size() == 2) {
           out->append("<span class=\"iv\">" + FormatScore(interval[0].get<double>()) +

@@ -132,7 +132,7 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
   if (!labels.empty()) out += " · labels: " + LabelsText(labels);
   out += "\n\n";
 
-  // Floors by metric, for the table's last column.
+  // Floors and ceilings by metric, for the table's last column.
   std::map<std::string, std::string> floors;
   const nlohmann::json& thresholds = JsonAt(r, "thresholds");
   if (thresholds.is_array()) {
@@ -140,7 +140,7 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
       if (!JsonString(t, "tag").empty()) continue;
       const bool held = JsonAt(t, "held").is_boolean() && JsonAt(t, "held").get<bool>();
       floors[JsonString(t, "metric")] =
-          fmt::format("{} {} {}", JsonString(t, "kind") == "ceiling" ? "≤" : "≥",
+          fmt::format("{} {} {}", JsonString(t, "kind") == "ceiling" ? "ceiling" : "floor",
                       fmt::format("{:.4g}", JsonNumber(t, "limit")), held ? "held" : "**broken**");
     }
   }
@@ -149,7 +149,7 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
   if (table.is_object()) {
     for (auto it = table.begin(); it != table.end(); ++it) names.push_back(it.key());
   }
-  out += "| metric | mean | 95% interval | n | floor |\n|:--|--:|:--|--:|:--|\n";
+  out += "| metric | mean | 95% interval | n | floor / ceiling |\n|:--|--:|:--|--:|:--|\n";
   for (const std::string& metric : MetricDisplayOrder(names)) {
     const nlohmann::json& m = table[metric];
     const nlohmann::json& interval = JsonAt(m, "interval");
@@ -179,8 +179,9 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
     for (const nlohmann::json& t : thresholds) {
       if (JsonString(t, "tag").empty()) continue;
       const bool held = JsonAt(t, "held").is_boolean() && JsonAt(t, "held").get<bool>();
-      tag_floors += fmt::format("- tag {} {}: {} (floor {:.4g}) {}\n", Code(JsonString(t, "tag")),
+      tag_floors += fmt::format("- tag {} {}: {} ({} {:.4g}) {}\n", Code(JsonString(t, "tag")),
                                 Code(JsonString(t, "metric")), Fixed(JsonNumber(t, "value"), 3),
+                                JsonString(t, "kind") == "ceiling" ? "ceiling" : "floor",
                                 JsonNumber(t, "limit"), held ? "held" : "**broken**");
     }
     if (!tag_floors.empty()) out += "\n" + tag_floors;

@@ -11,7 +11,7 @@ std::string ThresholdCell(const std::vector<ThresholdOutcome>& thresholds, const
                           const std::string& metric, const Palette& p) {
   for (const ThresholdOutcome& t : thresholds) {
     if (t.tag != tag || t.metric != metric) continue;
-    return fmt::format("{} {:<6.4g} {}{}{}", t.ceiling ? "<=" : ">=", t.limit,
+    return fmt::format("{} {:<6.4g} {}{}{}", t.ceiling ? "ceiling" : "floor  ", t.limit,
                        t.held ? p.good : p.bad, t.held ? "held" : "BROKEN", p.reset);
   }
   return "";
@@ -39,7 +39,7 @@ std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
   if (h.repeat > 1) out += fmt::format(" x {} repeats", h.repeat);
   out += fmt::format(", {} errored, {} passed, {:.1f}s\n\n", run.errored, run.passed, h.seconds);
   out += fmt::format("  {}{:<20} {:>7}   {:<16} {:>6}   {}{}\n", p.dim, "metric", "mean",
-                     "95% interval", "n", "threshold", p.reset);
+                     "95% interval", "n", "floor / ceiling", p.reset);
   AppendMetricRows(&out, run.metrics, thresholds, "", "  ", p);
 
   const metrics::LatencySummary& l = run.latency;

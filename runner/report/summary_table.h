@@ -2,9 +2,9 @@
 #define PLUMB_RUNNER_REPORT_SUMMARY_TABLE_H_
 
 /// The terminal summary a person reads after `plumb run` / `plumb score`: one row per metric
-/// (mean, 95% interval, n, threshold and whether it held), latency percentiles, a compact
-/// per-tag table, and, last, the verdict line with the exit code and its reason. Colour only
-/// when writing to a terminal and NO_COLOR is unset (https://no-color.org convention).
+/// (mean, 95% interval, n, its floor or ceiling and whether it held), latency percentiles, a
+/// compact per-tag table, and, last, the verdict line with the exit code and its reason. Colour
+/// only when writing to a terminal and NO_COLOR is unset (https://no-color.org convention).
 
 #include <cstdio>
 #include <string>

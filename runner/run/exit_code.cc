@@ -23,24 +23,26 @@ RunVerdict DecideRunVerdict(const RunAggregates& run,
             fmt::format("{} of {} items errored ({:.1f}%), above max_error_rate {:.1f}%",
                         run.errored, run.items, 100 * run.ErrorRate(), 100 * max_error_rate)};
   }
-  int broken = 0;
+  int floors = 0, ceilings = 0, broken_floors = 0, broken_ceilings = 0;
   std::string first;
   for (const ThresholdOutcome& t : thresholds) {
+    ++(t.ceiling ? ceilings : floors);
     if (t.held) continue;
-    if (broken++ == 0) {
+    if (broken_floors + broken_ceilings == 0) {
       const std::string scope = t.tag.empty() ? t.metric : "tag " + t.tag + " " + t.metric;
       first = t.value ? fmt::format("{} {:.4g} {} {:.4g}", scope, *t.value, t.ceiling ? ">" : "<",
                                     t.limit)
                       : fmt::format("{} was not measured by any case", scope);
     }
+    ++(t.ceiling ? broken_ceilings : broken_floors);
   }
-  if (broken > 0) {
+  if (broken_floors + broken_ceilings > 0) {
     return {kExitFloorBroken,
-            fmt::format("{} threshold{} broken: {}{}", broken, broken == 1 ? "" : "s", first,
-                        broken > 1 ? ", ..." : "")};
+            fmt::format("{} broken: {}{}", CountFloorsAndCeilings(broken_floors, broken_ceilings),
+                        first, broken_floors + broken_ceilings > 1 ? ", ..." : "")};
   }
-  if (thresholds.empty()) return {kExitOk, "no thresholds set"};
-  return {kExitOk, fmt::format("all {} thresholds held", thresholds.size())};
+  if (thresholds.empty()) return {kExitOk, "no floors or ceilings set"};
+  return {kExitOk, fmt::format("all {} held", CountFloorsAndCeilings(floors, ceilings))};
 }
 
 }  // namespace plumb

@@ -2,7 +2,8 @@
 #define PLUMB_RUNNER_RUN_EXIT_CODE_H_
 
 /// The process exit codes of SPEC §8, and the rule that picks one for a finished run. Case
-/// errors outrank floors: a run whose pipeline mostly failed says nothing about its quality.
+/// errors outrank floors and ceilings: a run whose pipeline mostly failed says nothing about its
+/// quality.
 
 #include <string>
 #include <vector>
@@ -12,8 +13,8 @@
 namespace plumb {
 
 enum ExitCode : int {
-  kExitOk = 0,           // all floors held, no gated metric regressed
-  kExitFloorBroken = 1,  // a floor broke or a gated metric regressed
+  kExitOk = 0,           // all floors and ceilings held, no gated metric regressed
+  kExitFloorBroken = 1,  // a floor or ceiling broke, or a gated metric regressed
   kExitUsage = 2,        // usage, suite or config error; nothing ran
   kExitCaseErrors = 3,   // case errors above max_error_rate, or every case errored
   kExitInterrupted = 130,

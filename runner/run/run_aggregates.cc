@@ -218,6 +218,17 @@ bool IsCeilingMetric(const std::string& metric) {
   return metric == "error_rate" || metric == "latency_p50_ms" || metric == "latency_p95_ms";
 }
 
+std::string CountFloorsAndCeilings(int floors, int ceilings) {
+  auto count = [](int n, const char* word) {
+    return std::to_string(n) + " " + word + (n == 1 ? "" : "s");
+  };
+  if (floors > 0 && ceilings > 0)
+    return count(floors, "floor") + " and " + count(ceilings, "ceiling");
+  if (floors > 0) return count(floors, "floor");
+  if (ceilings > 0) return count(ceilings, "ceiling");
+  return "";
+}
+
 namespace {
 
 std::optional<double> ThresholdValue(const RunAggregates& run, const std::string& metric,

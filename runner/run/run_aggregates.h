@@ -4,8 +4,8 @@
 /// RunAggregates summarizes a run's CaseOutcomes (SPEC §6.6): for each metric the mean over the
 /// cases where it is defined, the count and a 95% interval (Wilson for 0/1 metrics, seeded
 /// percentile bootstrap otherwise), the same per tag, latency percentiles and token usage.
-/// With repeats, each case's value is first averaged over its repeats. Thresholds (floors, and
-/// ceilings for latency and error_rate) are evaluated against these aggregates.
+/// With repeats, each case's value is first averaged over its repeats. The suite's floors and
+/// ceilings (latency and error_rate) are evaluated against these aggregates.
 
 #include <cstdint>
 #include <nlohmann/json.hpp>
@@ -50,7 +50,7 @@ struct RunAggregates {
 
 RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& outcomes);
 
-/// One threshold and whether it held.
+/// One floor or ceiling of the suite and whether it held.
 struct ThresholdOutcome {
   std::string tag;  // empty: run level
   std::string metric;
@@ -60,8 +60,12 @@ struct ThresholdOutcome {
   bool held = false;
 };
 
-/// True for the metric ids whose threshold is a ceiling rather than a floor.
+/// True for the metric ids whose limit is a ceiling rather than a floor.
 bool IsCeilingMetric(const std::string& metric);
+
+/// "2 floors", "1 ceiling", "2 floors and 1 ceiling": how the reports count limits. Empty when
+/// both counts are 0.
+std::string CountFloorsAndCeilings(int floors, int ceilings);
 
 std::vector<ThresholdOutcome> EvaluateThresholds(const Thresholds& thresholds,
                                                  const RunAggregates& aggregates);

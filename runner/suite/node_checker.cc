@@ -21,7 +21,8 @@ void NodeChecker::WrongType(const SourceNode& node, std::string_view field,
 }
 
 KeyIndex NodeChecker::Keys(const SourceNode& mapping, const std::vector<std::string>& valid,
-                           std::string_view place, std::string_view what) {
+                           std::string_view place, std::string_view what,
+                           const std::vector<std::string>& retired) {
   KeyIndex keys;
   if (!mapping.IsMapping()) {
     Error(mapping, "expected " + std::string(what) + " (a mapping), got " + DescribeNode(mapping));
@@ -36,6 +37,7 @@ KeyIndex NodeChecker::Keys(const SourceNode& mapping, const std::vector<std::str
     }
     bool known = false;
     for (const std::string& name : valid) known = known || name == key;
+    for (const std::string& name : retired) known = known || name == key;
     if (!known) {
       Error(entry.key, "unknown key '" + key + "' " + std::string(place),
             DidYouMeanHint(key, valid, "keys"));

@@ -63,9 +63,12 @@ class NodeChecker {
   /// The entries of `mapping` by key, first occurrence. Reports a key not in `valid` (with
   /// "did you mean"), a repeated key and a non-scalar key; those are left out. `place` finishes
   /// "unknown key 'x' ..." (e.g. "in a case"). Reports and returns {} when `mapping` is not a
-  /// mapping (`what` names it: "a case").
+  /// mapping (`what` names it: "a case"). Keys in `retired` (names an earlier format used) are
+  /// returned without a report: the caller reports them with the new form of that entry, and
+  /// they are never offered as suggestions.
   KeyIndex Keys(const SourceNode& mapping, const std::vector<std::string>& valid,
-                std::string_view place, std::string_view what);
+                std::string_view place, std::string_view what,
+                const std::vector<std::string>& retired = {});
 
   // Each read reports "wrong type for 'FIELD'" at `node` with "expected X, got Y" and returns
   // false when the node does not have the type. `field` names the key being read.

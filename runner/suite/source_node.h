@@ -25,6 +25,9 @@ struct SourceNode {
   /// kScalar: written quoted, as a block scalar or tagged !!str, so always a string; a plain
   /// scalar is resolved by the YAML 1.2 core schema (null, bool, int, float, else string).
   bool quoted = false;
+  /// A local tag as written (`!case` in `q: !case question`); empty when the node has none.
+  /// The pipeline config's request block reads it; elsewhere tags have no meaning.
+  std::string tag;
   std::vector<SourceNode> items;     // kSequence
   std::vector<SourceEntry> entries;  // kMapping, in file order, duplicates kept
 

@@ -103,9 +103,11 @@ struct PipelineConfig {
   nlohmann::json redacted_config;
 };
 
+/// The suite's `floors:` and `ceilings:` together: whether a limit is a floor or a ceiling
+/// follows from its metric id (error_rate and latency_*_ms are ceilings; see IsCeilingMetric).
 struct Thresholds {
-  std::map<std::string, double> metrics;                      // metric id -> floor
-  std::map<std::string, std::map<std::string, double>> tags;  // tag -> metric id -> floor
+  std::map<std::string, double> metrics;                      // metric id -> limit
+  std::map<std::string, std::map<std::string, double>> tags;  // tag -> metric id -> limit
 };
 
 struct Suite {

@@ -10,6 +10,7 @@
 #include <filesystem>
 #include <fstream>
 #include <memory>
+#include <set>
 #include <thread>
 #include <utility>
 
@@ -19,6 +20,7 @@
 #include "runner/base/sha256.h"
 #include "runner/suite/corpus.h"
 #include "runner/suite/did_you_mean.h"
+#include "runner/suite/flow_yaml.h"
 #include "runner/suite/jsonl_reader.h"
 #include "runner/suite/node_checker.h"
 #include "runner/suite/pipeline_config_loader.h"
@@ -32,9 +34,11 @@ namespace {
 namespace fs = std::filesystem;
 
 const std::vector<std::string> kSuiteKeys = {
-    "plumb",      "name",        "corpus",    "normalize",   "lang",
-    "include",    "retrieval_k", "case_pass", "min_overlap", "max_error_rate",
-    "thresholds", "pipelines",   "cases"};
+    "plumb",   "name",        "corpus",    "normalize",   "lang",
+    "include", "retrieval_k", "case_pass", "min_overlap", "max_error_rate",
+    "floors",  "ceilings",    "pipelines", "cases"};
+// Top-level keys an earlier format used; each is refused with its entry in the new form.
+const std::vector<std::string> kRetiredSuiteKeys = {"thresholds"};
 const std::vector<std::string> kCaseKeys = {"id",     "question", "answers", "patterns",
                                             "number", "sources",  "tags",    "input"};
 const std::vector<std::string> kSourceKeys = {"doc", "quote", "start", "end"};
@@ -199,7 +203,8 @@ class SuiteLoader {
       check->Error(root, "the suite file is empty", "start it with 'plumb: 1' and 'name: ...'");
       return;
     }
-    auto keys = check->Keys(root, kSuiteKeys, "at the top level of the suite", "a suite");
+    auto keys = check->Keys(root, kSuiteKeys, "at the top level of the suite", "a suite",
+                            kRetiredSuiteKeys);
     if (!root.IsMapping()) return;
     const std::string dir = DirectoryOf(check->file());
 
@@ -274,8 +279,11 @@ class SuiteLoader {
     if (auto it = keys.find("max_error_rate"); it != keys.end()) {
       check->Fraction(it->second->value, "max_error_rate", &suite_->max_error_rate);
     }
-    if (auto it = keys.find("thresholds"); it != keys.end())
-      ReadThresholds(it->second->value, check);
+    if (auto it = keys.find("thresholds"); it != keys.end()) RefuseThresholds(*it->second, check);
+    if (auto it = keys.find("floors"); it != keys.end())
+      ReadLimits(it->second->value, "floors", /*ceilings=*/false, check);
+    if (auto it = keys.find("ceilings"); it != keys.end())
+      ReadLimits(it->second->value, "ceilings", /*ceilings=*/true, check);
     if (auto it = keys.find("pipelines"); it != keys.end() && options_.pipelines_file.empty()) {
       ReadPipelines(it->second->value, options_.expand_env, check, &suite_->pipelines);
     }
@@ -522,9 +530,10 @@ class SuiteLoader {
     return ids;
   }
 
+  // `ceilings`: nullptr for case_pass; otherwise the metrics must be ceilings (true) or floors.
   void ReadMetricMap(const SourceNode& node, const std::string& field, bool per_case,
                      NodeChecker* check, std::map<std::string, double>* out,
-                     bool allow_tags = false) {
+                     bool allow_tags = false, const bool* ceilings = nullptr) {
     if (!check->Mapping(node, field)) return;
     std::map<std::string, const SourceNode*> seen;
     for (const SourceEntry& entry : node.entries) {
@@ -540,6 +549,17 @@ class SuiteLoader {
       }
       if (allow_tags && id == "tags") continue;
       if (!CheckMetricId(entry.key, id, field, per_case, check)) continue;
+      if (ceilings != nullptr && IsCeilingMetricId(id) != *ceilings) {
+        const std::string other = *ceilings ? "floors" : "ceilings";
+        check->Error(entry.key,
+                     "'" + id + "' is " +
+                         (*ceilings ? "a floor (the run fails below it)"
+                                    : "a ceiling (the run fails above it)") +
+                         ", not one of the " + (*ceilings ? "ceilings" : "floors"),
+                     "move '" + id + ": " + FlowYaml(entry.value) + "' under '" + other + ":'" +
+                         (*ceilings ? "" : "; only error_rate and the latency ids are ceilings"));
+        continue;
+      }
       double value;
       if (id.rfind("latency_", 0) == 0) {
         if (!check->Number(entry.value, field + "." + id, &value)) continue;
@@ -555,13 +575,22 @@ class SuiteLoader {
     }
   }
 
-  void ReadThresholds(const SourceNode& node, NodeChecker* check) {
-    ReadMetricMap(node, "thresholds", /*per_case=*/false, check, &suite_->thresholds.metrics,
-                  /*allow_tags=*/true);
+  // error_rate and the latency ids are ceilings (the run fails above them); every other
+  // metric is a floor.
+  static bool IsCeilingMetricId(const std::string& id) {
+    return id == "error_rate" || id.rfind("latency_", 0) == 0;
+  }
+
+  // `floors:` or `ceilings:` (`field`), each with an optional `tags:` map of the same shape.
+  void ReadLimits(const SourceNode& node, const std::string& field, bool ceilings,
+                  NodeChecker* check) {
+    ReadMetricMap(node, field, /*per_case=*/false, check, &suite_->thresholds.metrics,
+                  /*allow_tags=*/true, &ceilings);
     if (!node.IsMapping()) return;
     for (const SourceEntry& entry : node.entries) {
       if (entry.key.scalar != "tags") continue;
-      if (!check->Mapping(entry.value, "thresholds.tags")) break;
+      if (!check->Mapping(entry.value, field + ".tags")) break;
+      std::set<std::string> seen;
       for (const SourceEntry& tag_entry : entry.value.entries) {
         std::string tag;
         if (!ScalarAsString(tag_entry.key, &tag) || !IsNameOf(tag, "._-")) {
@@ -569,16 +598,63 @@ class SuiteLoader {
                        "tags use letters, digits, '.', '_' and '-'");
           continue;
         }
-        if (suite_->thresholds.tags.count(tag) > 0) {
-          check->Error(tag_entry.key, "duplicate tag '" + tag + "' in 'thresholds.tags'");
+        if (!seen.insert(tag).second) {
+          check->Error(tag_entry.key, "duplicate tag '" + tag + "' in '" + field + ".tags'");
           continue;
         }
         threshold_tags_.emplace_back(tag, check->Pos(tag_entry.key));
-        ReadMetricMap(tag_entry.value, "thresholds.tags." + tag, /*per_case=*/false, check,
-                      &suite_->thresholds.tags[tag]);
+        ReadMetricMap(tag_entry.value, field + ".tags." + tag, /*per_case=*/false, check,
+                      &suite_->thresholds.tags[tag], /*allow_tags=*/false, &ceilings);
       }
       break;
     }
+  }
+
+  // `thresholds:` held floors and ceilings in one map. Refused, with the same entries written
+  // as `floors:` and `ceilings:`, so the user upgrades by pasting the hint.
+  void RefuseThresholds(const SourceEntry& entry, NodeChecker* check) {
+    std::string floors, ceilings, floor_tags, ceiling_tags;
+    auto add = [](std::string* list, const SourceEntry& e) {
+      *list += (list->empty() ? "" : ", ") + FlowYaml(e.key) + ": " + FlowYaml(e.value);
+    };
+    if (entry.value.IsMapping()) {
+      for (const SourceEntry& e : entry.value.entries) {
+        if (e.key.scalar != "tags") {
+          add(IsCeilingMetricId(e.key.scalar) ? &ceilings : &floors, e);
+          continue;
+        }
+        if (!e.value.IsMapping()) continue;
+        for (const SourceEntry& tag : e.value.entries) {
+          if (!tag.value.IsMapping()) continue;
+          std::string tag_floors, tag_ceilings;
+          for (const SourceEntry& m : tag.value.entries) {
+            add(IsCeilingMetricId(m.key.scalar) ? &tag_ceilings : &tag_floors, m);
+          }
+          const std::string name = FlowYaml(tag.key) + ": {";
+          if (!tag_floors.empty()) {
+            floor_tags += (floor_tags.empty() ? "" : ", ") + name + tag_floors + "}";
+          }
+          if (!tag_ceilings.empty()) {
+            ceiling_tags += (ceiling_tags.empty() ? "" : ", ") + name + tag_ceilings + "}";
+          }
+        }
+      }
+    }
+    if (!floor_tags.empty())
+      floors += (floors.empty() ? "" : ", ") + ("tags: {" + floor_tags + "}");
+    if (!ceiling_tags.empty()) {
+      ceilings += (ceilings.empty() ? "" : ", ") + ("tags: {" + ceiling_tags + "}");
+    }
+    std::string replacement;
+    if (!floors.empty()) replacement = "'floors: {" + floors + "}'";
+    if (!ceilings.empty()) {
+      replacement += (replacement.empty() ? "" : " and ") + ("'ceilings: {" + ceilings + "}'");
+    }
+    if (replacement.empty()) replacement = "'floors: {...}' and 'ceilings: {...}'";
+    check->Error(entry.key,
+                 "'thresholds' is now two keys: 'floors' (the run fails below them) and "
+                 "'ceilings' (error_rate and latency ids; the run fails above them)",
+                 "write " + replacement + " in its place");
   }
 
   void ReadCase(const SourceNode& node, NodeChecker* check) {
@@ -925,7 +1001,8 @@ class SuiteLoader {
         used = used || std::find(gold.tags.begin(), gold.tags.end(), tag) != gold.tags.end();
       }
       if (!used) {
-        warnings_->push_back({pos, "no case has tag '" + tag + "'; its thresholds never apply",
+        warnings_->push_back({pos,
+                              "no case has tag '" + tag + "'; its floors and ceilings never apply",
                               "check the spelling against the cases' tags"});
       }
     }

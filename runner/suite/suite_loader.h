@@ -10,12 +10,14 @@
 ///   included cases come first when `include` is written above `cases`.
 /// - An included .yaml/.yml file holds `cases` and optionally `include` (for further files),
 ///   nothing else. A .jsonl file holds one case object per line; blank lines are skipped.
-/// - Threshold ids may be any metric id: exact_match, token_f1, correct, pattern_match,
-///   number_match, citation_precision, citation_recall, citation_f1, mrr, recall@K (K listed in
-///   retrieval_k), abstain_precision, abstain_recall, pass_rate, error_rate, latency_p50_ms,
-///   latency_p95_ms. They are floors (a run below fails) except error_rate and the latency ids,
-///   which are ceilings (a run above fails); latency values are milliseconds >= 0, all others
-///   lie in [0, 1]. case_pass takes only the per-case ids (the first ten above).
+/// - `floors:` take every metric id but error_rate and the latency ids: exact_match, token_f1,
+///   correct, pattern_match, number_match, citation_precision, citation_recall, citation_f1,
+///   mrr, recall@K (K listed in retrieval_k), abstain_precision, abstain_recall, pass_rate (a
+///   run below one fails). `ceilings:` take error_rate, latency_p50_ms and latency_p95_ms (a
+///   run above one fails). An id under the other key is an error saying where it goes. Latency
+///   values are milliseconds >= 0, all others lie in [0, 1]. case_pass takes only the per-case
+///   ids (the first nine above and recall@K). The retired `thresholds:` is an error whose hint
+///   is the same entries written as `floors:` and `ceilings:`.
 /// - With LoadOptions::pipelines_file the suite's own `pipelines` block is not read at all, so
 ///   its variables need not be set.
 /// - suite_hash is SHA-256 over each file read, in order, as "<byte count>\n<bytes>".

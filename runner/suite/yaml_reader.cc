@@ -86,14 +86,14 @@ class TreeBuilder : public YAML::EventHandler {
     if (!Count(mark, it->second.size, it->second.height)) return;
     Finish(Built(it->second));
   }
-  void OnSequenceStart(const YAML::Mark& mark, const std::string&, YAML::anchor_t anchor,
+  void OnSequenceStart(const YAML::Mark& mark, const std::string& tag, YAML::anchor_t anchor,
                        YAML::EmitterStyle::value) override {
-    Open(mark, anchor, SourceNode::Kind::kSequence);
+    Open(mark, anchor, SourceNode::Kind::kSequence, tag);
   }
   void OnSequenceEnd() override { Close(); }
-  void OnMapStart(const YAML::Mark& mark, const std::string&, YAML::anchor_t anchor,
+  void OnMapStart(const YAML::Mark& mark, const std::string& tag, YAML::anchor_t anchor,
                   YAML::EmitterStyle::value) override {
-    Open(mark, anchor, SourceNode::Kind::kMapping);
+    Open(mark, anchor, SourceNode::Kind::kMapping, tag);
   }
   void OnMapEnd() override { Close(); }
 
@@ -140,6 +140,12 @@ class TreeBuilder : public YAML::EventHandler {
     return true;
   }
 
+  // A tag written with one '!' (`!case`), as the node keeps it; yaml-cpp's "?" (plain), "!"
+  // (quoted) and the standard `!!` tags are not kept.
+  static std::string LocalTag(const std::string& tag) {
+    return tag.size() > 1 && tag[0] == '!' && tag[1] != '!' ? tag : std::string();
+  }
+
   void Leaf(const YAML::Mark& mark, YAML::anchor_t anchor, SourceNode::Kind kind,
             const std::string& tag, const std::string& value) {
     if (Ignoring() || !Count(mark, 1, 0)) return;
@@ -151,14 +157,17 @@ class TreeBuilder : public YAML::EventHandler {
       // yaml-cpp tags plain scalars "?" and quoted or block scalars "!".
       built.node.quoted = tag == "!" || tag == "tag:yaml.org,2002:str";
     }
+    built.node.tag = LocalTag(tag);
     Keep(anchor, built);
     Finish(std::move(built));
   }
 
-  void Open(const YAML::Mark& mark, YAML::anchor_t anchor, SourceNode::Kind kind) {
+  void Open(const YAML::Mark& mark, YAML::anchor_t anchor, SourceNode::Kind kind,
+            const std::string& tag) {
     if (Ignoring() || !Count(mark, 1, 0)) return;
     Frame& frame = open_.emplace_back();
     frame.built.node.kind = kind;
+    frame.built.node.tag = LocalTag(tag);
     positions_.Set(mark, &frame.built.node.line, &frame.built.node.column);
     frame.anchor = anchor;
   }

@@ -60,7 +60,7 @@ lib.main('browser report, 10,000 cases', async (checks) => {
     });
   }
   files['suite.yaml'] = 'plumb: 1\nname: browser-large\ncorpus: docs\ninclude: [cases.jsonl]\n' +
-                        'retrieval_k: [1, 5]\nthresholds:\n  correct: 0.9\ncases: []\n';
+                        'retrieval_k: [1, 5]\nfloors:\n  correct: 0.9\ncases: []\n';
   files['cases.jsonl'] = lib.jsonl(cases);
   files['predictions.jsonl'] = lib.jsonl(predictions);
   lib.writeFiles(dir, files);

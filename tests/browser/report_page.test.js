@@ -28,7 +28,7 @@ corpus: docs
 normalize: squad
 case_pass: {correct: 1}
 max_error_rate: 0.5
-thresholds:
+floors:
   correct: 0.5
 cases:
   - id: boarding-close

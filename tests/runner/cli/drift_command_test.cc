@@ -352,7 +352,7 @@ TEST_CASE("plumb report re-renders a stored run without its pipeline") {
       Plumb({"report", run, "--junit", dir + "/r.xml", "--markdown", dir + "/r.md"}, dir);
   INFO(r.err);
   CHECK(r.code == 0);
-  CHECK(LastLine(r.out) == "exit 0: all 2 thresholds held");
+  CHECK(LastLine(r.out) == "exit 0: all 2 floors held");
   // The re-rendered table is the one `plumb score` printed, from its metric rows to the verdict
   // (the header line holds the wall time, which only the live run knows).
   auto table = [](const std::string& text) {

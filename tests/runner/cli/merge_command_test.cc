@@ -35,7 +35,7 @@ void WriteSuite(const std::string& dir, const std::string& name) {
   WriteFile(dir + "/more.yaml", CaseList(30, 12));
   WriteFile(dir + "/" + name,
             "plumb: 1\nname: sharded\ninclude: [more.yaml]\n"
-            "thresholds: {correct: 0.7, tags: {fares: {correct: 0.9}}}\n"
+            "floors: {correct: 0.7, tags: {fares: {correct: 0.9}}}\n"
             "pipelines:\n  echo: {command: [" +
                 kFixtures + "echo-pipeline], timeout: 10s}\n" + CaseList(0, 30));
 }
@@ -87,7 +87,7 @@ TEST_CASE("three shards merge into the run the unsharded suite gives") {
       Plumb({"merge", dir + "/s3", dir + "/s1", dir + "/s2", "--out", dir + "/merged"}, dir);
   CHECK(merged.err.empty());
   CHECK(merged.code == full.code);
-  CHECK(merged.out.find("exit 1: 1 threshold broken") != std::string::npos);
+  CHECK(merged.out.find("exit 1: 1 floor broken") != std::string::npos);
 
   nlohmann::ordered_json a = ReadJson(dir + "/full/run.json");
   nlohmann::ordered_json b = ReadJson(dir + "/merged/run.json");

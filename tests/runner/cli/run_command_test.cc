@@ -59,7 +59,7 @@ TEST_CASE("each misbehaving pipeline costs exactly one case and the run goes on"
              "garbage", "--pipeline", "flood", "--out", dir + "/out", "--json"},
             dir);
   INFO(r.err);
-  // 1 error in 20 is 5%, within max_error_rate 0.1, and no thresholds: exit 0 (SPEC §8).
+  // 1 error in 20 is 5%, within max_error_rate 0.1, and no floors: exit 0 (SPEC §8).
   CHECK(r.code == 0);
   const nlohmann::json summary = nlohmann::json::parse(r.out);
   REQUIRE(summary["runs"].size() == 4);
@@ -116,12 +116,12 @@ TEST_CASE("exit codes follow SPEC §8") {
   }
   SECTION("1 when a floor breaks and 0 when it holds") {
     // 19 of 20 cases are answered right: correct = 0.95.
-    WriteFile(dir + "/hi.yaml", header + "max_error_rate: 0.1\nthresholds: {correct: 0.96}\n" +
+    WriteFile(dir + "/hi.yaml", header + "max_error_rate: 0.1\nfloors: {correct: 0.96}\n" +
                                     "pipelines:\n" + crash + EchoCases(20, {"please crash"}));
     Result r = Plumb({"run", dir + "/hi.yaml", "--out", dir + "/hi"}, dir);
     CHECK(r.code == 1);
-    CHECK(r.out.find("exit 1: 1 threshold broken: correct 0.95 < 0.96") != std::string::npos);
-    WriteFile(dir + "/lo.yaml", header + "max_error_rate: 0.1\nthresholds: {correct: 0.95}\n" +
+    CHECK(r.out.find("exit 1: 1 floor broken: correct 0.95 < 0.96") != std::string::npos);
+    WriteFile(dir + "/lo.yaml", header + "max_error_rate: 0.1\nfloors: {correct: 0.95}\n" +
                                     "pipelines:\n" + crash + EchoCases(20, {"please crash"}));
     r = Plumb({"run", dir + "/lo.yaml", "--out", dir + "/lo"}, dir);
     CHECK(r.code == 0);
@@ -309,7 +309,7 @@ TEST_CASE("plumb score keeps file order when the replies are scored in blocks on
   const Result r =
       Plumb({"score", dir + "/s.yaml", dir + "/good.jsonl", "--out", dir + "/out"}, dir);
   INFO(r.err);
-  REQUIRE(r.code == 0);  // no thresholds, so no floor to break
+  REQUIRE(r.code == 0);  // no floors, so none to break
   std::vector<nlohmann::json> records = ReadJournal(dir + "/out/cases.jsonl");
   REQUIRE(records.size() == static_cast<size_t>(n));
   bool in_file_order = true;

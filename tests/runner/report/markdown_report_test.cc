@@ -91,10 +91,11 @@ TEST_CASE("the run summary starts with the verdict and keeps its tables intact")
   const std::vector<std::string> lines = Lines(md);
   REQUIRE(lines.size() > 4);
   CHECK(lines[0] == "### plumb: `drift-fixture` / `predictions` — exit 0");
-  CHECK(lines[2] == "**PASS** (exit 0): all 2 thresholds held");
+  CHECK(lines[2] == "**PASS** (exit 0): all 2 floors held");
   // make_runs.py: 350 of 400 right; Wilson 95% interval for 350/400 from statsmodels
   // proportion_confint(350, 400, method="wilson") = (0.83898, 0.90388).
-  CHECK(md.find("| `correct` | 0.875 | [0.839, 0.904] | 400 | ≥ 0.8 held |") != std::string::npos);
+  CHECK(md.find("| `correct` | 0.875 | [0.839, 0.904] | 400 | floor 0.8 held |") !=
+        std::string::npos);
   // 50 failed cases, the first ten shown.
   CHECK(md.find("<summary>Failed cases: 50 (first 10)</summary>") != std::string::npos);
   CheckTablesKeepTheirColumns(md);

@@ -101,7 +101,7 @@ TEST_CASE("unknown key with nothing close: the hint lists the valid keys") {
   // The keys of SPEC §4 plus min_overlap and max_error_rate, in the loader's order.
   CHECK(d.hint ==
         "valid keys are: plumb, name, corpus, normalize, lang, include, retrieval_k, case_pass, "
-        "min_overlap, max_error_rate, thresholds, pipelines, cases");
+        "min_overlap, max_error_rate, floors, ceilings, pipelines, cases");
 }
 
 TEST_CASE("wrong type: expected a list of strings, got a mapping") {
@@ -395,13 +395,14 @@ TEST_CASE("metric ids: did you mean, recall@K needs K, run-level ids not per cas
   std::string suite = WriteSuite(dir,
                                  "retrieval_k: [1, 5]\n"                      // 4
                                  "case_pass: {token_f: 0.5, pass_rate: 1}\n"  // 5
-                                 "thresholds:\n"                              // 6
+                                 "floors:\n"                                  // 6
                                  "  recall@3: 0.5\n"                          // 7
                                  "  citation_recal: 0.7\n"                    // 8
-                                 "  latency_p95_ms: 2500\n"                   // 9: a ceiling in ms
-                                 "  error_rate: 1.5\n"                        // 10
-                                 "  recall@5: 0.4\n"                          // 11: fine
-                                 "  tags: {safety: {mrr: 2}}\n"               // 12
+                                 "  recall@5: 0.4\n"                          // 9: fine
+                                 "  tags: {safety: {mrr: 2}}\n"               // 10
+                                 "ceilings:\n"                                // 11
+                                 "  latency_p95_ms: 2500\n"                   // 12: in ms
+                                 "  error_rate: 1.5\n"                        // 13
                                  "cases: []\n");
   Loaded r = Load(suite);
   const Diagnostic& token = Find(r.errors, "'token_f'");
@@ -417,11 +418,11 @@ TEST_CASE("metric ids: did you mean, recall@K needs K, run-level ids not per cas
   const Diagnostic& citation = Find(r.errors, "'citation_recal'");
   CheckAt(citation, suite, 8, 3);
   CHECK(citation.hint == "did you mean 'citation_recall'?");
-  const Diagnostic& error_rate = Find(r.errors, "'thresholds.error_rate' is 1.5");
-  CheckAt(error_rate, suite, 10, 15);
+  const Diagnostic& error_rate = Find(r.errors, "'ceilings.error_rate' is 1.5");
+  CheckAt(error_rate, suite, 13, 15);
   CHECK(error_rate.hint == "expected a number between 0 and 1");
   // "  tags: {safety: {mrr: " is 23 characters: the 2 is at column 24.
-  CheckAt(Find(r.errors, "'thresholds.tags.safety.mrr' is 2"), suite, 12, 24);
+  CheckAt(Find(r.errors, "'floors.tags.safety.mrr' is 2"), suite, 10, 24);
   CHECK(r.errors.size() == 6);
   CHECK(r.suite.thresholds.metrics.at("latency_p95_ms") == 2500);
   CHECK(r.suite.thresholds.metrics.at("recall@5") == 0.4);
@@ -605,11 +606,11 @@ TEST_CASE("a valid suite with .yaml and .jsonl includes") {
       "case_pass: {correct: 1, citation_recall: 0.5}\n"
       "min_overlap: 0.25\n"
       "max_error_rate: 0.1\n"
-      "thresholds:\n"
+      "floors:\n"
       "  token_f1: 0.8\n"
       "  recall@3: 0.5\n"
-      "  latency_p95_ms: 2500\n"
       "  tags: {boarding: {correct: 0.9}}\n"
+      "ceilings: {latency_p95_ms: 2500}\n"
       "cases:\n"
       "  - id: cafe\n"
       "    question: What is the caf\xC3\xA9 next to?\n"
@@ -733,16 +734,59 @@ TEST_CASE("a valid suite with .yaml and .jsonl includes") {
   CHECK(edited.suite.cases[1].gold_hash == s.cases[1].gold_hash);
 }
 
-TEST_CASE("a threshold tag no case carries is a warning") {
+TEST_CASE("a floor's tag no case carries is a warning") {
   TempDir dir;
   std::string suite = WriteSuite(dir,
-                                 "thresholds: {tags: {saftey: {correct: 1}}}\n"  // 4:21
+                                 "floors: {tags: {saftey: {correct: 1}}}\n"  // 4:17
                                  "cases: [{id: a, question: Q, answers: [], tags: [safety]}]\n");
   Loaded r = Load(suite);
   CHECK(r.ok);
   REQUIRE(r.warnings.size() == 1);
-  CheckAt(r.warnings[0], suite, 4, 21);
-  CHECK(r.warnings[0].message == "no case has tag 'saftey'; its thresholds never apply");
+  CheckAt(r.warnings[0], suite, 4, 17);
+  CHECK(r.warnings[0].message == "no case has tag 'saftey'; its floors and ceilings never apply");
+}
+
+TEST_CASE("floors take quality metrics, ceilings take error_rate and latency") {
+  TempDir dir;
+  std::string suite = WriteSuite(dir,
+                                 "floors: {correct: 0.9, latency_p50_ms: 800}\n"  // 4:24
+                                 "ceilings:\n"                                    // 5
+                                 "  error_rate: 0.1\n"                            // 6
+                                 "  tags: {safety: {token_f1: 0.5}}\n"            // 7:19
+                                 "cases: []\n");
+  Loaded r = Load(suite);
+  REQUIRE(r.errors.size() == 2);
+  CheckAt(r.errors[0], suite, 4, 24);
+  CHECK(r.errors[0].message ==
+        "'latency_p50_ms' is a ceiling (the run fails above it), not one of the floors");
+  CHECK(r.errors[0].hint ==
+        "move 'latency_p50_ms: 800' under 'ceilings:'; only error_rate and the latency ids are "
+        "ceilings");
+  CheckAt(r.errors[1], suite, 7, 19);
+  CHECK(r.errors[1].message ==
+        "'token_f1' is a floor (the run fails below it), not one of the ceilings");
+  CHECK(r.errors[1].hint == "move 'token_f1: 0.5' under 'floors:'");
+}
+
+TEST_CASE("the retired 'thresholds' key is refused with its entries as floors and ceilings") {
+  TempDir dir;
+  std::string suite =
+      WriteSuite(dir,
+                 "thresholds:\n"  // 4:1
+                 "  token_f1: 0.80\n"
+                 "  latency_p95_ms: 2500\n"
+                 "  tags: {safety: {correct: 0.95, latency_p50_ms: 900}, fares: {mrr: 0.5}}\n"
+                 "cases: []\n");
+  Loaded r = Load(suite);
+  REQUIRE(r.errors.size() == 1);
+  CheckAt(r.errors[0], suite, 4, 1);
+  CHECK(r.errors[0].message ==
+        "'thresholds' is now two keys: 'floors' (the run fails below them) and 'ceilings' "
+        "(error_rate and latency ids; the run fails above them)");
+  CHECK(r.errors[0].hint ==
+        "write 'floors: {token_f1: 0.80, tags: {safety: {correct: 0.95}, fares: {mrr: 0.5}}}' "
+        "and 'ceilings: {latency_p95_ms: 2500, tags: {safety: {latency_p50_ms: 900}}}' in its "
+        "place");
 }
 
 TEST_CASE("pipelines: env expansion, redaction and every key") {
