@@ -2,7 +2,8 @@
 #define PLUMB_RUNNER_BASE_TERMINAL_PALETTE_H_
 
 /// The ANSI colours the terminal summaries use (run and drift), and the rule for using them:
-/// only on a terminal, and never when NO_COLOR is set (https://no-color.org convention).
+/// `--color always|never` decides; with `auto` (the default) colour goes only to a terminal,
+/// never when NO_COLOR is set (https://no-color.org convention) or TERM is "dumb".
 
 #include <cstdio>
 
@@ -19,7 +20,12 @@ struct Palette {
 /// Escape sequences when `colour`, empty strings otherwise.
 Palette MakePalette(bool colour);
 
-/// True when `stream` is a terminal and NO_COLOR is unset or empty.
+/// The user's `--color` choice; set once by main before any command runs.
+enum class ColourChoice { kAuto, kAlways, kNever };
+void SetColourChoice(ColourChoice choice);
+
+/// kAlways: true; kNever: false; kAuto: true when `stream` is a terminal, NO_COLOR is unset or
+/// empty and TERM is not "dumb".
 bool UseColour(std::FILE* stream);
 
 }  // namespace plumb

@@ -9,13 +9,18 @@
 #include <vector>
 
 #include "runner/base/interrupt.h"
+#include "runner/base/report_stdout.h"
+#include "runner/base/terminal_palette.h"
 #include "runner/cli/check_command.h"
 #include "runner/cli/drift_command.h"
+#include "runner/cli/help_text.h"
 #include "runner/cli/merge_command.h"
+#include "runner/cli/parse_failure.h"
 #include "runner/cli/report_command.h"
 #include "runner/cli/run_command.h"
 #include "runner/cli/run_outputs.h"
 #include "runner/cli/score_command.h"
+#include "runner/cli/shell_completion.h"
 #include "runner/report/summary_table.h"
 #include "runner/run/exit_code.h"
 #include "runner/run/run_record.h"
@@ -54,9 +59,16 @@ int main(int argc, char** argv) {
   // default padding each thread's heap grows by a system call every 128 KiB (about 2,000 of
   // them for 20,000 cases). Growing by 32 MiB at a time costs address space, not memory.
   mallopt(M_TOP_PAD, 32 << 20);
-  CLI::App app{"plumb: offline evaluation and regression runner for document-grounded QA"};
+  CLI::App app{"plumb: offline evaluation and regression runner for document-grounded QA", "plumb"};
   app.set_version_flag("--version", std::string("plumb ") + PLUMB_VERSION);
   app.require_subcommand(1);
+  // Options of plumb itself (--color) may also follow the command: `plumb run --color never`.
+  app.fallthrough();
+  std::string colour = "auto";
+  app.add_option("--color", colour,
+                 "Colour in terminal output: auto (a terminal, no NO_COLOR, "
+                 "TERM not dumb), always or never")
+      ->check(plumb::OneOf({"auto", "always", "never"}));
 
   plumb::RunOptions run;
   std::vector<std::string> run_labels;
@@ -67,16 +79,16 @@ int main(int argc, char** argv) {
                       "Pipeline to run (repeatable; default: the suite's first)");
   run_cmd->add_option("--pipelines", run.pipelines_file,
                       "YAML file whose `pipelines:` replace the suite's");
-  run_cmd->add_option("--out", run.out_dir,
+  run_cmd->add_option("-o,--out", run.out_dir,
                       "Run directory (with several pipelines: one subdirectory each)");
-  run_cmd->add_option("--jobs", run.jobs, "Concurrent calls (default: the pipeline's jobs, or 1)")
-      ->check(CLI::PositiveNumber);
-  run_cmd->add_option("--repeat", run.repeat, "Send each case K times")->check(CLI::PositiveNumber);
+  run_cmd
+      ->add_option("-j,--jobs", run.jobs, "Concurrent calls (default: the pipeline's jobs, or 1)")
+      ->check(plumb::AtLeast(1));
+  run_cmd->add_option("--repeat", run.repeat, "Send each case K times")->check(plumb::AtLeast(1));
   run_cmd->add_flag("--resume", run.resume, "Continue an interrupted run in the same directory");
   run_cmd->add_option("--tag", run.selection.tags, "Only cases with this tag (repeatable)");
   run_cmd->add_option("--case", run.selection.id_globs, "Only cases whose id matches (glob)");
-  run_cmd->add_option("--limit", run.selection.limit, "At most N cases")
-      ->check(CLI::NonNegativeNumber);
+  run_cmd->add_option("--limit", run.selection.limit, "At most N cases")->check(plumb::AtLeast(0));
   run_cmd->add_option("--shard", shard, "Shard I of N (I/N), by a stable hash of the case id");
   run_cmd->add_option("--label", run_labels, "Label the run, KEY=VALUE (repeatable)");
   run_cmd->add_flag("--json", run.json, "Print the run record as JSON on stdout");
@@ -91,7 +103,7 @@ int main(int argc, char** argv) {
   score_cmd->add_option("SUITE", score.suite_path, "Suite file (YAML)")->required();
   score_cmd->add_option("PREDICTIONS", score.predictions_path, "Replies, one JSON object a line")
       ->required();
-  score_cmd->add_option("--out", score.out_dir,
+  score_cmd->add_option("-o,--out", score.out_dir,
                         "Run directory (default: plumb-out/<suite>/predictions)");
   score_cmd->add_option("--label", score_labels, "Label the run, KEY=VALUE (repeatable)");
   score_cmd->add_flag("--json", score.json, "Print the run record as JSON on stdout");
@@ -137,16 +149,84 @@ int main(int argc, char** argv) {
   CLI::App* merge_cmd = app.add_subcommand(
       "merge", "Merge the run directories of one run's shards (--shard I/N) into one run");
   merge_cmd->add_option("RUN_DIR", merge.run_dirs, "Every shard's run directory")->required();
-  merge_cmd->add_option("--out", merge.out_dir, "Directory of the merged run")->required();
+  merge_cmd->add_option("-o,--out", merge.out_dir, "Directory of the merged run")->required();
   merge_cmd->add_option("--label", merge_labels,
                         "Label the merged run, KEY=VALUE (repeatable; over the shards' labels)");
   merge_cmd->add_flag("--json", merge.json, "Print the merged run record as JSON on stdout");
 
+  std::string help_topic;
+  CLI::App* help_cmd = app.add_subcommand("help", "Describe a command: its options, an example");
+  help_cmd->add_option("COMMAND", help_topic, "The command to describe (default: all)");
+  std::string shell;
+  CLI::App* completion_cmd =
+      app.add_subcommand("completion", "Print the shell completion script for bash or zsh");
+  completion_cmd->add_option("SHELL", shell, "bash or zsh")
+      ->required()
+      ->check(plumb::OneOf({"bash", "zsh"}));
+  // The man page the build installs (runner/CMakeLists.txt); hidden: not a user's command.
+  CLI::App* man_cmd = app.add_subcommand("man-page", "Print the man page (troff)")->group("");
+  plumb::ApplyHelpConventions(&app);
+
+  const std::vector<std::string> args(argv + 1, argv + argc);
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {
-    const int code = app.exit(e);
-    return code == 0 ? 0 : plumb::kExitUsage;
+    if (e.get_exit_code() == 0) return app.exit(e);  // --help, --version
+    std::fprintf(stderr, "%s\n", plumb::ExplainParseFailure(app, args, e).c_str());
+    return plumb::kExitUsage;
+  }
+  plumb::SetColourChoice(colour == "always"  ? plumb::ColourChoice::kAlways
+                         : colour == "never" ? plumb::ColourChoice::kNever
+                                             : plumb::ColourChoice::kAuto);
+
+  if (*help_cmd) {
+    if (help_topic.empty()) {
+      std::fputs(app.help().c_str(), stdout);
+      return 0;
+    }
+    for (CLI::App* command :
+         app.get_subcommands([](CLI::App* c) { return !c->get_group().empty(); })) {
+      if (command->get_name() == help_topic) {
+        std::fputs(command->help("plumb").c_str(), stdout);
+        return 0;
+      }
+    }
+    CLI::ExtrasError unknown("help", std::vector<std::string>{help_topic});
+    std::fprintf(stderr, "%s\n", plumb::ExplainParseFailure(app, {help_topic}, unknown).c_str());
+    return plumb::kExitUsage;
+  }
+  if (*completion_cmd) {
+    std::fputs((shell == "zsh" ? plumb::ZshCompletion(app) : plumb::BashCompletion(app)).c_str(),
+               stdout);
+    return 0;
+  }
+  if (*man_cmd) {
+    std::fputs(plumb::ManPage(app, PLUMB_VERSION).c_str(), stdout);
+    return 0;
+  }
+
+  // "-" sends a report file to stdout; then only that report may use it, and the summary
+  // table goes to stderr (runner/base/report_stdout.h).
+  for (const auto& [outputs, json] :
+       {std::pair<const plumb::OutputOptions*, bool>{&run.outputs, run.json},
+        {&score.outputs, score.json},
+        {&drift.outputs, drift.json},
+        {&report.outputs, report.json}}) {
+    const int to_stdout = (outputs->html == "-") + (outputs->junit == "-") +
+                          (outputs->markdown == "-") + (json ? 1 : 0);
+    if (to_stdout > 1) {
+      std::fprintf(stderr,
+                   "plumb: only one of --json, --html -, --junit - and --markdown - can write "
+                   "to standard output; give the others a file name\n");
+      return plumb::kExitUsage;
+    }
+    if (to_stdout == 1 && !json) {
+      std::string error;
+      if (!plumb::ReserveStdoutForReport(&error)) {
+        std::fprintf(stderr, "plumb: %s\n", error.c_str());
+        return plumb::kExitUsage;
+      }
+    }
   }
 
   if (*run_cmd) {

@@ -1,5 +1,6 @@
 #include "runner/cli/run_outputs.h"
 
+#include "runner/base/report_stdout.h"
 #include "runner/compare/drift_json.h"
 #include "runner/report/junit_report.h"
 #include "runner/report/markdown_report.h"
@@ -22,7 +23,7 @@ bool NoHtmlYet(const std::string& path, std::string* error) {
 #endif
 
 std::string WithSuffix(const std::string& path, const std::string& pipeline) {
-  if (path.empty()) return path;
+  if (path.empty() || path == kStdoutPath) return path;  // "-": each run's file in turn
   const size_t slash = path.find_last_of('/');
   const size_t dot = path.find_last_of('.');
   const bool has_extension =

@@ -12,7 +12,7 @@
 
 namespace plumb {
 
-/// Paths to write; an empty path writes nothing.
+/// Paths to write; an empty path writes nothing, "-" writes to standard output.
 struct OutputOptions {
   std::string html;
   std::string junit;
@@ -32,7 +32,7 @@ bool WriteDriftOutputs(const DriftReport& report, const LoadedRun& base, const L
 
 /// The paths for one of several pipelines run by one command: ".<pipeline>" goes before each
 /// path's extension ("report.html" -> "report.retrieve.html"), so the runs do not overwrite
-/// each other's files.
+/// each other's files. "-" stays "-": the runs' files follow each other on standard output.
 OutputOptions OutputsForPipeline(const OutputOptions& options, const std::string& pipeline);
 
 }  // namespace plumb

@@ -9,9 +9,11 @@
 #include <cstdio>
 #include <cstring>
 #include <ctime>
+#include <filesystem>
 
 #include "runner/base/atomic_file.h"
 #include "runner/base/json_writer.h"
+#include "runner/base/report_stdout.h"
 #include "runner/base/sha256.h"
 
 namespace plumb {
@@ -147,6 +149,17 @@ std::string RunRecordTail(const RunContext& ctx, const RunAggregates& aggregates
 }
 
 bool WriteFileAtomically(const std::string& path, const std::string& contents, std::string* error) {
+  if (path == kStdoutPath) return WriteReportToStdout(contents, error);
+  const std::filesystem::path parent = std::filesystem::path(path).parent_path();
+  std::error_code code;
+  if (!parent.empty() && !std::filesystem::is_directory(parent, code)) {
+    std::filesystem::create_directories(parent, code);
+    if (code) {
+      *error = "cannot create the folder " + parent.string() + " for " + path + ": " +
+               code.message() + "; name a folder you may write to";
+      return false;
+    }
+  }
   std::unique_ptr<AtomicFile> file = AtomicFile::Open(path, error);
   if (file == nullptr) return false;
   file->Write(contents);

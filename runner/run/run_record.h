@@ -50,6 +50,8 @@ std::string RunRecordTail(const RunContext& context, const RunAggregates& aggreg
                           const RunVerdict& verdict);
 /// Writes `contents` to `path` through a temporary file in the same directory and rename(2),
 /// so readers see the old file or the new one, never half of one (runner/base/atomic_file.h).
+/// Missing parent folders are created first. The path "-" writes to standard output
+/// (runner/base/report_stdout.h), the report flags' convention.
 bool WriteFileAtomically(const std::string& path, const std::string& contents, std::string* error);
 
 /// The current time as "2026-12-01T22:03:56Z".
