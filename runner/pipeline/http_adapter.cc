@@ -313,13 +313,13 @@ bool HttpAdapter::Init(const PipelineConfig& config, int slots, std::string* err
     return false;
   }
   url_template_ = config.url->value;
-  if (!CheckPlaceholders(url_template_, error)) {
-    *error = "in 'url': " + *error;
-    return false;
-  }
+  url_pieces_ = config.url_pieces;
   method_ = config.method;
-  if (method_ == "GET" && !config.body.is_null()) {
-    *error = "method GET sends no body; remove 'body' or use POST";
+  if (method_ == "GET" && config.request.has_value() &&
+      config.request->kind != RequestPart::Kind::kObject) {
+    *error =
+        "method GET sends the request block's members as query parameters, so 'request' "
+        "must be a mapping";
     return false;
   }
   if (config.timeout_ms <= 0 || config.max_response_bytes <= 0 || slots < 1) {
@@ -330,8 +330,7 @@ bool HttpAdapter::Init(const PipelineConfig& config, int slots, std::string* err
   max_response_bytes_ = static_cast<size_t>(config.max_response_bytes);
   insecure_ = config.insecure;
   secrets_ = config.secrets;
-  body_template_ = config.body;
-  if (!ExpandBodyEnv(&body_template_, &secrets_, error)) return false;
+  request_block_ = config.request;
 
   std::vector<std::string> header_lines;
   for (const auto& [name, value] : config.headers) {
@@ -566,14 +565,20 @@ CallResult HttpAdapter::Call(const PipelineRequest& request, int slot) {
   std::string url;
   nlohmann::json body;
   std::string render_error;
-  if (!RenderUrl(url_template_, request, &url, &render_error) ||
-      (method_ != "GET" && !RenderBody(body_template_, request, &body, &render_error))) {
+  const bool get = method_ == "GET";
+  if (!RenderUrl(url_template_, url_pieces_, request, &url, &render_error) ||
+      ((!get || request_block_.has_value()) &&
+       !RenderRequest(request_block_, request, &body, &render_error))) {
     result.error = Redact("request not sent: " + render_error);
     return result;
   }
+  // A GET sends its request block as query parameters (and nothing without one).
+  if (get && body.is_object() && !body.empty()) {
+    const std::string query = QueryString(body);  // "?a=1&b=2"
+    url += url.find('?') == std::string::npos ? query : "&" + query.substr(1);
+  }
   // `replace`: a case whose text is not valid UTF-8 still gets a request, with U+FFFD.
-  t.request_body =
-      method_ == "GET" ? "" : body.dump(-1, ' ', false, nlohmann::json::error_handler_t::replace);
+  t.request_body = get ? "" : body.dump(-1, ' ', false, nlohmann::json::error_handler_t::replace);
 
   for (int attempt = 1;; ++attempt) {
     const CircuitBreaker::Verdict verdict = breaker_.Enter();

@@ -2,7 +2,7 @@
 #define PLUMB_RUNNER_PIPELINE_HTTP_ADAPTER_H_
 
 /// The HTTP adapter (SPEC §5) drives a pipeline that runs as a service: one request per case and
-/// repeat, built from the pipeline's `url`, `method`, `headers` and `body` template
+/// repeat, built from the pipeline's `url`, `method`, `headers` and `request` block
 /// (runner/pipeline/request_template.h), sent with libcurl. The scheduler creates one per pipeline
 /// and calls it from `slots()` worker threads.
 ///
@@ -28,7 +28,7 @@
 /// exceeded 1 MiB", "run interrupted", or the circuit breaker's refusal. `http_status` is the
 /// final status when there was one, and `stdout_excerpt` the start of the reply body. Every
 /// error sentence, excerpt and returned body is redacted of the pipeline's secrets (the loader's,
-/// plus `${VAR}` values expanded in the body template here).
+/// which include every `!env` value of the request block).
 ///
 /// Thread-safety: Call is safe from several threads at once for distinct slots (the Adapter
 /// contract). Shutdown may be called from any thread at any time, also while Calls run:
@@ -73,9 +73,9 @@ class HttpAdapter : public Adapter {
     CircuitBreakerOptions breaker;
   };
 
-  /// Checks the config so that mistakes are config errors before any case runs: a url with
-  /// well-formed placeholders, header names and values without line breaks, no `body` with
-  /// GET, every `${VAR}` of the body set, a positive timeout and size cap, `slots` >= 1.
+  /// Checks the config so that mistakes are config errors before any case runs: a url,
+  /// header names and values without line breaks, a GET's request block an object (its members
+  /// become query parameters), a positive timeout and size cap, `slots` >= 1.
   /// Nothing connects yet. Returns nullptr and sets `*error` (naming the pipeline) on failure.
   static std::unique_ptr<HttpAdapter> Create(const PipelineConfig& config, int slots,
                                              std::string* error);
@@ -112,7 +112,8 @@ class HttpAdapter : public Adapter {
   std::string name_;
   std::string url_template_;
   std::string method_;
-  nlohmann::json body_template_;
+  std::vector<RequestPart> url_pieces_;
+  std::optional<RequestPart> request_block_;
   std::chrono::milliseconds timeout_{0};
   size_t max_response_bytes_ = 0;
   bool insecure_ = false;

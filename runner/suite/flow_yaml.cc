@@ -36,7 +36,11 @@ std::string FlowYaml(const SourceNode& node) {
     case SourceNode::Kind::kNull:
       return out + "null";
     case SourceNode::Kind::kScalar:
-      if (node.quoted) return out + FlowYamlString(node.scalar);
+      // A string the user quoted stays quoted (in JSON's escapes, which YAML reads alike).
+      if (node.quoted) {
+        return out + nlohmann::json(node.scalar)
+                         .dump(-1, ' ', false, nlohmann::json::error_handler_t::replace);
+      }
       return out + (NeedsQuotes(node.scalar) ? FlowYamlString(node.scalar) : node.scalar);
     case SourceNode::Kind::kSequence: {
       out += "[";

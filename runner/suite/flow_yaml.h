@@ -3,8 +3,8 @@
 
 /// A SourceNode written back as one line of YAML flow syntax (`{q: !case question, k: 4}`), so
 /// an error about a key an earlier format used can show the entry in its new form, ready to
-/// paste. Strings that flow syntax would misread are double-quoted with JSON escapes (valid
-/// YAML); numbers, booleans and plain words stay as written.
+/// paste. Strings written quoted, and strings that flow syntax would misread, are double-quoted
+/// with JSON escapes (valid YAML); numbers, booleans and plain words stay as written.
 
 #include <string>
 

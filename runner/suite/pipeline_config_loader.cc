@@ -7,19 +7,22 @@
 
 #include "runner/suite/did_you_mean.h"
 #include "runner/suite/env_expand.h"
+#include "runner/suite/flow_yaml.h"
+#include "runner/suite/request_block_reader.h"
 
 namespace plumb {
 namespace {
 
 const std::vector<std::string> kSubprocessKeys = {"command", "mode", "env", "cwd"};
-const std::vector<std::string> kHttpKeys = {"url",     "method", "headers", "body",
+const std::vector<std::string> kHttpKeys = {"url",     "method", "headers", "request",
                                             "retries", "rate",   "insecure"};
+// Keys an earlier format used; each is refused with its entry in the new form.
+const std::vector<std::string> kRetiredKeys = {"body"};
 const std::vector<std::string> kCommonKeys = {"timeout", "jobs", "max_response_bytes", "map",
                                               "offsets"};
 const std::vector<std::string> kMapKeys = {"answer",    "abstained", "citations",
                                            "retrieved", "usage",     "fields"};
 const std::vector<std::string> kCitationFieldKeys = {"doc", "start", "end", "quote"};
-const std::vector<std::string> kBodyPlaceholders = {"id", "question", "repeat", "input"};
 
 bool Contains(const std::vector<std::string>& names, const std::string& name) {
   return std::find(names.begin(), names.end(), name) != names.end();
@@ -62,7 +65,8 @@ class PipelineReader {
     std::vector<std::string> valid = kSubprocessKeys;
     valid.insert(valid.end(), kHttpKeys.begin(), kHttpKeys.end());
     valid.insert(valid.end(), kCommonKeys.begin(), kCommonKeys.end());
-    auto keys = check_.Keys(node, valid, "in pipeline '" + config->name + "'", "a pipeline config");
+    auto keys = check_.Keys(node, valid, "in pipeline '" + config->name + "'", "a pipeline config",
+                            kRetiredKeys);
     if (!node.IsMapping()) return;
     config->redacted_config = SourceNodeToJson(node);
 
@@ -125,7 +129,19 @@ class PipelineReader {
         }
       } else if (key == "url") {
         ExpandedString url;
-        if (!ReadExpanded(value, key, config, &url)) continue;
+        if (value.tag == "!text") {
+          if (!ReadUrlPieces(value, expand_env_, &check_, &config->url_pieces, &url,
+                             &config->secrets)) {
+            continue;
+          }
+        } else if (!ReadExpanded(value, key, config, &url)) {
+          continue;
+        } else if (url.value.find("{{") != std::string::npos) {
+          check_.Error(value, "'{{...}}' placeholders are not read in 'url'",
+                       "write 'url: " + UpgradeBodyToRequest(value) +
+                           "' (a !text list: strings, and !case FIELD pieces percent-encoded)");
+          continue;
+        }
         config->redacted_config["url"] = url.redacted;
         if (url.value.rfind("http://", 0) != 0 && url.value.rfind("https://", 0) != 0) {
           check_.Error(value,
@@ -146,8 +162,16 @@ class PipelineReader {
       } else if (key == "headers") {
         ReadExpandedMap(value, key, config, &config->headers, &config->redacted_config["headers"]);
       } else if (key == "body") {
-        CheckPlaceholders(value);
-        config->body = SourceNodeToJson(value);
+        check_.Error(key_entry->key,
+                     "'body' with {{...}} placeholders is now 'request', where case fields are "
+                     "inserted as JSON values",
+                     "write 'request: " + UpgradeBodyToRequest(value) + "' in its place");
+      } else if (key == "request") {
+        RequestPart request;
+        if (ReadRequestBlock(value, expand_env_, &check_, &request,
+                             &config->redacted_config["request"], &config->secrets)) {
+          config->request = std::move(request);
+        }
       } else if (key == "map") {
         ReadMap(value, config);
       } else if (key == "retries") {
@@ -283,39 +307,6 @@ class PipelineReader {
         continue;
       }
       config->map[key] = pointer;
-    }
-  }
-
-  // {{NAME}} in any body string must name a request field the adapter can fill in.
-  void CheckPlaceholders(const SourceNode& node) {
-    if (node.IsSequence()) {
-      for (const SourceNode& item : node.items) CheckPlaceholders(item);
-      return;
-    }
-    if (node.IsMapping()) {
-      for (const SourceEntry& entry : node.entries) CheckPlaceholders(entry.value);
-      return;
-    }
-    if (!node.IsScalar()) return;
-    const std::string& text = node.scalar;
-    for (size_t open = text.find("{{"); open != std::string::npos;
-         open = text.find("{{", open + 2)) {
-      size_t close = text.find("}}", open + 2);
-      if (close == std::string::npos) {
-        check_.Error(node, "unterminated '{{' in 'body'",
-                     "write {{question}}, {{id}} or {{input.KEY}}");
-        return;
-      }
-      std::string name = text.substr(open + 2, close - open - 2);
-      std::string head = name.substr(0, name.find('.'));
-      bool valid = Contains(kBodyPlaceholders, name) ||
-                   (head == "input" && name.size() > 6 && name[5] == '.');
-      if (!valid) {
-        check_.Error(node, "unknown placeholder '{{" + name + "}}' in 'body'",
-                     DidYouMeanHint(name, kBodyPlaceholders, "placeholders") +
-                         (ClosestName(name, kBodyPlaceholders).empty() ? ", input.KEY" : ""));
-      }
-      open = close;
     }
   }
 

@@ -6,7 +6,7 @@
 /// values, and keeps a redacted copy of the config for run.json. Called by the suite loader.
 ///
 /// Keys: subprocess pipelines (`command`) take mode, env, cwd; HTTP pipelines (`url`) take
-/// method, headers, body, retries, rate, insecure; both take timeout, jobs, max_response_bytes,
+/// method, headers, request, retries, rate, insecure; both take timeout, jobs, max_response_bytes,
 /// map and offsets (the last two describe the reply, which both adapters parse the same way).
 
 #include <cstdint>

@@ -63,6 +63,19 @@ struct ExpandedString {
   std::string redacted;
 };
 
+/// One node of an HTTP pipeline's `request:` block as the loader checked it: the JSON to send,
+/// with the case's values inserted where the block says `!case FIELD` (a whole value, with its
+/// JSON type) or `!text [...]` (a string joined from literal pieces and case fields). The HTTP
+/// adapter renders it per case and repeat (runner/pipeline/request_template.h).
+struct RequestPart {
+  enum class Kind { kValue, kCaseField, kText, kObject, kArray };
+  Kind kind = Kind::kValue;
+  nlohmann::json value;            // kValue: the literal, as written (`!env` already expanded)
+  std::string field;               // kCaseField: id, question, repeat, input or input.KEY[.KEY]
+  std::vector<RequestPart> items;  // kText: pieces (kValue strings, kCaseField); kArray; kObject
+  std::vector<std::string> keys;   // kObject: member names, parallel to `items`
+};
+
 enum class PipelineKind { kSubprocess, kHttp };
 enum class SubprocessMode { kPersistent, kPerCase };
 
@@ -81,7 +94,12 @@ struct PipelineConfig {
   std::optional<ExpandedString> url;
   std::string method = "POST";
   std::map<std::string, ExpandedString> headers;
-  nlohmann::json body;  // template; {{...}} substituted per request
+  /// `request:`; absent: the request of §5, {"id", "question", "input", "repeat"}. A GET sends
+  /// the block's top-level members as query parameters instead of a body.
+  std::optional<RequestPart> request;
+  /// `url: !text [...]`: the url's pieces (kValue text with `${VAR}` expanded, kCaseField
+  /// values percent-encoded per request); empty when the url is one plain string (`url`).
+  std::vector<RequestPart> url_pieces;
   // response field -> RFC 6901 pointer; keys answer, abstained, citations, retrieved, usage,
   // and fields.doc / fields.start / fields.end / fields.quote for renamed citation fields.
   std::map<std::string, std::string> map;

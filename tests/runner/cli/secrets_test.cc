@@ -96,13 +96,13 @@ TEST_CASE("no file a run writes contains an expanded secret") {
       dir + "/secrets.yaml",
       "plumb: 1\nname: secrets\nmax_error_rate: 1.0\npipelines:\n"
       "  http:\n"
-      "    url: \"http://127.0.0.1:" +
+      "    url: !text [\"http://127.0.0.1:" +
           port +
-          "/{{input.fault}}?key=${PLUMB_SECRETS_TEST_TOKEN}\"\n"
+          "/\", !case input.fault, \"?key=${PLUMB_SECRETS_TEST_TOKEN}\"]\n"
           "    headers: {Authorization: \"Bearer ${PLUMB_SECRETS_TEST_TOKEN}\","
           " X-Api-Key: \"${PLUMB_SECRETS_TEST_TOKEN}\"}\n"
-          "    body: {q: \"{{question}}\", input: \"{{input}}\", token: "
-          "\"${PLUMB_SECRETS_TEST_TOKEN}\"}\n"
+          "    request: {q: !case question, input: !case input, token: "
+          "!env PLUMB_SECRETS_TEST_TOKEN}\n"
           "    retries: 1\n    timeout: 5s\n"
           "  subprocess:\n"
           "    command: [" +

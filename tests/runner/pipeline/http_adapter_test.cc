@@ -31,6 +31,30 @@ using nlohmann::json;
 
 namespace {
 
+// Request-block parts as the loader builds them from `!case FIELD` and literal values.
+plumb::RequestPart Field(const std::string& field) {
+  plumb::RequestPart part;
+  part.kind = plumb::RequestPart::Kind::kCaseField;
+  part.field = field;
+  return part;
+}
+
+plumb::RequestPart Value(const json& value) {
+  plumb::RequestPart part;
+  part.value = value;
+  return part;
+}
+
+plumb::RequestPart Object(const std::vector<std::pair<std::string, plumb::RequestPart>>& members) {
+  plumb::RequestPart part;
+  part.kind = plumb::RequestPart::Kind::kObject;
+  for (const auto& [key, value] : members) {
+    part.keys.push_back(key);
+    part.items.push_back(value);
+  }
+  return part;
+}
+
 // A server program run for one test: started with its port line read, killed at the end.
 class ServerProcess {
  public:
@@ -173,10 +197,10 @@ TEST_CASE("a 2xx reply comes back as the raw body after one attempt") {
   CHECK(r.latency_ms > 0);
 }
 
-TEST_CASE("the request body is the rendered template, JSON-escaped") {
+TEST_CASE("the request body is the rendered request block, JSON-escaped") {
   auto server = StartFaultServer();
   plumb::PipelineConfig config = Config(server->Url("/echo-headers"));
-  config.body = json{{"q", "{{question}}"}, {"k", 4}};
+  config.request = Object({{"q", Field("question")}, {"k", Value(4)}});
   auto adapter = MakeAdapter(config);
   const plumb::CallResult r = adapter->Call(Request("c1", "say \"hi\"\n"), 0);
   REQUIRE(r.error.empty());
@@ -186,10 +210,11 @@ TEST_CASE("the request body is the rendered template, JSON-escaped") {
   CHECK(answer.find("Content-Type: application/json") != std::string::npos);
 }
 
-TEST_CASE("GET sends placeholders in the url percent-encoded") {
+TEST_CASE("GET sends the request block as query parameters, percent-encoded") {
   auto server = StartFaultServer();
-  plumb::PipelineConfig config = Config(server->Url("/echo?q={{question}}"));
+  plumb::PipelineConfig config = Config(server->Url("/echo"));
   config.method = "GET";
+  config.request = Object({{"q", Field("question")}});
   auto adapter = MakeAdapter(config);
   const plumb::CallResult r = adapter->Call(Request("c1", "ferry times & fares"), 0);
   REQUIRE(r.error.empty());
@@ -469,7 +494,9 @@ TEST_CASE("secrets in headers and body never come back unredacted") {
   plumb::PipelineConfig config = Config(server->Url("/echo-headers"));
   config.headers["Authorization"] = {"Bearer header-secret-17", "Bearer ***"};
   config.secrets = {"header-secret-17"};
-  config.body = json{{"q", "{{question}}"}, {"token", "${PLUMB_HTTP_TEST_BODY_SECRET}"}};
+  // `token: !env PLUMB_HTTP_TEST_BODY_SECRET`: the loader expands it and lists it as a secret.
+  config.request = Object({{"q", Field("question")}, {"token", Value("body-secret-42")}});
+  config.secrets.push_back("body-secret-42");
   auto adapter = MakeAdapter(config);
   const plumb::CallResult ok = adapter->Call(Request("c", "q"), 0);
   REQUIRE(ok.error.empty());
@@ -489,23 +516,16 @@ TEST_CASE("config mistakes are reported before any request") {
   std::string error;
   plumb::PipelineConfig get = Config("http://127.0.0.1:1/x");
   get.method = "GET";
-  get.body = json{{"q", "{{question}}"}};
+  get.request = Value(json::array({"q"}));
   CHECK(plumb::HttpAdapter::Create(get, 1, &error) == nullptr);
-  CHECK(error == "pipeline 'service': method GET sends no body; remove 'body' or use POST");
+  CHECK(error ==
+        "pipeline 'service': method GET sends the request block's members as query parameters, "
+        "so 'request' must be a mapping");
 
   plumb::PipelineConfig header = Config("http://127.0.0.1:1/x");
   header.headers["X-Token"] = {"a\r\nInjected: yes", "${TOKEN}"};
   CHECK(plumb::HttpAdapter::Create(header, 1, &error) == nullptr);
   CHECK(error == "pipeline 'service': header 'X-Token' contains a line break (from ${TOKEN})");
-
-  CHECK(plumb::HttpAdapter::Create(Config("http://127.0.0.1:1/{{nope}}"), 1, &error) == nullptr);
-  CHECK(error.rfind("pipeline 'service': in 'url': unknown placeholder '{{nope}}'", 0) == 0);
-
-  unsetenv("PLUMB_HTTP_TEST_UNSET");
-  plumb::PipelineConfig body = Config("http://127.0.0.1:1/x");
-  body.body = json{{"t", "${PLUMB_HTTP_TEST_UNSET}"}};
-  CHECK(plumb::HttpAdapter::Create(body, 1, &error) == nullptr);
-  CHECK(error.find("PLUMB_HTTP_TEST_UNSET") != std::string::npos);
 }
 
 // --- plumb run end to end ----------------------------------------------------------------------
@@ -518,10 +538,10 @@ TEST_CASE("plumb run: every fault costs its case exactly as SPEC section 5 says 
       dir + "/faults.yaml",
       "plumb: 1\nname: http-faults\nmax_error_rate: 1.0\npipelines:\n"
       "  faults:\n"
-      "    url: \"http://127.0.0.1:" +
+      "    url: !text [\"http://127.0.0.1:" +
           port +
-          "/{{input.fault}}\"\n"
-          "    body: {id: \"{{id}}\", question: \"{{question}}\", input: \"{{input}}\"}\n"
+          "/\", !case input.fault]\n"
+          "    request: {id: !case id, question: !case question, input: !case input}\n"
           "    timeout: 1s\n    retries: 2\n    max_response_bytes: 64KiB\n    jobs: 4\n"
           "cases:\n"
           "  - {id: ok, question: echo me, answers: [echo me], input: {fault: echo}}\n"
@@ -585,11 +605,11 @@ TEST_CASE("plumb run: an answer pointer that does not resolve is a case error na
   plumb_test::WriteFile(dir + "/pointer.yaml",
                         "plumb: 1\nname: pointer\nmax_error_rate: 1.0\npipelines:\n"
                         "  nested:\n"
-                        "    url: \"http://127.0.0.1:" +
+                        "    url: !text [\"http://127.0.0.1:" +
                             std::to_string(server->port()) +
-                            "/{{input.fault}}\"\n"
-                            "    body: {id: \"{{id}}\", question: \"{{question}}\", input: "
-                            "\"{{input}}\"}\n"
+                            "/\", !case input.fault]\n"
+                            "    request: {id: !case id, question: !case question, input: "
+                            "!case input}\n"
                             "    map: {answer: /data/text}\n"
                             "cases:\n"
                             "  - {id: mapped, question: q, answers: [q], input: {fault: map}}\n"

@@ -1,5 +1,6 @@
-// Request templating for HTTP pipelines (runner/pipeline/request_template.h). Every expected body
-// is written out by hand; JSON escaping follows RFC 8259 §7 (quotation mark, reverse solidus and
+// Request rendering for HTTP pipelines (runner/pipeline/request_template.h) from `request:`
+// blocks read by the suite's own YAML reader and request-block reader. Every expected body is
+// written out by hand; JSON escaping follows RFC 8259 §7 (quotation mark, reverse solidus and
 // U+0000..U+001F must be escaped), percent-encoding RFC 3986 §2.1 and §2.3.
 
 #include "runner/pipeline/request_template.h"
@@ -11,8 +12,12 @@
 #include <string>
 #include <vector>
 
+#include "runner/suite/request_block_reader.h"
+#include "runner/suite/yaml_reader.h"
+
 using nlohmann::json;
 using plumb::PipelineRequest;
+using plumb::RequestPart;
 
 namespace {
 
@@ -25,108 +30,116 @@ PipelineRequest Request(std::string question) {
   return r;
 }
 
-std::string Render(const json& templ, const PipelineRequest& request) {
+// The `request:` value written in YAML, as the loader reads it (environment expanded).
+RequestPart Block(const std::string& yaml, std::vector<std::string>* secrets = nullptr) {
+  plumb::SourceNode root;
+  plumb::Diagnostic parse_error;
+  REQUIRE(plumb::ReadYaml("request: " + yaml + "\n", "test.yaml", &root, &parse_error));
+  plumb::Diagnostics errors, warnings;
+  plumb::NodeChecker check("test.yaml", &errors, &warnings);
+  RequestPart part;
+  json redacted;
+  std::vector<std::string> ignored;
+  const bool ok = plumb::ReadRequestBlock(root.entries.at(0).value, /*expand_env=*/true, &check,
+                                          &part, &redacted, secrets ? secrets : &ignored);
+  INFO(plumb::FormatDiagnostics(errors));
+  REQUIRE(ok);
+  return part;
+}
+
+std::string Render(const std::string& yaml, const PipelineRequest& request) {
   json out;
   std::string error;
-  REQUIRE(plumb::RenderBody(templ, request, &out, &error));
+  REQUIRE(plumb::RenderRequest(Block(yaml), request, &out, &error));
   return out.dump();
 }
 
 }  // namespace
 
-TEST_CASE("a string that is exactly {{question}} becomes the question as a JSON string") {
+TEST_CASE("!case question is the question as a JSON string, escaped by the serializer") {
   // The question holds a quotation mark, a backslash and a newline: RFC 8259 §7 requires all
   // three escaped, as \" \\ and \n. nlohmann::json writes object keys in sorted order.
-  const json templ = {{"q", "{{question}}"}, {"k", 4}};
-  CHECK(Render(templ, Request("He said \"hi\"\\ and left\n")) ==
+  CHECK(Render("{q: !case question, k: 4}", Request("He said \"hi\"\\ and left\n")) ==
         R"({"k":4,"q":"He said \"hi\"\\ and left\n"})");
 }
 
-TEST_CASE("a placeholder inside a longer string is substituted before the string is encoded") {
-  const json templ = {{"prompt", "Q: {{question}} (case {{id}}, try {{repeat}})"}};
-  CHECK(Render(templ, Request("a \"b\"")) ==
-        R"j({"prompt":"Q: a \"b\" (case boarding-cutoff, try 2)"})j");
+TEST_CASE("!text joins literal pieces and case fields into one string before it is encoded") {
+  CHECK(Render(R"y({prompt: !text ["Q: ", !case question, " (case ", !case id, ", try ",
+                    !case repeat, ")"]})y",
+               Request("a \"b\"")) == R"j({"prompt":"Q: a \"b\" (case boarding-cutoff, try 2)"})j");
 }
 
-TEST_CASE("{{repeat}} alone is a number and {{input.KEY}} alone keeps the input's JSON type") {
-  const json templ = {{"repeat", "{{repeat}}"},
-                      {"channel", "{{input.channel}}"},
-                      {"k", "{{input.k}}"},
-                      {"lang", "{{input.user.lang}}"},
-                      {"label", "k={{input.k}} user={{input.user}}"}};
-  CHECK(Render(templ, Request("q")) ==
+TEST_CASE("!case repeat is a number and !case input.KEY keeps the input's JSON type") {
+  CHECK(Render("{repeat: !case repeat, channel: !case input.channel, k: !case input.k,"
+               " lang: !case input.user.lang,"
+               " label: !text [\"k=\", !case input.k, \" user=\", !case input.user]}",
+               Request("q")) ==
         R"({"channel":"kiosk","k":3,"label":"k=3 user={\"lang\":\"fr\"}","lang":"fr","repeat":2})");
 }
 
-TEST_CASE("{{input}} alone is the whole input object, and nested templates are walked") {
-  const json templ = {{"meta", {{"ids", {"{{id}}", "fixed", 7, nullptr, true}}}},
-                      {"input", "{{input}}"}};
-  CHECK(Render(templ, Request("q")) ==
-        R"({"input":{"channel":"kiosk","k":3,"user":{"lang":"fr"}},)"
-        R"("meta":{"ids":["boarding-cutoff","fixed",7,null,true]}})");
+TEST_CASE("!case input is the whole input object, and nested blocks are walked") {
+  CHECK(Render("{meta: {ids: [!case id, fixed, 7, null, true]}, input: !case input}",
+               Request("q")) == R"({"input":{"channel":"kiosk","k":3,"user":{"lang":"fr"}},)"
+                                R"("meta":{"ids":["boarding-cutoff","fixed",7,null,true]}})");
+  PipelineRequest none = Request("q");
+  none.input = nullptr;  // a case without input sends {}, as the default request does
+  CHECK(Render("{input: !case input}", none) == R"({"input":{}})");
 }
 
-TEST_CASE("text in a question that looks like a placeholder is not expanded again") {
-  const json templ = {{"q", "{{question}}"}, {"p", "say {{question}}"}};
-  CHECK(Render(templ, Request("{{id}} ${HOME}")) ==
-        R"({"p":"say {{id}} ${HOME}","q":"{{id}} ${HOME}"})");
+TEST_CASE("text in a question is never read as syntax") {
+  CHECK(Render("{q: !case question, p: !text [\"say \", !case question]}",
+               Request("{{id}} ${HOME} !case id")) ==
+        R"({"p":"say {{id}} ${HOME} !case id","q":"{{id}} ${HOME} !case id"})");
 }
 
-TEST_CASE("no body template sends the request object of SPEC section 5") {
-  CHECK(Render(json(), Request("How long?")) ==
-        R"({"id":"boarding-cutoff","input":{"channel":"kiosk","k":3,"user":{"lang":"fr"}},)"
-        R"("question":"How long?","repeat":2})");
+TEST_CASE("no request block sends the request object of SPEC section 5") {
+  json out;
+  std::string error;
+  REQUIRE(plumb::RenderRequest(std::nullopt, Request("How long?"), &out, &error));
+  CHECK(out.dump() == R"({"id":"boarding-cutoff","input":{"channel":"kiosk","k":3,)"
+                      R"("user":{"lang":"fr"}},"question":"How long?","repeat":2})");
 }
 
 TEST_CASE("an input key the case does not have is an error naming the key") {
   json out;
   std::string error;
-  CHECK_FALSE(plumb::RenderBody(json{{"c", "{{input.chanel}}"}}, Request("q"), &out, &error));
+  CHECK_FALSE(plumb::RenderRequest(Block("{c: !case input.chanel}"), Request("q"), &out, &error));
   CHECK(error ==
-        "the case's input has no 'chanel' (used as {{input.chanel}} in the request "
-        "template)");
-  CHECK_FALSE(plumb::RenderBody(json{{"c", "x {{input.user.tz}}"}}, Request("q"), &out, &error));
+        "the case's input has no 'chanel' (used as !case input.chanel in the pipeline's request)");
+  CHECK_FALSE(plumb::RenderRequest(Block("{c: !text [x, !case input.user.tz]}"), Request("q"), &out,
+                                   &error));
   CHECK(error.find("'user.tz'") != std::string::npos);
 }
 
-TEST_CASE("placeholders in the url are percent-encoded") {
+TEST_CASE("case fields in a url are percent-encoded, and a GET's query too") {
   std::string url, error;
+  std::vector<RequestPart> pieces = Block(R"y(!text ["http://127.0.0.1:1/search/", !case question,
+                                             "?id=", !case id, "&r=", !case repeat])y")
+                                        .items;
   // RFC 3986 §2.3 unreserved characters stay; space is %20, '&' %26, '/' %2F, and U+00E4
   // (UTF-8 C3 A4) becomes %C3%A4 (§2.1: uppercase hex digits).
-  REQUIRE(plumb::RenderUrl("http://127.0.0.1:1/search?q={{question}}&id={{id}}&r={{repeat}}",
-                           Request("fares & refunds/\xC3\xA4 ~ok_-."), &url, &error));
-  CHECK(
-      url ==
-      "http://127.0.0.1:1/search?q=fares%20%26%20refunds%2F%C3%A4%20~ok_-.&id=boarding-cutoff&r=2");
+  REQUIRE(plumb::RenderUrl("", pieces, Request("fares & refunds/\xC3\xA4 ~ok_-."), &url, &error));
+  CHECK(url ==
+        "http://127.0.0.1:1/search/fares%20%26%20refunds%2F%C3%A4%20~ok_-.?id=boarding-cutoff&r=2");
+  REQUIRE(plumb::RenderUrl("http://h/plain", {}, Request("q"), &url, &error));
+  CHECK(url == "http://h/plain");
+
+  json body;
+  REQUIRE(plumb::RenderRequest(Block("{q: !case question, k: 4, u: !case input.user}"),
+                               Request("a&b c"), &body, &error));
+  CHECK(plumb::QueryString(body) == "?k=4&q=a%26b%20c&u=%7B%22lang%22%3A%22fr%22%7D");
 }
 
-TEST_CASE("url placeholders are checked once, before any case runs") {
-  std::string error;
-  CHECK(plumb::CheckPlaceholders("http://h/{{input.anything}}/{{id}}", &error));
-  CHECK_FALSE(plumb::CheckPlaceholders("http://h/{{nope}}", &error));
-  CHECK(error ==
-        "unknown placeholder '{{nope}}'; use {{id}}, {{question}}, {{repeat}}, {{input}} or "
-        "{{input.KEY}}");
-  CHECK_FALSE(plumb::CheckPlaceholders("http://h/{{question", &error));
-  CHECK(error == "unterminated '{{' in 'http://h/{{question'");
-}
-
-TEST_CASE("${VAR} in the body template expands from the environment and is noted as a secret") {
+TEST_CASE("!env NAME is the variable's value as a string, and is noted as a secret") {
   REQUIRE(setenv("PLUMB_TEMPLATE_TEST_TOKEN", "s3cr3t-value", 1) == 0);
-  unsetenv("PLUMB_TEMPLATE_TEST_UNSET");
-  json templ = {{"auth", {{"token", "Bearer ${PLUMB_TEMPLATE_TEST_TOKEN}"}}},
-                {"q", "{{question}}"},
-                {"price", "$$5"}};
   std::vector<std::string> secrets;
+  json out;
   std::string error;
-  REQUIRE(plumb::ExpandBodyEnv(&templ, &secrets, &error));
-  // "$$" is a literal "$" (runner/suite/env_expand.h).
-  CHECK(templ ==
-        json{{"auth", {{"token", "Bearer s3cr3t-value"}}}, {"q", "{{question}}"}, {"price", "$5"}});
+  REQUIRE(plumb::RenderRequest(
+      Block("{auth: {token: !text [\"Bearer \", !env PLUMB_TEMPLATE_TEST_TOKEN]}, price: $5}",
+            &secrets),
+      Request("q"), &out, &error));
+  // Outside !env a '$' is a plain character: the request block expands nothing by itself.
+  CHECK(out == json{{"auth", {{"token", "Bearer s3cr3t-value"}}}, {"price", "$5"}});
   CHECK(secrets == std::vector<std::string>{"s3cr3t-value"});
-
-  json unset = {{"t", "${PLUMB_TEMPLATE_TEST_UNSET}"}};
-  CHECK_FALSE(plumb::ExpandBodyEnv(&unset, &secrets, &error));
-  CHECK(error.find("PLUMB_TEMPLATE_TEST_UNSET") != std::string::npos);
-  CHECK(error.find("(in 'body')") != std::string::npos);
 }

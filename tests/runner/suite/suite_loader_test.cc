@@ -808,7 +808,8 @@ TEST_CASE("pipelines: env expansion, redaction and every key") {
       "    url: \"http://127.0.0.1:${PLUMB_TEST_PORT}/answer\"\n"
       "    method: put\n"
       "    headers: {Authorization: \"Bearer ${PLUMB_TEST_TOKEN}\"}\n"
-      "    body: {q: \"{{question}}\", k: 4, ctx: \"{{input.channel}}\"}\n"
+      "    request: {q: !case question, k: 4, ctx: !text [\"channel: \", !case input.channel],"
+      " key: !env PLUMB_TEST_TOKEN}\n"
       "    map: {answer: /data/text, citations: \"\", fields: {doc: source, start: from}}\n"
       "    timeout: 500ms\n"
       "    retries: 0\n"
@@ -855,8 +856,23 @@ TEST_CASE("pipelines: env expansion, redaction and every key") {
   CHECK(svc.url->redacted == "http://127.0.0.1:***/answer");
   CHECK(svc.method == "PUT");
   CHECK(svc.headers.at("Authorization").value == "Bearer s3cret");
-  CHECK(svc.body ==
-        nlohmann::json::parse(R"({"q": "{{question}}", "k": 4, "ctx": "{{input.channel}}"})"));
+  REQUIRE(svc.request.has_value());
+  const RequestPart& request = *svc.request;
+  CHECK(request.kind == RequestPart::Kind::kObject);
+  CHECK(request.keys == std::vector<std::string>{"q", "k", "ctx", "key"});
+  REQUIRE(request.items.size() == 4);
+  CHECK(request.items[0].kind == RequestPart::Kind::kCaseField);
+  CHECK(request.items[0].field == "question");
+  CHECK(request.items[1].kind == RequestPart::Kind::kValue);
+  CHECK(request.items[1].value == 4);
+  CHECK(request.items[2].kind == RequestPart::Kind::kText);
+  REQUIRE(request.items[2].items.size() == 2);
+  CHECK(request.items[2].items[0].value == "channel: ");
+  CHECK(request.items[2].items[1].field == "input.channel");
+  CHECK(request.items[3].value == "s3cret");  // !env: expanded at load, redacted in run.json
+  CHECK(svc.redacted_config["request"] ==
+        nlohmann::json::parse(R"({"q": {"!case": "question"}, "k": 4,
+            "ctx": {"!text": ["channel: ", {"!case": "input.channel"}]}, "key": "***"})"));
   CHECK(svc.map == std::map<std::string, std::string>{{"answer", "/data/text"},
                                                       {"citations", ""},
                                                       {"fields.doc", "source"},
@@ -895,7 +911,7 @@ TEST_CASE("pipeline errors") {
                                  "    mode: persistent\n"                         // 10:5
                                  "    timeout: 30 s\n"                            // 11:14
                                  "    map: {answer: data/text, anser: /a}\n"      // 12
-                                 "    body: {q: \"{{questoin}}\"}\n"              // 13:15
+                                 "    request: {q: !case questoin}\n"             // 13:18
                                  "    rate: 20\n"                                 // 14:11
                                  "    max_response_bytes: 16MB\n"                 // 15:25
                                  "    offsets: bytes\n"                           // 16:14
@@ -920,9 +936,9 @@ TEST_CASE("pipeline errors") {
   const Diagnostic& anser = Find(r.errors, "unknown key 'anser' in 'map'");
   CheckAt(anser, suite, 12, 30);
   CHECK(anser.hint == "did you mean 'answer'?");
-  const Diagnostic& placeholder = Find(r.errors, "unknown placeholder '{{questoin}}'");
-  CheckAt(placeholder, suite, 13, 15);
-  CHECK(placeholder.hint == "did you mean 'question'?");
+  const Diagnostic& field = Find(r.errors, "unknown case field 'questoin' in '!case'");
+  CheckAt(field, suite, 13, 18);
+  CHECK(field.hint == "did you mean 'question'?");
   CheckAt(Find(r.errors, "invalid rate '20'"), suite, 14, 11);
   CheckAt(Find(r.errors, "invalid max_response_bytes '16MB'"), suite, 15, 25);
   const Diagnostic& offsets = Find(r.errors, "unknown offset unit 'bytes'");
@@ -930,6 +946,69 @@ TEST_CASE("pipeline errors") {
   CHECK(offsets.hint == "valid units are: codepoints, utf8, utf16");
   CheckAt(Find(r.errors, "'retries' is -1, out of range"), suite, 17, 14);
   CHECK(r.errors.size() == 13);
+}
+
+TEST_CASE("the request block's tags: wrong fields, tags and pieces are errors") {
+  unsetenv("PLUMB_TEST_UNSET");
+  TempDir dir;
+  std::string suite = WriteSuite(dir,
+                                 "pipelines:\n"                      // 4
+                                 "  svc:\n"                          // 5
+                                 "    url: http://127.0.0.1:1/\n"    // 6
+                                 "    request:\n"                    // 7
+                                 "      a: !cse question\n"          // 8:10
+                                 "      b: !case input.\n"           // 9:10
+                                 "      c: !text [\"x\", [1]]\n"     // 10:22
+                                 "      d: !env PLUMB_TEST_UNSET\n"  // 11:10
+                                 "      e: \"Q: {{question}}\"\n"    // 12:10
+                                 "      f: !case {x: 1}\n"           // 13:10
+                                 "cases: []\n");
+  Loaded r = Load(suite);
+  INFO(FormatDiagnostics(r.errors));
+  REQUIRE(r.errors.size() == 6);
+  CheckAt(r.errors[0], suite, 8, 10);
+  CHECK(r.errors[0].message == "unknown tag '!cse' in 'request'");
+  CHECK(r.errors[0].hint == "did you mean '!case'?");
+  CheckAt(r.errors[1], suite, 9, 10);
+  CHECK(r.errors[1].message == "unknown case field 'input.' in '!case'");
+  CHECK(r.errors[1].hint == "did you mean 'input'?");
+  CheckAt(r.errors[2], suite, 10, 22);
+  CHECK(r.errors[2].message == "a '!text' piece is a string, !case FIELD or !env NAME, got a list");
+  CheckAt(r.errors[3], suite, 11, 10);
+  CHECK(r.errors[3].message == "environment variable 'PLUMB_TEST_UNSET' is not set (in 'request')");
+  CheckAt(r.errors[4], suite, 12, 10);
+  CHECK(r.errors[4].message == "'{{...}}' placeholders are not read in 'request'");
+  CHECK(r.errors[4].hint == "write the value as !text [\"Q: \", !case question]");
+  CheckAt(r.errors[5], suite, 13, 10);
+  CHECK(r.errors[5].message == "'!case' takes a case field name, got a mapping");
+}
+
+TEST_CASE("the retired 'body' key and url placeholders are refused with their new form") {
+  TempDir dir;
+  std::string suite = WriteSuite(
+      dir,
+      "pipelines:\n"                                              // 4
+      "  svc:\n"                                                  // 5
+      "    url: \"http://127.0.0.1:8088/{{input.route}}/ask\"\n"  // 6:10
+      "    body: {q: \"{{question}}\", k: 4, meta: {case: \"{{id}}\", try: \"{{repeat}}\"},"  // 7:5
+      " prompt: \"Q: {{question}} ({{input.lang}})\", key: \"${API_KEY}\"}\n"
+      "cases: []\n");
+  Loaded r = Load(suite);
+  INFO(FormatDiagnostics(r.errors));
+  REQUIRE(r.errors.size() == 2);
+  CheckAt(r.errors[0], suite, 6, 10);
+  CHECK(r.errors[0].message == "'{{...}}' placeholders are not read in 'url'");
+  CHECK(r.errors[0].hint ==
+        "write 'url: !text [\"http://127.0.0.1:8088/\", !case input.route, \"/ask\"]' (a !text "
+        "list: strings, and !case FIELD pieces percent-encoded)");
+  CheckAt(r.errors[1], suite, 7, 5);
+  CHECK(r.errors[1].message ==
+        "'body' with {{...}} placeholders is now 'request', where case fields are inserted as "
+        "JSON values");
+  CHECK(r.errors[1].hint ==
+        "write 'request: {q: !case question, k: 4, meta: {case: !case id, try: !case repeat}, "
+        "prompt: !text [\"Q: \", !case question, \" (\", !case input.lang, \")\"], key: !env "
+        "API_KEY}' in its place");
 }
 
 TEST_CASE("a pipelines file (--pipelines) replaces the suite's pipelines") {
