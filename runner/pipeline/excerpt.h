@@ -8,16 +8,26 @@
 /// it survives.
 
 #include <cstddef>
+#include <nlohmann/json.hpp>
 #include <string>
 #include <string_view>
 #include <vector>
 
 namespace plumb {
 
-/// Returns `text` with every occurrence of each non-empty secret replaced by "***". Occurrences
-/// that overlap (two of one secret, or of two secrets) become a single "***", so no fragment of
-/// either is left; occurrences that merely touch each get their own "***".
+/// Returns `text` with every occurrence of each non-empty secret replaced by "***": the secret's
+/// own bytes, and every way a JSON encoder can write it inside a string, each code point as
+/// itself or escaped (the two-character escapes such as \" \\ \/ \t \n, \u followed by
+/// four hex digits in either case, surrogate pairs beyond the BMP), in any mix. Text that is
+/// decoded JSON is thus covered as well as the JSON text itself. Occurrences that overlap (two
+/// of one secret, or of two secrets) become a single "***", so no fragment of either is left;
+/// occurrences that merely touch each get their own "***". A secret that is not UTF-8 is
+/// matched as bytes only.
 std::string RedactSecrets(std::string text, const std::vector<std::string>& secrets);
+
+/// Redacts every string in a parsed JSON value, object keys included (RedactSecrets on the
+/// decoded text): a secret the reply carried escaped is caught once decoded.
+void RedactJsonStrings(nlohmann::json* value, const std::vector<std::string>& secrets);
 
 /// The longest prefix of `text` of at most `max_bytes` bytes that does not end inside a UTF-8
 /// sequence. Bytes that are not UTF-8 are cut at `max_bytes` exactly.

@@ -23,31 +23,39 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
   record.request = PipelineRequest::RequestLine(c.id, c.question, c.input, repeat);
   record.latency_ms = call.latency_ms;
   record.attempts = call.attempts;
-  // A pipeline may echo a secret it was given; nothing it says reaches a file unredacted.
-  const std::string redacted = secrets.empty() ? std::string() : RedactSecrets(call.body, secrets);
-  const std::string& body = secrets.empty() ? call.body : redacted;
+  // A pipeline may echo a secret it was given, as is or JSON-escaped; nothing it says reaches a
+  // file unredacted. The reply is parsed as sent and its decoded strings are redacted (a mask
+  // put into the raw text could break its JSON); the raw text is redacted, escaped forms too,
+  // only where it is recorded as text.
+  auto redacted_body = [&] {
+    return secrets.empty() ? call.body : RedactSecrets(call.body, secrets);
+  };
   if (!call.error.empty()) {
-    record.error = call.error;
+    record.error = secrets.empty() ? call.error : RedactSecrets(call.error, secrets);
     record.stdout_excerpt = call.stdout_excerpt;
     record.stderr_excerpt = call.stderr_excerpt;
-    record.response = RecordedBody(body, nullptr);
+    record.response = RecordedBody(redacted_body(), nullptr);
   } else {
-    nlohmann::json parsed = parsed_body != nullptr
-                                ? std::move(*parsed_body)
-                                : nlohmann::json::parse(body, nullptr, /*allow_exceptions=*/false);
+    nlohmann::json parsed =
+        parsed_body != nullptr
+            ? std::move(*parsed_body)
+            : nlohmann::json::parse(call.body, nullptr, /*allow_exceptions=*/false);
+    if (!parsed.is_discarded() && !secrets.empty()) RedactJsonStrings(&parsed, secrets);
     std::string parse_error;
     if (parsed.is_discarded()) {
       record.error = "response is not valid JSON";
     } else if (!ParseResponseJson(parsed, map, &record.parsed, &parse_error)) {
-      record.error = parse_error;
+      record.error = secrets.empty() ? parse_error : RedactSecrets(parse_error, secrets);
     }
     if (!record.error.empty()) {
-      record.stdout_excerpt = HeadExcerpt(body, kExcerptBytes, {});
+      record.stdout_excerpt = HeadExcerpt(call.body, kExcerptBytes, secrets);
       record.stderr_excerpt = call.stderr_excerpt;
       record.parsed = Response();
-      record.response = RecordedBody(body, nullptr);
+      record.response = RecordedBody(redacted_body(), nullptr);
+    } else if (call.body.size() <= kMaxRecordedBody) {
+      record.response = RecordedBody(call.body, &parsed);
     } else {
-      record.response = RecordedBody(body, &parsed);
+      record.response = RecordedBody(redacted_body(), nullptr);  // an excerpt of the text
     }
   }
   record.scores =
