@@ -60,6 +60,9 @@ void InstallInterruptHandlers() {
     if (pipe2(g_pipe, O_CLOEXEC) != 0) return;
     struct sigaction action {};
     action.sa_handler = OnSignal;
+    // The thread the signal lands on must not see EINTR from a blocking open() or write() of
+    // run.json (an error instead of the signal's exit code); poll() still returns early.
+    action.sa_flags = SA_RESTART;
     sigemptyset(&action.sa_mask);
     sigaction(SIGINT, &action, nullptr);
     sigaction(SIGTERM, &action, nullptr);

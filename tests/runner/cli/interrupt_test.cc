@@ -106,7 +106,19 @@ TEST_CASE("SIGTERM while run.json is written after the last case exits 143 and -
     std::this_thread::sleep_for(std::chrono::milliseconds(10));
   }
   REQUIRE(LineCount(out + "/cases.jsonl") == 5);
-  std::this_thread::sleep_for(std::chrono::milliseconds(200));  // into the open(), or nearly
+  // Then wait until a thread of plumb sleeps in open() of the FIFO (the kernel's wait channel
+  // for a FIFO opened with no reader); kernels that do not name it get a pause instead.
+  bool blocked = false;
+  while (!blocked && std::chrono::steady_clock::now() < give_up) {
+    for (const fs::directory_entry& task :
+         fs::directory_iterator("/proc/" + std::to_string(p.pid) + "/task")) {
+      if (plumb_test::ReadFile(task.path().string() + "/wchan") == "wait_for_partner") {
+        blocked = true;
+      }
+    }
+    if (!blocked) std::this_thread::sleep_for(std::chrono::milliseconds(10));
+  }
+  if (!blocked) std::this_thread::sleep_for(std::chrono::milliseconds(500));
   REQUIRE(kill(p.pid, SIGTERM) == 0);
   bool by_signal = false;
   const int code = ExitStatus(p.pid, &by_signal);
