@@ -141,7 +141,8 @@ TEST_CASE("A report into a folder that does not exist yet creates the folder") {
   CHECK(fs::exists(dir + "/new/deeper/report.html"));
 }
 
-TEST_CASE("--color always and never override the terminal test; TERM=dumb is honoured") {
+TEST_CASE(
+    "colour: --color always and never override the terminal test, and TERM=dumb is honoured") {
   const std::string dir = MakeTempDir();
   const std::string run = ScoredRun(dir);
   // stdout is a file here, so auto means no colour; always forces it, also after the command.
