@@ -85,7 +85,12 @@ int main(int argc, char** argv) {
       ->add_option("-j,--jobs", run.jobs, "Concurrent calls (default: the pipeline's jobs, or 1)")
       ->check(plumb::AtLeast(1));
   run_cmd->add_option("--repeat", run.repeat, "Send each case K times")->check(plumb::AtLeast(1));
-  run_cmd->add_flag("--resume", run.resume, "Continue an interrupted run in the same directory");
+  CLI::Option* resume = run_cmd->add_flag("--resume", run.resume,
+                                          "Continue an interrupted run in the same directory");
+  run_cmd
+      ->add_flag("--overwrite", run.overwrite,
+                 "Replace a finished run in --out (refused without it)")
+      ->excludes(resume);
   run_cmd->add_option("--tag", run.selection.tags, "Only cases with this tag (repeatable)");
   run_cmd->add_option("--case", run.selection.id_globs, "Only cases whose id matches (glob)");
   run_cmd->add_option("--limit", run.selection.limit, "At most N cases")->check(plumb::AtLeast(0));

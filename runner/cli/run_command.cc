@@ -20,6 +20,7 @@
 #include "runner/report/summary_table.h"
 #include "runner/run/prepared_suite.h"
 #include "runner/run/run_journal.h"
+#include "runner/run/run_origin.h"
 #include "runner/run/run_reader.h"
 #include "runner/run/scheduler.h"
 
@@ -72,6 +73,55 @@ bool LoadResumeState(const std::string& journal_path, const Suite& suite,
   return true;
 }
 
+RunOrigin OriginOf(const PreparedSuite& prepared, const PipelineConfig& pipeline) {
+  return RunOrigin{prepared.suite.suite_hash, prepared.corpus_fingerprint, pipeline.name,
+                   pipeline.redacted_config};
+}
+
+/// Before anything runs: --resume must continue the run its directory holds, not another
+/// pipeline's, suite's or corpus's; and an explicit --out must not replace a finished run
+/// unless --overwrite says so. False with the sentence to print.
+bool CheckRunDirectory(const RunOptions& options, const PreparedSuite& prepared,
+                       const PipelineConfig& pipeline, bool several, std::string* error) {
+  const std::string dir =
+      RunDirectory(options.out_dir, prepared.suite.name, pipeline.name, several);
+  if (options.resume) {
+    RunOrigin recorded;
+    bool found = false;
+    if (!ReadRecordedOrigin(dir, &recorded, &found, error)) return false;
+    if (!found) {
+      if (::access((dir + "/cases.jsonl").c_str(), F_OK) == 0) {
+        std::fprintf(stderr,
+                     "plumb: warning: %s records no run (no %s or run.json, as before plumb "
+                     "wrote them); resuming its journal without checking that it is this "
+                     "pipeline's, suite's and corpus's\n",
+                     dir.c_str(), kRunStartFile);
+      }
+      return true;
+    }
+    const std::vector<std::string> differences =
+        OriginDifferences(recorded, OriginOf(prepared, pipeline));
+    if (differences.empty()) return true;
+    std::string list;
+    for (const std::string& d : differences) list += (list.empty() ? "" : "; ") + d;
+    *error = "--resume: " + dir + " holds a run of another " +
+             (differences.size() == 1 ? "setting" : "set of settings") + ": " + list +
+             ". Resume with the settings it was started with, or start over with another "
+             "--out (or this one without --resume" +
+             (::access((dir + "/run.json").c_str(), F_OK) == 0 ? " and with --overwrite" : "") +
+             ")";
+    return false;
+  }
+  if (!options.out_dir.empty() && !options.overwrite &&
+      ::access((dir + "/run.json").c_str(), F_OK) == 0) {
+    *error = "--out: " + dir +
+             " holds a finished run (run.json); pass --overwrite to replace it, --resume to "
+             "continue it, or choose another --out";
+    return false;
+  }
+  return true;
+}
+
 struct PipelineRun {
   int code = kExitOk;
   std::string reason;     // the verdict's sentence
@@ -114,8 +164,13 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
     std::fprintf(stderr, "plumb: %s\n", error.c_str());
     return kExitUsage;
   }
-  // A leftover run.json from an earlier run must not describe this one while it is running.
+  // A leftover run.json from an earlier run must not describe this one while it is running;
+  // run.start.json says which run the journal belongs to, for --resume.
   std::remove((dir + "/run.json").c_str());
+  if (!WriteRunStart(dir, OriginOf(prepared, pipeline), &error)) {
+    std::fprintf(stderr, "plumb: %s\n", error.c_str());
+    return kExitUsage;
+  }
 
   RunContext context;
   context.suite = &suite;
@@ -289,7 +344,11 @@ bool MakeDirectories(const std::string& dir, std::string* error) {
 int RunCommand(const RunOptions& options) {
   auto owned = std::make_unique<PreparedSuite>();
   PreparedSuite& prepared = *owned;
-  if (!PrepareSuite(options.suite_path, options.pipelines_file, /*expand_env=*/true, &prepared)) {
+  // Only the pipelines this run starts need their variables set ("" is the suite's first).
+  const std::vector<std::string> expand =
+      options.pipelines.empty() ? std::vector<std::string>{""} : options.pipelines;
+  if (!PrepareSuite(options.suite_path, options.pipelines_file, /*expand_env=*/true, &prepared,
+                    expand)) {
     return kExitUsage;
   }
   const Suite& suite = prepared.suite;
@@ -333,6 +392,13 @@ int RunCommand(const RunOptions& options) {
                    "directory of a finished run%s\n",
                    options.baseline_dir.c_str(), dir.c_str(),
                    several ? " (with several pipelines, one subdirectory per pipeline)" : "");
+      return kExitUsage;
+    }
+  }
+  for (const PipelineConfig* pipeline : pipelines) {
+    std::string error;
+    if (!CheckRunDirectory(options, prepared, *pipeline, several, &error)) {
+      std::fprintf(stderr, "plumb: %s\n", error.c_str());
       return kExitUsage;
     }
   }

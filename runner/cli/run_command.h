@@ -22,6 +22,7 @@ struct RunOptions {
   int jobs = 0;                               // --jobs N; 0: the pipeline's `jobs`, else 1
   int repeat = 1;                             // --repeat K
   bool resume = false;                        // --resume
+  bool overwrite = false;                     // --overwrite: replace a finished run in --out
   CaseSelection selection;                    // --tag, --case, --shard, --limit
   std::map<std::string, std::string> labels;  // --label K=V
   bool json = false;                          // --json

@@ -7,10 +7,11 @@
 namespace plumb {
 
 bool PrepareSuite(const std::string& path, const std::string& pipelines_file, bool expand_env,
-                  PreparedSuite* out) {
+                  PreparedSuite* out, const std::vector<std::string>& expand_pipelines) {
   LoadOptions options;
   options.pipelines_file = pipelines_file;
   options.expand_env = expand_env;
+  options.expand_pipelines = expand_pipelines;
   Diagnostics errors;
   Diagnostics warnings;
   const bool loaded = LoadSuite(path, options, &out->suite, &errors, &warnings);

@@ -7,6 +7,7 @@
 
 #include <memory>
 #include <string>
+#include <vector>
 
 #include "runner/run/case_scorer.h"
 #include "runner/suite/corpus.h"
@@ -21,9 +22,11 @@ struct PreparedSuite {
   std::unique_ptr<CaseScorer> scorer;
 };
 
-/// `expand_env` false skips `${VAR}` expansion (for commands that never start a pipeline).
+/// `expand_env` false skips `${VAR}` expansion (for commands that never start a pipeline);
+/// with it, `expand_pipelines` names the pipelines the command starts, as in LoadOptions
+/// (runner/suite/suite_loader.h): only their variables are read and required.
 bool PrepareSuite(const std::string& path, const std::string& pipelines_file, bool expand_env,
-                  PreparedSuite* out);
+                  PreparedSuite* out, const std::vector<std::string>& expand_pipelines = {});
 
 }  // namespace plumb
 

@@ -23,6 +23,14 @@ namespace plumb {
 bool ExpandEnv(std::string_view templ, ExpandedString* out, std::vector<std::string>* secrets,
                std::string* error);
 
+/// ExpandEnv for a URL (`url:`): a value that lands in the path, query, fragment or user info
+/// is percent-encoded (every byte but RFC 3986's unreserved letters, digits, '-', '.', '_' and
+/// '~'), so a token with '&' or '/' stays one query value. A value that lands in the scheme
+/// or the host and port is used as is and must fit there; otherwise false with a sentence
+/// naming the variable. Both the value and its encoded form go to *secrets.
+bool ExpandEnvInUrl(std::string_view templ, ExpandedString* out, std::vector<std::string>* secrets,
+                    std::string* error);
+
 /// ExpandEnv without reading the environment: out->value is `templ` unchanged, out->redacted as
 /// ExpandEnv would make it. For loading a suite whose pipelines will not run (`plumb check`,
 /// `plumb score`), so unset variables are no error; malformed references still are.

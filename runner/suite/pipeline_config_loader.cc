@@ -143,7 +143,10 @@ class PipelineReader {
           continue;
         }
         config->redacted_config["url"] = url.redacted;
-        if (url.value.rfind("http://", 0) != 0 && url.value.rfind("https://", 0) != 0) {
+        // Unexpanded, a URL that starts with `${` has its scheme in a variable: unknown yet.
+        const bool scheme_known = expand_env_ || url.value.rfind("${", 0) != 0;
+        if (scheme_known && url.value.rfind("http://", 0) != 0 &&
+            url.value.rfind("https://", 0) != 0) {
           check_.Error(value,
                        "'url' must start with http:// or https://, got '" + url.redacted + "'");
         }
@@ -236,8 +239,9 @@ class PipelineReader {
     std::string templ;
     if (!check_.String(node, field, &templ)) return false;
     std::string error;
-    bool ok = expand_env_ ? ExpandEnv(templ, out, &config->secrets, &error)
-                          : RedactEnv(templ, out, &error);
+    bool ok = !expand_env_     ? RedactEnv(templ, out, &error)
+              : field == "url" ? ExpandEnvInUrl(templ, out, &config->secrets, &error)
+                               : ExpandEnv(templ, out, &config->secrets, &error);
     if (!ok) {
       check_.Error(node, error + " (in '" + field + "')",
                    "'${NAME}' takes its value from the environment plumb runs in; '$$' is a "
@@ -316,12 +320,19 @@ class PipelineReader {
 
 }  // namespace
 
-void ReadPipelines(const SourceNode& pipelines, bool expand_env, NodeChecker* check,
-                   std::vector<PipelineConfig>* out) {
+bool PipelineExpansion::Expands(const std::string& name, bool first) const {
+  if (!enabled) return false;
+  if (only.empty()) return true;
+  return std::find(only.begin(), only.end(), name) != only.end() ||
+         (first && std::find(only.begin(), only.end(), "") != only.end());
+}
+
+void ReadPipelines(const SourceNode& pipelines, const PipelineExpansion& expansion,
+                   NodeChecker* check, std::vector<PipelineConfig>* out) {
   if (!check->Mapping(pipelines, "pipelines")) return;
-  PipelineReader reader(expand_env, check);
   std::map<std::string, const SourceNode*> seen;
   for (const SourceEntry& entry : pipelines.entries) {
+    const bool first = &entry == &pipelines.entries.front();
     PipelineConfig config;
     if (!ScalarAsString(entry.key, &config.name)) {
       check->Error(entry.key, "a pipeline name must be a string, got " + DescribeNode(entry.key));
@@ -338,6 +349,7 @@ void ReadPipelines(const SourceNode& pipelines, bool expand_env, NodeChecker* ch
                    "first defined at " + FormatPos(check->Pos(*it->second)));
       continue;
     }
+    PipelineReader reader(expansion.Expands(config.name, first), check);
     reader.Read(entry, &config);
     out->push_back(std::move(config));
   }

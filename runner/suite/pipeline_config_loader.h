@@ -10,6 +10,7 @@
 /// map and offsets (the last two describe the reply, which both adapters parse the same way).
 
 #include <cstdint>
+#include <string>
 #include <string_view>
 #include <vector>
 
@@ -19,12 +20,21 @@
 
 namespace plumb {
 
+/// Which pipelines get their `${VAR}`s expanded from the environment. A pipeline that is not
+/// expanded reads nothing from the environment: each ExpandedString's value is its template
+/// unchanged (see RedactEnv), for pipelines a command will not start.
+struct PipelineExpansion {
+  bool enabled = true;
+  /// Names of the pipelines to expand; "" stands for the first one in the block. Empty: all.
+  std::vector<std::string> only;
+
+  bool Expands(const std::string& name, bool first) const;
+};
+
 /// Appends one PipelineConfig per entry of the `pipelines` mapping, in file order, reporting
-/// every problem through *check. With `expand_env` false nothing is read from the environment:
-/// each ExpandedString's value is its template unchanged (see RedactEnv), for commands that
-/// load a suite without running its pipelines.
-void ReadPipelines(const SourceNode& pipelines, bool expand_env, NodeChecker* check,
-                   std::vector<PipelineConfig>* out);
+/// every problem through *check; `${VAR}`s are expanded as `expansion` says.
+void ReadPipelines(const SourceNode& pipelines, const PipelineExpansion& expansion,
+                   NodeChecker* check, std::vector<PipelineConfig>* out);
 
 /// "500ms", "30s", "2m" (decimals allowed) or a bare number of seconds, > 0. False otherwise.
 bool ParseDuration(std::string_view text, int64_t* milliseconds);

@@ -285,7 +285,7 @@ class SuiteLoader {
     if (auto it = keys.find("ceilings"); it != keys.end())
       ReadLimits(it->second->value, "ceilings", /*ceilings=*/true, check);
     if (auto it = keys.find("pipelines"); it != keys.end() && options_.pipelines_file.empty()) {
-      ReadPipelines(it->second->value, options_.expand_env, check, &suite_->pipelines);
+      ReadPipelines(it->second->value, Expansion(), check, &suite_->pipelines);
     }
     ReadCasesAndIncludes(keys, check);
   }
@@ -921,6 +921,10 @@ class SuiteLoader {
     }
   }
 
+  PipelineExpansion Expansion() const {
+    return PipelineExpansion{options_.expand_env, options_.expand_pipelines};
+  }
+
   void ReadPipelinesFile(const std::string& path) {
     suite_->pipelines.clear();
     std::string text;
@@ -944,7 +948,7 @@ class SuiteLoader {
       check.Error(root, "the pipelines file has no 'pipelines' key");
       return;
     }
-    ReadPipelines(it->second->value, options_.expand_env, &check, &suite_->pipelines);
+    ReadPipelines(it->second->value, Expansion(), &check, &suite_->pipelines);
   }
 
   /// SHA-256 of "plumb-gold-v1\n" + the case's gold as compact JSON with keys in sorted order

@@ -29,6 +29,7 @@
 
 #include <cstdint>
 #include <string>
+#include <vector>
 
 #include "runner/suite/diagnostic.h"
 #include "runner/suite/suite.h"
@@ -41,6 +42,11 @@ constexpr int64_t kMaxSuiteFileBytes = int64_t{64} << 20;
 struct LoadOptions {
   std::string pipelines_file;  // --pipelines FILE: replaces the suite's pipelines; empty = none
   bool expand_env = true;      // false: leave ${VAR} unexpanded (commands that run no pipeline)
+  /// With expand_env, the pipelines the command will start, by name: only their `${VAR}`s are
+  /// expanded, and an unset variable is an error only there; every other pipeline is read as
+  /// with expand_env false (syntax checked, nothing read from the environment). The name ""
+  /// stands for the first pipeline, the one `plumb run` takes without --pipeline. Empty: all.
+  std::vector<std::string> expand_pipelines;
 };
 
 /// Loads, validates and resolves the suite at `path`. Returns true when usable. Every problem

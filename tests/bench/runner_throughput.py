@@ -146,7 +146,7 @@ def main():
     with tempfile.TemporaryDirectory() as tmp:
         suite = make_suite(tmp, args.cases, [echo])
         out = os.path.join(tmp, "out")
-        walls = [timed([plumb, "run", suite, "--jobs", "2", "--out", out])[0]
+        walls = [timed([plumb, "run", suite, "--jobs", "2", "--out", out, "--overwrite"])[0]
                  for _ in range(args.repeats)]
         lines = sum(1 for _ in open(os.path.join(out, "cases.jsonl")))
         median = statistics.median(walls)

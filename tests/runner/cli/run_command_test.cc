@@ -144,8 +144,14 @@ TEST_CASE("SIGINT exits 130 with the journal intact and --resume finishes the ru
   const std::string dir = MakeTempDir();
   // Case c5 hangs for a minute: the run is stuck there when the interrupt comes.
   std::vector<std::string> special = {"q0", "q1", "q2", "q3", "q4", "please hang"};
-  WriteFile(dir + "/s.yaml", "plumb: 1\nname: resume\npipelines:\n  p: {command: [" + kFixtures +
-                                 "hang-pipeline], timeout: 60s}\n" + EchoCases(30, special));
+  // The program comes from a variable, so the resumed run (the same config as written, which
+  // --resume requires) can answer c5 instead of hanging again.
+  setenv("PLUMB_TEST_RESUME_PROGRAM", (kFixtures + "hang-pipeline").c_str(), 1);
+  WriteFile(
+      dir + "/s.yaml",
+      "plumb: 1\nname: resume\npipelines:\n  p: {command: [\"${PLUMB_TEST_RESUME_PROGRAM}\"], "
+      "timeout: 60s}\n" +
+          EchoCases(30, special));
   Process p = Start({"run", dir + "/s.yaml", "--out", dir + "/out", "--jobs", "1"}, dir);
   const std::string journal = dir + "/out/cases.jsonl";
   for (int i = 0; i < 200 && ReadJournal(journal).size() < 5; ++i) {
@@ -158,12 +164,9 @@ TEST_CASE("SIGINT exits 130 with the journal intact and --resume finishes the ru
   struct stat st {};
   CHECK(stat((dir + "/out/run.json").c_str(), &st) != 0);
 
-  // Resume with a pipeline that answers everything: only c5..c29 are sent.
-  WriteFile(dir + "/echo.yaml",
-            "pipelines:\n  p: {command: [" + kFixtures + "echo-pipeline], timeout: 5s}\n");
-  const Result r = Plumb({"run", dir + "/s.yaml", "--pipelines", dir + "/echo.yaml", "--out",
-                          dir + "/out", "--resume"},
-                         dir);
+  // Resume with a program that answers everything: only c5..c29 are sent.
+  setenv("PLUMB_TEST_RESUME_PROGRAM", (kFixtures + "echo-pipeline").c_str(), 1);
+  const Result r = Plumb({"run", dir + "/s.yaml", "--out", dir + "/out", "--resume"}, dir);
   INFO(r.err);
   CHECK(r.code == 0);
   const std::vector<nlohmann::json> records = ReadJournal(journal);
@@ -391,4 +394,47 @@ TEST_CASE("plumb score writes the same run on one CPU as on all of them") {
   }
   CHECK(a == b);
   CHECK(a["aggregates"]["items"] == n);
+}
+
+// Issue 17 item 5: `run --pipeline preload` exited 2 on a `${VAR}` that only the unselected
+// pipeline used. Variables are read and required only for the pipelines a run starts.
+TEST_CASE("an unset variable of a pipeline the run does not start does not block the run") {
+  unsetenv("PLUMB_TEST_UNSELECTED_TOKEN");
+  const std::string dir = MakeTempDir();
+  WriteFile(dir + "/s.yaml",
+            "plumb: 1\nname: pick\npipelines:\n"
+            "  service:\n"
+            "    url: \"http://127.0.0.1:9/answer?key=${PLUMB_TEST_UNSELECTED_TOKEN}\"\n"
+            "    headers: {Authorization: \"Bearer ${PLUMB_TEST_UNSELECTED_TOKEN}\"}\n"
+            "  remote: {url: \"${PLUMB_TEST_UNSELECTED_TOKEN}\"}\n"
+            "  preload: {command: [" +
+                kFixtures + "echo-pipeline], env: {K: \"${PLUMB_TEST_UNSELECTED_TOKEN}x\"}}\n" +
+                EchoCases(3, {}));
+  Result r = Plumb({"run", dir + "/s.yaml", "--pipeline", "preload", "--out", dir + "/p"}, dir);
+  // preload uses the variable too: it is required there, at its line and column.
+  CHECK(r.code == 2);
+  CHECK(r.err.find("s.yaml:8:") != std::string::npos);
+  CHECK(r.err.find("error: environment variable 'PLUMB_TEST_UNSELECTED_TOKEN' is not set (in "
+                   "'env.K')") != std::string::npos);
+  CHECK(r.err.find("s.yaml:5:") == std::string::npos);  // service's use is not reported
+
+  WriteFile(dir + "/s.yaml",
+            "plumb: 1\nname: pick\npipelines:\n"
+            "  service:\n"
+            "    url: \"http://127.0.0.1:9/answer?key=${PLUMB_TEST_UNSELECTED_TOKEN}\"\n"
+            "    headers: {Authorization: \"Bearer ${PLUMB_TEST_UNSELECTED_TOKEN}\"}\n"
+            "  remote: {url: \"${PLUMB_TEST_UNSELECTED_TOKEN}\"}\n"
+            "  preload: {command: [" +
+                kFixtures + "echo-pipeline]}\n" + EchoCases(3, {}));
+  r = Plumb({"run", dir + "/s.yaml", "--pipeline", "preload", "--out", dir + "/p"}, dir);
+  INFO(r.err);
+  CHECK(r.code == 0);
+  CHECK(ReadJournal(dir + "/p/cases.jsonl").size() == 3);
+
+  // Without --pipeline the first one runs, and its variable is required.
+  r = Plumb({"run", dir + "/s.yaml", "--out", dir + "/first"}, dir);
+  CHECK(r.code == 2);
+  CHECK(r.err.find("s.yaml:5:10: error: environment variable 'PLUMB_TEST_UNSELECTED_TOKEN' is "
+                   "not set (in 'url')") != std::string::npos);
+  CHECK(r.err.find("s.yaml:7:") == std::string::npos);  // not 'remote', which is not run
 }
