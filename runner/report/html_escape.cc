@@ -14,6 +14,14 @@ bool IsDisallowedControl(char32_t cp) {
   return cp < 0x20 || (cp >= 0x7F && cp <= 0x9F);
 }
 
+// The explicit bidirectional formatting characters of UAX #9 (§2, Table 1): embeddings and
+// overrides U+202A..U+202E, isolates U+2066..U+2069. In pipeline text they reorder what the
+// reader sees (an answer can appear to say what it does not), so the page shows them as text.
+// The implicit marks (U+200E, U+200F, U+061C) reorder nothing but neutral neighbours and stay.
+bool IsBidiControl(char32_t cp) {
+  return (cp >= 0x202A && cp <= 0x202E) || (cp >= 0x2066 && cp <= 0x2069);
+}
+
 // Length of the ill-formed sequence at text[i] that becomes one U+FFFD: the "maximal subpart"
 // (Unicode §3.9, U+FFFD substitution), the rule of the WHATWG UTF-8 decoder, so the page shows
 // ill-formed input the way a browser would have decoded it. Called only where DecodeCodePoint
@@ -92,6 +100,11 @@ void Append(std::string* out, std::string_view text, bool attribute) {
     }
     if (IsDisallowedControl(cp)) {
       out->append(kReplacement);
+    } else if (IsBidiControl(cp)) {
+      static const char kHex[] = "0123456789ABCDEF";
+      out->append("[U+");
+      for (int shift = 12; shift >= 0; shift -= 4) out->push_back(kHex[(cp >> shift) & 15]);
+      out->push_back(']');
     } else {
       out->append(text.substr(begin, i - begin));
     }

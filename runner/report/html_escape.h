@@ -6,7 +6,9 @@
 /// way into the page, so no such string can open a tag, end an attribute or start a character
 /// reference. Ill-formed UTF-8 (one U+FFFD per maximal subpart, as a browser decodes it) and
 /// control characters other than tab and line breaks are replaced by U+FFFD, so the page stays
-/// well-formed whatever bytes a pipeline sent.
+/// well-formed whatever bytes a pipeline sent. The bidi embedding, override and isolate
+/// controls (U+202A..U+202E, U+2066..U+2069) are shown as the text "[U+202E]" instead of
+/// reordering what the reader sees.
 
 #include <string>
 #include <string_view>

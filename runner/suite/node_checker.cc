@@ -16,6 +16,29 @@ void NodeChecker::Warning(const SourceNode& at, std::string message, std::string
 
 void NodeChecker::WrongType(const SourceNode& node, std::string_view field,
                             std::string_view expected) {
+  // A number that is no usable number (1e400, .nan, .inf, an integer beyond 64 bits) is of
+  // the right type; "expected a number, got a number" would say nothing.
+  if (DescribeNode(node) == "a number") {
+    const std::string& text = node.scalar;
+    const bool special = !text.empty() && text[text[0] == '-' || text[0] == '+' ? 1 : 0] == '.';
+    const bool wants_integer = expected == "an integer";
+    if (wants_integer && !special && text.find_first_of(".eE") == std::string::npos) {
+      Error(node, "'" + std::string(field) + "' is " + text + ", too large for an integer",
+            "give an integer between -9223372036854775808 and 9223372036854775807");
+    } else if (wants_integer) {
+      Error(node, "wrong type for '" + std::string(field) + "'",
+            "expected an integer, got " + text);
+    } else if (special) {
+      Error(node, "'" + std::string(field) + "' is " + text + ", which is not a finite number",
+            "give a finite number such as 0.5 or 10");
+    } else {
+      Error(node,
+            "'" + std::string(field) + "' is " + text +
+                ", beyond the range of a number (about 1.8e308 at most)",
+            "give a finite number such as 0.5 or 10");
+    }
+    return;
+  }
   Error(node, "wrong type for '" + std::string(field) + "'",
         "expected " + std::string(expected) + ", got " + DescribeNode(node));
 }

@@ -5,6 +5,7 @@
 #include <yaml-cpp/yaml.h>
 
 #include <algorithm>
+#include <cstdio>
 #include <exception>
 #include <optional>
 #include <sstream>
@@ -59,7 +60,8 @@ class PositionMap {
 /// kMaxYamlNodes and its height on top of the nesting where it is used.
 class TreeBuilder : public YAML::EventHandler {
  public:
-  TreeBuilder(std::string_view text, const std::string& file) : positions_(text), file_(file) {}
+  TreeBuilder(std::string_view text, const std::string& file)
+      : text_(text), positions_(text), file_(file) {}
 
   std::vector<YAML::Mark> document_starts;
   SourceNode root;
@@ -73,6 +75,15 @@ class TreeBuilder : public YAML::EventHandler {
   }
   void OnScalar(const YAML::Mark& mark, const std::string& tag, YAML::anchor_t anchor,
                 const std::string& value) override {
+    if (!Ignoring() && tag == "!" && Unterminated(mark)) {
+      const char quote = text_[static_cast<size_t>(mark.pos)];
+      Fail(mark,
+           std::string("YAML syntax error: the ") + (quote == '"' ? "double" : "single") +
+               "-quoted string that starts here is never closed",
+           quote == '"' ? "end it with '\"'; inside it, write \\\" for a quote"
+                        : "end it with \"'\"; inside it, write '' for a quote");
+      return;
+    }
     Leaf(mark, anchor, SourceNode::Kind::kScalar, tag, value);
   }
   void OnAlias(const YAML::Mark& mark, YAML::anchor_t anchor) override {
@@ -110,6 +121,27 @@ class TreeBuilder : public YAML::EventHandler {
     YAML::anchor_t anchor = YAML::NullAnchor;
     std::optional<SourceNode> key;
   };
+
+  /// True when a quoted scalar starting at `mark` runs to the end of the text: yaml-cpp 0.7
+  /// takes the end of the input as its closing quote, and the suite then read as if the rest
+  /// of the file were that one string (found by issue 17's audit: "case 'c1' has no 'answers'").
+  bool Unterminated(const YAML::Mark& mark) const {
+    if (mark.pos < 0 || static_cast<size_t>(mark.pos) >= text_.size()) return false;
+    const char quote = text_[static_cast<size_t>(mark.pos)];
+    if (quote != '"' && quote != '\'') return false;
+    for (size_t i = static_cast<size_t>(mark.pos) + 1; i < text_.size(); ++i) {
+      if (quote == '"' && text_[i] == '\\') {
+        ++i;  // an escape: the next character cannot close the string
+      } else if (text_[i] == quote) {
+        if (quote == '\'' && i + 1 < text_.size() && text_[i + 1] == '\'') {
+          ++i;  // '' is a quote inside a single-quoted string
+          continue;
+        }
+        return false;
+      }
+    }
+    return true;
+  }
 
   /// Only the first document is built; events after it, or after a budget broke, are skipped.
   bool Ignoring() const { return failed || done_ || document_starts.size() != 1; }
@@ -213,6 +245,7 @@ class TreeBuilder : public YAML::EventHandler {
     }
   }
 
+  std::string_view text_;
   PositionMap positions_;
   const std::string& file_;
   std::vector<Frame> open_;
@@ -226,6 +259,29 @@ class TreeBuilder : public YAML::EventHandler {
 bool ReadYaml(std::string_view text, const std::string& file, SourceNode* root, Diagnostic* error) {
   if (text.substr(0, 3) == "\xEF\xBB\xBF") text.remove_prefix(3);
   *root = SourceNode();
+  // YAML 1.2 §5.1: a stream holds printable characters only; C0 controls other than tab, line
+  // feed and carriage return, and DEL, may appear only as escapes. yaml-cpp reads them (a NUL
+  // included) into strings, where they would reach the pipeline and the reports.
+  for (size_t i = 0; i < text.size(); ++i) {
+    const unsigned char c = static_cast<unsigned char>(text[i]);
+    if ((c >= 0x20 && c != 0x7F) || c == '\t' || c == '\n' || c == '\r') continue;
+    YAML::Mark mark;
+    mark.pos = static_cast<int>(i);
+    SourcePos pos{file, 0, 0};
+    PositionMap(text).Set(mark, &pos.line, &pos.column);
+    char code[8];
+    std::snprintf(code, sizeof code, "0x%02X", c);
+    *error = {
+        pos,
+        std::string("a raw control character (byte ") + code + (c == 0 ? ", NUL" : "") +
+            ") in the YAML; YAML allows none but tab and line breaks",
+        std::string("remove it, or write it as an escape inside a double-quoted string (\"\\") +
+            (c == 0      ? "0"
+             : c == 0x7F ? "x7F"
+                         : "x" + std::string(code + 2)) +
+            "\")"};
+    return false;
+  }
   try {
     const std::string owned(text);
     std::istringstream in(owned);

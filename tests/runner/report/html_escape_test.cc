@@ -56,3 +56,18 @@ TEST_CASE("html escape: controls other than tab and line breaks become U+FFFD", 
   CHECK(EscapeHtmlText("\xC2\x85") == fffd);  // U+0085 NEXT LINE, a C1 control
   CHECK(EscapeHtmlText("\x7F") == fffd);
 }
+
+// Issue 17 item 11: U+202E from a pipeline went raw into the page, so "txt.exe" could read as
+// "exe.txt". The explicit formatting characters of UAX #9 §2 Table 1 (LRE, RLE, PDF, LRO,
+// RLO = U+202A..U+202E; LRI, RLI, FSI, PDI = U+2066..U+2069), encoded in UTF-8 as E2 80 AA..AE
+// and E2 81 A6..A9 (Unicode §3.9 Table 3-6), are shown as text; the implicit marks stay.
+TEST_CASE("html escape: bidi override and isolate controls are shown, not obeyed",
+          "[html_escape]") {
+  CHECK(EscapeHtmlText("invoice\xE2\x80\xAEtxt.exe") == "invoice[U+202E]txt.exe");
+  CHECK(EscapeHtmlAttribute("\xE2\x80\xAA\xE2\x80\xAB\xE2\x80\xAC\xE2\x80\xAD") ==
+        "[U+202A][U+202B][U+202C][U+202D]");
+  CHECK(EscapeHtmlText("\xE2\x81\xA6x\xE2\x81\xA7y\xE2\x81\xA8z\xE2\x81\xA9") ==
+        "[U+2066]x[U+2067]y[U+2068]z[U+2069]");
+  // U+200F RIGHT-TO-LEFT MARK and U+2065 (unassigned, next to the isolates) pass unchanged.
+  CHECK(EscapeHtmlText("\xE2\x80\x8F\xE2\x81\xA5") == "\xE2\x80\x8F\xE2\x81\xA5");
+}

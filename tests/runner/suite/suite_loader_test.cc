@@ -1218,5 +1218,117 @@ TEST_CASE("a JSONL include over 1 MiB hashed apart keeps the files' order in the
         Sha256Hex(framed(suite_text) + framed(big_text) + framed(after_text)));
 }
 
+// Issue 17 item 11: yaml-cpp 0.7 takes the end of the input as the closing quote of a quoted
+// scalar, so the file read as if its rest were one string and the only error was "case 'c1' has
+// no 'answers'". YAML 1.2 §7.3.1/§7.3.2: a double-quoted scalar ends at an unescaped '"', a
+// single-quoted one at a "'" not doubled; there is no other end.
+TEST_CASE("an unterminated quote at the end of the file is a syntax error at the quote") {
+  TempDir dir;
+  std::string suite = WriteSuite(dir,
+                                 "cases:\n"
+                                 "  - id: c1\n"
+                                 "    question: \"what \\\" time\n"  // 6:15
+                                 "    answers: [x]\n");
+  Loaded r = Load(suite);
+  REQUIRE(r.errors.size() == 1);
+  CheckAt(r.errors[0], suite, 6, 15);
+  CHECK(r.errors[0].message ==
+        "YAML syntax error: the double-quoted string that starts here is never closed");
+  CHECK(r.errors[0].hint == "end it with '\"'; inside it, write \\\" for a quote");
+
+  suite = WriteSuite(dir, "cases:\n  - answers: [x]\n    id: c1\n    question: 'it''s\n");  // 7:15
+  r = Load(suite);
+  REQUIRE(r.errors.size() == 1);
+  CheckAt(r.errors[0], suite, 7, 15);
+  CHECK(r.errors[0].message ==
+        "YAML syntax error: the single-quoted string that starts here is never closed");
+
+  // Closed strings with escaped and doubled quotes still load.
+  suite = WriteSuite(dir, "cases:\n  - {id: c1, answers: ['it''s'], question: \"a \\\" b\"}\n");
+  r = Load(suite);
+  INFO(FormatDiagnostics(r.errors));
+  REQUIRE(r.ok);
+  CHECK(r.suite.cases[0].question == "a \" b");
+  CHECK(r.suite.cases[0].answers[0] == "it's");
+}
+
+// Issue 17 item 11: "wrong type for 'number.value'; expected a number, got a number". 1e400 is
+// beyond IEEE 754 binary64 (largest finite 1.7976931348623157e308, from memory; strtod gives
+// inf), and .nan and .inf are YAML 1.2 §10.2.1.4 floats that no gold or floor can use.
+TEST_CASE("a number beyond range or not finite gets a message that says so") {
+  TempDir dir;
+  std::string suite = WriteSuite(dir,
+                                 "min_overlap: .nan\n"  // 4:14
+                                 "cases:\n"
+                                 "  - id: c1\n"
+                                 "    question: q\n"
+                                 "    answers: [x]\n"
+                                 "    number: {value: 1e400, tolerance: -.inf}\n");  // 9:21, 9:39
+  Loaded r = Load(suite);
+  INFO(FormatDiagnostics(r.errors));
+  const Diagnostic& value = Find(r.errors, "'number.value'");
+  CheckAt(value, suite, 9, 21);
+  CHECK(value.message ==
+        "'number.value' is 1e400, beyond the range of a number (about 1.8e308 at most)");
+  CHECK(value.hint == "give a finite number such as 0.5 or 10");
+  const Diagnostic& tolerance = Find(r.errors, "'number.tolerance'");
+  CheckAt(tolerance, suite, 9, 39);
+  CHECK(tolerance.message == "'number.tolerance' is -.inf, which is not a finite number");
+  const Diagnostic& overlap = Find(r.errors, "'min_overlap'");
+  CheckAt(overlap, suite, 4, 14);
+  CHECK(overlap.message == "'min_overlap' is .nan, which is not a finite number");
+  for (const Diagnostic& d : r.errors) CHECK(d.hint.find("got a number") == std::string::npos);
+}
+
+// Issue 17 item 11: YAML 1.2 §5.1 (c-printable) allows no C0 control but tab, LF and CR; a raw
+// NUL was read into the question and sent to the pipeline.
+TEST_CASE("a raw NUL byte in YAML is refused at its line and column") {
+  TempDir dir;
+  std::string suite = WriteSuite(
+      dir, std::string("cases:\n  - {id: c1, answers: [x], question: \"a\0b\"}\n", 51));  // 5:40
+  Loaded r = Load(suite);
+  REQUIRE(r.errors.size() == 1);
+  CheckAt(r.errors[0], suite, 5, 40);
+  CHECK(r.errors[0].message ==
+        "a raw control character (byte 0x00, NUL) in the YAML; YAML allows none but tab and "
+        "line breaks");
+  CHECK(r.errors[0].hint ==
+        "remove it, or write it as an escape inside a double-quoted string (\"\\0\")");
+  suite = WriteSuite(dir, "cases:\n  - {id: c1, answers: [x], question: \"a\x1B[31mb\"}\n");
+  r = Load(suite);
+  REQUIRE(r.errors.size() == 1);
+  CHECK(r.errors[0].message.find("(byte 0x1B)") != std::string::npos);
+  CHECK(r.errors[0].hint.find("(\"\\x1B\")") != std::string::npos);
+}
+
+// Issue 17 item 5: variables are read only for the pipelines a command starts.
+TEST_CASE("expand_pipelines: only the named pipelines read their variables") {
+  unsetenv("PLUMB_TEST_UNSET");
+  setenv("PLUMB_TEST_TOKEN", "s3cret", 1);
+  TempDir dir;
+  std::string suite = WriteSuite(dir,
+                                 "pipelines:\n"
+                                 "  a: {command: [\"${PLUMB_TEST_UNSET}\"]}\n"
+                                 "  b: {command: [run, \"${PLUMB_TEST_TOKEN}\"]}\n"
+                                 "  c: {url: \"${PLUMB_TEST_UNSET}/x\"}\n"
+                                 "cases: []\n");
+  LoadOptions options;
+  options.expand_pipelines = {"b"};
+  Loaded r = Load(suite, options);
+  INFO(FormatDiagnostics(r.errors));
+  REQUIRE(r.ok);
+  CHECK(r.suite.pipelines[0].command[0].value == "${PLUMB_TEST_UNSET}");  // not read
+  CHECK(r.suite.pipelines[1].command[1].value == "s3cret");
+  CHECK(r.suite.pipelines[1].secrets == std::vector<std::string>{"s3cret"});
+  CHECK(r.suite.pipelines[2].url->redacted == "***/x");
+
+  options.expand_pipelines = {""};  // the first pipeline, the one `run` takes by default
+  r = Load(suite, options);
+  CHECK_FALSE(r.ok);
+  REQUIRE(r.errors.size() == 1);
+  CheckAt(r.errors[0], suite, 5, 17);
+  CHECK(r.errors[0].message == "environment variable 'PLUMB_TEST_UNSET' is not set (in 'command')");
+}
+
 }  // namespace
 }  // namespace plumb
