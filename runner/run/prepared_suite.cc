@@ -7,11 +7,13 @@
 namespace plumb {
 
 bool PrepareSuite(const std::string& path, const std::string& pipelines_file, bool expand_env,
-                  PreparedSuite* out, const std::vector<std::string>& expand_pipelines) {
+                  PreparedSuite* out, const std::vector<std::string>& expand_pipelines,
+                  bool keep_unlocated_quotes) {
   LoadOptions options;
   options.pipelines_file = pipelines_file;
   options.expand_env = expand_env;
   options.expand_pipelines = expand_pipelines;
+  options.keep_unlocated_quotes = keep_unlocated_quotes;
   Diagnostics errors;
   Diagnostics warnings;
   const bool loaded = LoadSuite(path, options, &out->suite, &errors, &warnings);
@@ -31,7 +33,10 @@ bool PrepareSuite(const std::string& path, const std::string& pipelines_file, bo
       std::fprintf(stderr, "%s: error: %s\n", path.c_str(), error.c_str());
       return false;
     }
-    out->corpus_fingerprint = out->corpus->Fingerprint();
+    FingerprintSkips skips;
+    out->corpus_fingerprint = out->corpus->Fingerprint(FingerprintLimits{}, &skips);
+    const std::string skipped = skips.Describe(*out->suite.corpus_dir);
+    if (!skipped.empty()) std::fprintf(stderr, "%s: warning: %s\n", path.c_str(), skipped.c_str());
   }
   std::string error;
   out->scorer = CaseScorer::Create(out->suite, out->corpus.get(), &error);

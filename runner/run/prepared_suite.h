@@ -25,8 +25,10 @@ struct PreparedSuite {
 /// `expand_env` false skips `${VAR}` expansion (for commands that never start a pipeline);
 /// with it, `expand_pipelines` names the pipelines the command starts, as in LoadOptions
 /// (runner/suite/suite_loader.h): only their variables are read and required.
+/// `keep_unlocated_quotes` is LoadOptions' (for `plumb check --since`).
 bool PrepareSuite(const std::string& path, const std::string& pipelines_file, bool expand_env,
-                  PreparedSuite* out, const std::vector<std::string>& expand_pipelines = {});
+                  PreparedSuite* out, const std::vector<std::string>& expand_pipelines = {},
+                  bool keep_unlocated_quotes = false);
 
 }  // namespace plumb
 

@@ -1,6 +1,9 @@
 #include "runner/suite/corpus.h"
 
+#include <dirent.h>
+#include <fcntl.h>
 #include <sys/stat.h>
+#include <unistd.h>
 
 #include <algorithm>
 #include <cerrno>
@@ -8,7 +11,6 @@
 #include <cstdlib>
 #include <cstring>
 #include <filesystem>
-#include <fstream>
 #include <utility>
 #include <vector>
 
@@ -127,12 +129,31 @@ const Document* Corpus::Get(const std::string& doc_id, std::string* error) {
              std::to_string(kMaxDocumentBytes) + " bytes (64 MiB)";
     return nullptr;
   }
-  std::ifstream in(resolved, std::ios::binary);
-  std::string text(static_cast<size_t>(info.st_size), '\0');
-  if (!in.read(text.data(), info.st_size) || in.peek() != std::char_traits<char>::eof()) {
-    *error = "cannot read doc '" + doc_id + "' (it changed while being read?)";
+  // Non-blocking, and at most one byte past the size stat gave: a file that looks regular but
+  // blocks (/proc/kmsg) or grows is refused instead of hanging the command.
+  const int fd = open(resolved.c_str(), O_RDONLY | O_NONBLOCK | O_NOCTTY | O_CLOEXEC);
+  std::string text(static_cast<size_t>(info.st_size) + 1, '\0');
+  size_t got = 0;
+  bool read_ok = fd >= 0;
+  int read_errno = fd >= 0 ? 0 : errno;
+  while (read_ok && got < text.size()) {
+    const ssize_t n = read(fd, text.data() + got, text.size() - got);
+    if (n == 0) break;
+    if (n < 0 && errno == EINTR) continue;
+    if (n < 0) {
+      read_ok = false;
+      read_errno = errno;
+    }
+    if (n > 0) got += static_cast<size_t>(n);
+  }
+  if (fd >= 0) close(fd);
+  if (!read_ok || got != static_cast<size_t>(info.st_size)) {
+    *error = "cannot read doc '" + doc_id + "'" +
+             (read_ok ? " (it changed while being read, or is not an ordinary file)"
+                      : std::string(": ") + std::strerror(read_errno));
     return nullptr;
   }
+  text.resize(got);
   size_t bad_offset = 0;
   if (!IsValidUtf8(text, &bad_offset)) {
     *error = "doc '" + doc_id + "' is not valid UTF-8: ill-formed byte sequence at byte offset " +
@@ -157,22 +178,147 @@ const Document* Corpus::Get(const std::string& doc_id, std::string* error) {
   return out;
 }
 
-std::string Corpus::Fingerprint() const {
+namespace {
+
+/// The sorted, bounded walk behind Corpus::Fingerprint.
+class FingerprintWalk {
+ public:
+  FingerprintWalk(const FingerprintLimits& limits, FingerprintSkips* skips)
+      : limits_(limits), skips_(*skips) {}
+
+  /// Walks `dir` (whose id prefix is `prefix`, "" at the root) and its subdirectories.
+  void Walk(const std::string& dir, const std::string& prefix) {
+    DIR* handle = opendir(dir.c_str());
+    if (handle == nullptr) return;
+    std::vector<std::string> names;
+    while (const dirent* entry = readdir(handle)) {
+      const std::string name = entry->d_name;
+      if (name == "." || name == "..") continue;
+      names.push_back(name);
+    }
+    closedir(handle);
+    std::sort(names.begin(), names.end());
+    for (const std::string& name : names) {
+      if (!skips_.stopped.empty()) return;
+      if (++visited_ > limits_.max_entries) {
+        skips_.stopped =
+            "stopped after " + std::to_string(limits_.max_entries) + " directory entries";
+        return;
+      }
+      const std::string path = dir == "/" ? "/" + name : dir + "/" + name;
+      const std::string id = prefix.empty() ? name : prefix + "/" + name;
+      struct stat info;
+      if (lstat(path.c_str(), &info) != 0) continue;
+      if (S_ISDIR(info.st_mode)) {
+        if (info.st_dev != device_) {
+          skips_.other_file_systems.push_back(path);
+          continue;
+        }
+        Walk(path, id);
+      } else if (S_ISREG(info.st_mode)) {
+        Hash(path, id, info);
+      } else {
+        ++skips_.not_regular;
+      }
+    }
+  }
+
+  void Start(const std::string& root) {
+    struct stat info;
+    if (stat(root.c_str(), &info) != 0) return;
+    device_ = info.st_dev;
+    Walk(root, "");
+  }
+
   std::vector<std::pair<std::string, std::string>> entries;  // (id, sha256 or "unreadable")
-  std::error_code ec;
-  fs::path root(resolved_dir_.empty() ? "/" : resolved_dir_);
-  for (fs::recursive_directory_iterator it(root, ec), end; !ec && it != end; it.increment(ec)) {
-    std::error_code status_ec;
-    if (it->symlink_status(status_ec).type() != fs::file_type::regular) continue;
-    std::string id = it->path().lexically_relative(root).generic_string();
-    std::ifstream in(it->path(), std::ios::binary);
+
+ private:
+  void Hash(const std::string& path, const std::string& id, const struct stat& listed) {
+    if (bytes_ + listed.st_size > limits_.max_bytes) {
+      skips_.stopped =
+          "stopped at " + id + ", past " + std::to_string(limits_.max_bytes) + " bytes read";
+      return;
+    }
+    // Non-blocking and checked again once open: a file that looks regular but blocks on read
+    // (/proc/kmsg) or was swapped for a FIFO between lstat and open is unreadable, not a hang.
+    const int fd = open(path.c_str(), O_RDONLY | O_NOFOLLOW | O_NONBLOCK | O_NOCTTY | O_CLOEXEC);
+    struct stat opened;
+    if (fd < 0 || fstat(fd, &opened) != 0 || !S_ISREG(opened.st_mode)) {
+      if (fd >= 0) close(fd);
+      entries.emplace_back(id, "unreadable");
+      return;
+    }
     Sha256 hash;
     char buffer[1 << 16];
-    while (in.read(buffer, sizeof buffer) || in.gcount() > 0) {
-      hash.Update(std::string_view(buffer, static_cast<size_t>(in.gcount())));
+    bool ok = true;
+    int64_t read_bytes = 0;
+    while (true) {
+      const ssize_t n = read(fd, buffer, sizeof buffer);
+      if (n == 0) break;
+      if (n < 0) {
+        if (errno == EINTR) continue;
+        ok = false;
+        break;
+      }
+      read_bytes += n;
+      // A file that grows while it is read (a log) is cut at the budget, not read forever.
+      if (bytes_ + read_bytes > limits_.max_bytes) {
+        ok = false;
+        break;
+      }
+      hash.Update(std::string_view(buffer, static_cast<size_t>(n)));
     }
-    entries.emplace_back(id, in.bad() || !in.eof() ? "unreadable" : hash.HexDigest());
+    close(fd);
+    bytes_ += read_bytes;
+    entries.emplace_back(id, ok ? hash.HexDigest() : "unreadable");
   }
+
+  const FingerprintLimits& limits_;
+  FingerprintSkips& skips_;
+  dev_t device_ = 0;
+  int64_t visited_ = 0;
+  int64_t bytes_ = 0;
+};
+
+}  // namespace
+
+std::string FingerprintSkips::Describe(const std::string& corpus_dir) const {
+  std::vector<std::string> parts;
+  if (not_regular > 0) {
+    parts.push_back(std::to_string(not_regular) + " entr" + (not_regular == 1 ? "y" : "ies") +
+                    " that " + (not_regular == 1 ? "is" : "are") +
+                    " not a regular file or directory (symlinks, devices, FIFOs, sockets)");
+  }
+  if (!other_file_systems.empty()) {
+    std::string dirs;
+    for (size_t i = 0; i < other_file_systems.size() && i < 5; ++i) {
+      dirs += (i == 0 ? "" : ", ") + other_file_systems[i];
+    }
+    if (other_file_systems.size() > 5) {
+      dirs += " and " + std::to_string(other_file_systems.size() - 5) + " more";
+    }
+    parts.push_back(std::to_string(other_file_systems.size()) + " director" +
+                    (other_file_systems.size() == 1 ? "y" : "ies") + " on other file systems (" +
+                    dirs + ")");
+  }
+  if (parts.empty() && stopped.empty()) return "";
+  std::string text = "the fingerprint of corpus '" + corpus_dir + "' ";
+  if (!parts.empty()) {
+    text += "skipped " + parts[0] + (parts.size() > 1 ? " and " + parts[1] : "");
+  }
+  if (!stopped.empty()) {
+    text += std::string(parts.empty() ? "" : ", and ") + stopped +
+            "; it covers the files read before. Point 'corpus' at the documents' own "
+            "directory";
+  }
+  return text;
+}
+
+std::string Corpus::Fingerprint(const FingerprintLimits& limits, FingerprintSkips* skips) const {
+  FingerprintSkips ignored;
+  FingerprintWalk walk(limits, skips != nullptr ? skips : &ignored);
+  walk.Start(resolved_dir_.empty() ? "/" : resolved_dir_);
+  std::vector<std::pair<std::string, std::string>>& entries = walk.entries;
   std::sort(entries.begin(), entries.end());
   Sha256 fingerprint;
   for (const auto& [id, digest] : entries) {

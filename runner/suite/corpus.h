@@ -31,6 +31,23 @@ struct Document {
 /// Documents larger than this are refused, like suite files (runner/suite/suite_loader.h).
 constexpr int64_t kMaxDocumentBytes = int64_t{64} << 20;
 
+/// Bounds on what Corpus::Fingerprint reads, so a corpus of `/` or a huge tree cannot make a
+/// command hang or read for hours: directory entries visited (files, directories and anything
+/// else) and bytes hashed. Beyond either, the fingerprint covers what was read before.
+struct FingerprintLimits {
+  int64_t max_entries = 100000;
+  int64_t max_bytes = int64_t{1} << 30;  // 1 GiB
+};
+
+/// What Corpus::Fingerprint left out of the fingerprint, for the warning a command prints.
+struct FingerprintSkips {
+  int64_t not_regular = 0;                      // sockets, FIFOs, devices, symlinks
+  std::vector<std::string> other_file_systems;  // directories on another mount (/proc, /sys)
+  std::string stopped;  // why the walk stopped early ("" when it covered everything)
+  /// One sentence for the user, or "" when nothing was skipped.
+  std::string Describe(const std::string& corpus_dir) const;
+};
+
 class Corpus {
  public:
   Corpus() = default;
@@ -50,9 +67,13 @@ class Corpus {
   const Document* Get(const std::string& doc_id, std::string* error);
 
   /// SHA-256 over the sorted (id, SHA-256 of bytes) of every regular file under the corpus dir,
-  /// recursively, not following symlinks; a file that cannot be read contributes its id and
-  /// the word "unreadable". Reads every file on each call: compute it once per run.
-  std::string Fingerprint() const;
+  /// recursively, not following symlinks and not leaving the corpus dir's file system; a file
+  /// that cannot be read, or would block (opened non-blocking), contributes its id and the
+  /// word "unreadable". Directories are walked in byte order of their names, so when `limits`
+  /// stop the walk the files covered are the same from run to run. What was left out goes to
+  /// *skips (may be null). Reads every file on each call: compute it once per run.
+  std::string Fingerprint(const FingerprintLimits& limits = {},
+                          FingerprintSkips* skips = nullptr) const;
 
   const std::string& dir() const { return dir_; }
 

@@ -28,6 +28,9 @@ struct GoldSpan {
   int64_t end = 0;
   std::string text;  // the document's text in [start, end) at load time
   SourcePos pos;     // where the span is written in the suite
+  /// False only for a quote not found in its document that LoadOptions::keep_unlocated_quotes
+  /// let through (`plumb check --since` reports it as stale); start = end = 0, text empty.
+  bool located = true;
 };
 
 struct NumberGold {

@@ -891,6 +891,11 @@ class SuiteLoader {
       if (quote != nullptr) {
         int occurrences = 0;
         if (!FindQuote(*document, quote_text, &start_cp, &end_cp, &occurrences)) {
+          if (options_.keep_unlocated_quotes) {
+            span.located = false;
+            gold->sources.push_back(std::move(span));
+            continue;
+          }
           check->Error(
               *quote,
               "quote not found in '" + span.doc + "': \"" + FirstCodePoints(quote_text, 60) + "\"",

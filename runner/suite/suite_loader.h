@@ -47,6 +47,9 @@ struct LoadOptions {
   /// with expand_env false (syntax checked, nothing read from the environment). The name ""
   /// stands for the first pipeline, the one `plumb run` takes without --pipeline. Empty: all.
   std::vector<std::string> expand_pipelines;
+  /// A quote not found in its document is kept as a span with `located` false instead of being
+  /// an error, for `plumb check --since`, which tells the user where the recorded text went.
+  bool keep_unlocated_quotes = false;
 };
 
 /// Loads, validates and resolves the suite at `path`. Returns true when usable. Every problem

@@ -3,6 +3,7 @@
 
 #include "runner/suite/corpus.h"
 
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <catch2/catch.hpp>
@@ -174,6 +175,54 @@ TEST_CASE("the fingerprint covers every regular file and changes with an edit") 
   std::string before = corpus.Fingerprint();
   dir.Write("docs/sub/b.md", "beta!");
   CHECK(corpus.Fingerprint() != before);
+}
+
+// Issue 17 item 9: `corpus: /` made plumb check read every file on the machine and block on
+// /proc/kmsg. The walk skips what is not a regular file or directory, stays on the corpus's
+// file system, and stops at its bounds; each skip is counted for the warning.
+TEST_CASE("the fingerprint skips FIFOs and symlinks and says what it skipped") {
+  TempDir dir;
+  dir.Write("docs/a.md", "alpha");
+  REQUIRE(mkfifo((dir.path() + "/docs/pipe").c_str(), 0644) == 0);  // open(2) would block
+  REQUIRE(symlink("a.md", (dir.path() + "/docs/link.md").c_str()) == 0);
+  Corpus corpus;
+  std::string error;
+  REQUIRE(corpus.Open(dir.path() + "/docs", &error));
+  FingerprintSkips skips;
+  CHECK(corpus.Fingerprint({}, &skips) ==
+        Sha256Hex(std::string("a.md") + '\0' + Sha256Hex("alpha") + "\n"));
+  CHECK(skips.not_regular == 2);
+  CHECK(skips.stopped.empty());
+  CHECK(skips.Describe("docs") ==
+        "the fingerprint of corpus 'docs' skipped 2 entries that are not a regular file or "
+        "directory (symlinks, devices, FIFOs, sockets)");
+}
+
+TEST_CASE("the fingerprint stops at its bounds and covers the same files every time") {
+  TempDir dir;
+  dir.Write("docs/a.md", "alpha");
+  dir.Write("docs/b/c.md", "gamma");
+  dir.Write("docs/d.md", "delta");
+  Corpus corpus;
+  std::string error;
+  REQUIRE(corpus.Open(dir.path() + "/docs", &error));
+  // Names in byte order: a.md, b, b/c.md, d.md; three entries cover a.md and b/c.md.
+  FingerprintLimits limits;
+  limits.max_entries = 3;
+  FingerprintSkips skips;
+  const std::string covered = Sha256Hex(std::string("a.md") + '\0' + Sha256Hex("alpha") + "\n" +
+                                        "b/c.md" + '\0' + Sha256Hex("gamma") + "\n");
+  CHECK(corpus.Fingerprint(limits, &skips) == covered);
+  CHECK(skips.stopped == "stopped after 3 directory entries");
+  CHECK(skips.Describe("docs") ==
+        "the fingerprint of corpus 'docs' stopped after 3 directory entries; it covers the "
+        "files read before. Point 'corpus' at the documents' own directory");
+
+  limits = FingerprintLimits{};
+  limits.max_bytes = 10;  // "alpha" and "gamma" fit, "delta" would make 15
+  skips = FingerprintSkips{};
+  CHECK(corpus.Fingerprint(limits, &skips) == covered);
+  CHECK(skips.stopped == "stopped at d.md, past 10 bytes read");
 }
 
 TEST_CASE("Open refuses what is not a directory") {
