@@ -83,7 +83,7 @@ TEST_CASE("resume with another pipeline is refused, naming both, and the journal
           std::string::npos);
   }
   SECTION("an edited suite") {
-    WriteFile(dir + "/s.yaml", "plumb: 1\nname: mix\ncorpus: docs\nthresholds: {correct: 0.5}\n" +
+    WriteFile(dir + "/s.yaml", "plumb: 1\nname: mix\ncorpus: docs\nfloors: {correct: 0.5}\n" +
                                    Pipelines(dir) + Cases());
     const Result r =
         Plumb({"run", dir + "/s.yaml", "--pipeline", "a", "--out", dir + "/out", "--resume"}, dir);
