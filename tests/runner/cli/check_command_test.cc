@@ -69,7 +69,9 @@ TEST_CASE("check --since reports moved and changed gold spans and exits 1") {
 // "Boarding closes ten minutes" [0, 27); after "Welcome aboard. " (16 code points) is put in
 // front they are at [62, 84) and [16, 43), and in the edited "... Fares are shown below." the
 // stretch from "Fares are " to " below" is [62, 83).
-TEST_CASE("check --since lists an edited quote as stale with where its text went; moves exit 0") {
+TEST_CASE(
+    "check --since lists an edited quote as stale with where its text went, and moves alone exit "
+    "0") {
   const std::string dir = MakeTempDir();
   REQUIRE(system(("mkdir -p " + dir + "/docs").c_str()) == 0);
   WriteFile(dir + "/docs/a.md",
