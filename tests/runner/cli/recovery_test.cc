@@ -139,7 +139,8 @@ TEST_CASE("random SIGKILL and --resume: every case exactly once, scores as witho
       ++episodes;
       for (bool resume = false;; resume = true) {
         std::vector<std::string> args = {"run", suite, "--out", out};
-        if (resume) args.push_back("--resume");
+        // A fresh episode starts over the last one's finished run: --overwrite says so.
+        args.push_back(resume ? "--resume" : "--overwrite");
         const plumb_test::Process p = plumb_test::Start(args, dir);
         std::this_thread::sleep_for(
             std::chrono::microseconds(static_cast<long>(1000 * when(random))));
