@@ -4,6 +4,7 @@
 #include <cstdio>
 
 #include "metrics/citation_metrics.h"
+#include "runner/report/html_bounded_text.h"
 #include "runner/report/html_escape.h"
 #include "runner/report/html_report_parts.h"
 #include "runner/report/source_excerpt.h"
@@ -64,6 +65,10 @@ std::string SpanWords(int64_t start, int64_t end) {
 }
 
 constexpr size_t kMaxRetrievedShown = 20;
+// Tokens of an answer's diff drawn as elements (issue 17 item 10); the rest is plain text.
+constexpr size_t kDiffTokensDrawn = 300;
+// A doc id a pipeline cites is untrusted too; ids longer than this are cut with "show all".
+constexpr size_t kShownDocIdCodePoints = 200;
 
 }  // namespace
 
@@ -188,7 +193,7 @@ void CaseCardWriter::AppendGold(std::string* out, const nlohmann::json& gold) co
     out->append("<ol class=\"gold\">");
     for (const std::string& a : answers) {
       out->append("<li>");
-      AppendHtmlText(out, a);
+      AppendBoundedText(out, a);
       out->append("</li>");
     }
     out->append("</ol>");
@@ -199,7 +204,7 @@ void CaseCardWriter::AppendGold(std::string* out, const nlohmann::json& gold) co
     for (size_t i = 0; i < patterns.size(); ++i) {
       if (i > 0) out->append(", ");
       out->append("<code>");
-      AppendHtmlText(out, patterns[i]);
+      AppendBoundedText(out, patterns[i]);
       out->append("</code>");
     }
     out->append("</p>");
@@ -245,7 +250,7 @@ void CaseCardWriter::AppendAnswer(std::string* out, const CaseRecord& record,
   if (record.parsed.answer && !record.parsed.abstained) {
     answer = &*record.parsed.answer;
     out->append("<p class=\"answer\">");
-    AppendHtmlText(out, *answer);
+    AppendBoundedText(out, *answer);
     out->append("</p>");
   } else {
     out->append("<p class=\"answer none\">abstained</p>");
@@ -263,7 +268,22 @@ void CaseCardWriter::AppendAnswer(std::string* out, const CaseRecord& record,
     return;
   }
   out->append("<p class=\"diff\">");
+  // A diff of some hundred thousand tokens is as many elements: the first kDiffTokensDrawn are
+  // drawn, the rest of the answer's tokens follow as plain text, bounded (the whole answer is
+  // above, with "show all"); the counts below cover every token.
+  size_t drawn = 0;
+  std::string rest;
   for (const DiffToken& t : diff.tokens) {
+    if (drawn == kDiffTokensDrawn) {
+      if (t.kind == DiffToken::Kind::kMatched) ++matched;
+      if (t.kind == DiffToken::Kind::kMissing) ++missing;
+      if (t.kind == DiffToken::Kind::kExtra) ++extra;
+      if (t.kind != DiffToken::Kind::kMissing && rest.size() < 4 * kShownCodePoints) {
+        rest += (rest.empty() ? "" : " ") + t.text;
+      }
+      continue;
+    }
+    ++drawn;
     switch (t.kind) {
       case DiffToken::Kind::kMatched:
         ++matched;
@@ -285,7 +305,18 @@ void CaseCardWriter::AppendAnswer(std::string* out, const CaseRecord& record,
         break;
     }
   }
+  if (drawn < diff.tokens.size()) {
+    out->append(" <span class=\"rest\">");
+    AppendClippedText(out, rest, kShownCodePoints);
+    out->append("</span>");
+  }
   out->append("</p><p class=\"legend\">");
+  if (drawn < diff.tokens.size()) {
+    out->append("The diff is drawn for the first " + std::to_string(drawn) + " of " +
+                std::to_string(diff.tokens.size()) +
+                " tokens; the rest of the answer's tokens follow plain, cut at " +
+                std::to_string(kShownCodePoints) + " characters. ");
+  }
   if (diff.gold_index >= 0) {
     out->append("vs gold answer " + std::to_string(diff.gold_index + 1) + ", the closest (F1 " +
                 FormatScore(diff.token_f1) + "): ");
@@ -369,7 +400,7 @@ void CaseCardWriter::AppendCitations(std::string* out, const CaseRecord& record,
   for (size_t g = 0; g < gold_spans.size(); ++g) {
     const nlohmann::json& span = gold_spans[g];
     out->append("<li><span class=\"lbl\">G" + std::to_string(g + 1) + "</span> gold ");
-    AppendHtmlText(out, span["doc"].get<std::string>());
+    AppendBoundedText(out, span["doc"].get<std::string>(), kShownDocIdCodePoints);
     out->append(" \xC2\xB7 " + SpanWords(span["start"].get<int64_t>(), span["end"].get<int64_t>()) +
                 " \xC2\xB7 ");
     out->append(gold_hit[g] ? "<span class=\"hit\">cited</span>"
@@ -379,7 +410,7 @@ void CaseCardWriter::AppendCitations(std::string* out, const CaseRecord& record,
   for (size_t i = 0; i < placed.size(); ++i) {
     const metrics::PlacedCitation& p = placed[i].placed;
     out->append("<li><span class=\"lbl\">C" + std::to_string(i + 1) + "</span> ");
-    AppendHtmlText(out, p.ref.doc);
+    AppendBoundedText(out, p.ref.doc, kShownDocIdCodePoints);
     if (p.kind == metrics::PlacedCitation::Kind::kSpan) {
       out->append(" \xC2\xB7 " + SpanWords(*p.ref.start, *p.ref.end));
       if (citations[i].quote && !citations[i].start) out->append(" (quote located)");
@@ -397,7 +428,7 @@ void CaseCardWriter::AppendCitations(std::string* out, const CaseRecord& record,
       const std::string why =
           p.warning.rfind(prefix, 0) == 0 ? p.warning.substr(prefix.size()) : p.warning;
       out->append("<span class=\"nohit\">stray: ");
-      AppendHtmlText(out, why);
+      AppendBoundedText(out, why);
       out->append("</span>");
     } else {
       out->append("<span class=\"nohit\">stray</span>");
@@ -520,7 +551,7 @@ void CaseCardWriter::AppendRetrieved(std::string* out, const CaseRecord& record,
   for (size_t i = 0; i < placed.size() && i < kMaxRetrievedShown; ++i) {
     const metrics::PlacedCitation& p = placed[i].placed;
     out->append(placed[i].hits.empty() ? "<li>" : "<li class=\"hit\">");
-    AppendHtmlText(out, p.ref.doc);
+    AppendBoundedText(out, p.ref.doc, kShownDocIdCodePoints);
     if (p.kind == metrics::PlacedCitation::Kind::kSpan) {
       out->append(" \xC2\xB7 " + SpanWords(*p.ref.start, *p.ref.end));
     } else if (p.kind == metrics::PlacedCitation::Kind::kMiss) {
@@ -544,22 +575,22 @@ void CaseCardWriter::AppendReply(std::string* out, const CaseRecord& record,
   AppendAnswer(out, record, gold);
   if (!record.error.empty()) {
     out->append("<div class=\"error\"><strong>The call failed:</strong> ");
-    AppendHtmlText(out, record.error);
+    AppendBoundedText(out, record.error);
     if (!record.stdout_excerpt.empty()) {
       out->append("<h4>stdout (excerpt)</h4><pre>");
-      AppendHtmlText(out, record.stdout_excerpt);
+      AppendBoundedText(out, record.stdout_excerpt);
       out->append("</pre>");
     }
     if (!record.stderr_excerpt.empty()) {
       out->append("<h4>stderr (excerpt)</h4><pre>");
-      AppendHtmlText(out, record.stderr_excerpt);
+      AppendBoundedText(out, record.stderr_excerpt);
       out->append("</pre>");
     }
     if (record.response.is_object() && record.response.contains("excerpt")) {
       out->append("<h4>reply (excerpt of ");
       out->append(record.response.value("bytes", nlohmann::json(0)).dump());
       out->append(" bytes)</h4><pre>");
-      AppendHtmlText(out, JsonString(record.response, "excerpt"));
+      AppendBoundedText(out, JsonString(record.response, "excerpt"));
       out->append("</pre>");
     }
     out->append("</div>");
@@ -571,7 +602,7 @@ void CaseCardWriter::AppendReply(std::string* out, const CaseRecord& record,
     out->append("<h4>Warnings</h4><ul class=\"refs\">");
     for (const std::string& w : record.scores.warnings) {
       out->append("<li>");
-      AppendHtmlText(out, w);
+      AppendBoundedText(out, w);
       out->append("</li>");
     }
     out->append("</ul>");
@@ -585,7 +616,7 @@ void CaseCardWriter::AppendReplyBrief(std::string* out, const CaseRecord& record
   AppendAnswer(out, record, gold);
   if (!record.error.empty()) {
     out->append("<div class=\"error\"><strong>The call failed:</strong> ");
-    AppendHtmlText(out, record.error);
+    AppendBoundedText(out, record.error);
     out->append("</div>");
   }
   AppendScores(out, record);

@@ -7,6 +7,7 @@
 #include <map>
 #include <set>
 
+#include "runner/report/html_bounded_text.h"
 #include "runner/report/html_case_card.h"
 #include "runner/report/html_escape.h"
 #include "runner/report/html_interval_bar.h"
@@ -494,7 +495,7 @@ void AppendDriftCard(std::string* out, const PairedCase& c, const nlohmann::json
   out->append("</span><code class=\"cid\">");
   AppendHtmlText(out, c.id);
   out->append("</code><span class=\"sq\">");
-  AppendHtmlText(out, JsonString(gold, "question"));
+  AppendClippedText(out, JsonString(gold, "question"), kShownQuestionCodePoints);
   out->append("</span><span class=\"key\">");
   std::string key;
   for (const auto& [metric, delta] : c.deltas) {

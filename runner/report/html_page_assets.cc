@@ -112,6 +112,9 @@ h5{font-size:13px;margin:10px 0 2px;font-weight:600}
 .tk.miss::before{content:"\2212"}
 .tk.extra::before{content:"+"}
 .legend{font-size:12px;color:var(--muted);margin:2px 0 0}
+.long .more{color:var(--muted)}
+.long .all{font:inherit;font-size:12px;margin-left:4px;cursor:pointer}
+.diff .rest{color:var(--muted)}
 .legend .tk{font-size:11px}
 .legend .tk::before{content:none}
 .sc{display:grid;grid-template-columns:max-content 1fr;gap:0 14px;font-size:13px;margin:0;font-variant-numeric:tabular-nums}
@@ -161,6 +164,19 @@ footer strong{color:var(--ink)}
 const std::string_view kReportScript = R"JS(
 (function () {
   'use strict';
+  // "show all" of a long text: the whole text is already in the page, escaped, in an inert
+  // <template> beside the button; its text (never markup) replaces the shown part.
+  document.addEventListener('click', function (e) {
+    var b = e.target;
+    if (!b || !b.classList || !b.classList.contains('all')) return;
+    var box = b.parentNode, full = box.querySelector('template'), cut = box.querySelector('.cut');
+    var more = box.querySelector('.more');
+    if (!full || !cut) return;
+    cut.textContent = full.content.textContent;
+    if (more) more.remove();
+    full.remove();
+    b.remove();
+  });
   var form = document.getElementById('filters');
   if (!form) return;
   var cards = Array.prototype.slice.call(document.querySelectorAll('.case'));

@@ -5,6 +5,7 @@
 #include <optional>
 #include <set>
 
+#include "runner/report/html_bounded_text.h"
 #include "runner/report/html_case_card.h"
 #include "runner/report/html_escape.h"
 #include "runner/report/html_interval_bar.h"
@@ -338,7 +339,7 @@ void AppendCaseCard(std::string* out, const CaseEntry& c, CaseCardWriter* cards)
   out->append("</span><code class=\"cid\">");
   AppendHtmlText(out, c.id);
   out->append("</code><span class=\"sq\">");
-  AppendHtmlText(out, JsonString(gold, "question"));
+  AppendClippedText(out, JsonString(gold, "question"), kShownQuestionCodePoints);
   out->append("</span><span class=\"key\">");
   if (c.shown != nullptr) AppendHtmlText(out, cards->KeyScores(*c.shown));
   out->append("</span></summary><div class=\"cbody\">");

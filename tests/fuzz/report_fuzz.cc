@@ -199,9 +199,14 @@ const Workspace& Setup() {
     close(null);
     // The benign pages: a passing and a failing answer on either side of the drift, so every
     // group (lost, gained, still failing, still passing) and its cards are among them.
+    // And an answer longer than the page shows at once (html_bounded_text.h), whose card has
+    // a "show all" button and the whole text in a <template>.
     const std::vector<std::string> passing = {"Ten minutes."}, failing = {"Five minutes."};
-    for (const auto* cand : {&passing, &failing}) {
-      for (const auto* base : {&passing, &failing}) {
+    std::string words;
+    for (int i = 0; i < 3000; ++i) words += "ten minutes ";
+    const std::vector<std::string> long_answer = {words};
+    for (const auto* cand : {&passing, &failing, &long_answer}) {
+      for (const auto* base : {&passing, &failing, &long_answer}) {
         Pages pages;
         FUZZ_CHECK(Render(w, *cand, *base, &pages) && !pages.html.empty() && !pages.junit.empty() &&
                        !pages.drift.empty(),
