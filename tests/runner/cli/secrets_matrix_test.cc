@@ -236,7 +236,7 @@ TEST_CASE("secrets of every character class never reach a file, escaped or not")
     }
     for (const std::string& leak : Leaks("stdout", run.out)) leaks.push_back(leak);
     for (const std::string& leak : Leaks("stderr", run.err)) leaks.push_back(leak);
-    CHECK(files == 5);  // cases.jsonl, run.json, report.html, junit.xml, summary.md
+    CHECK(files == 6);  // cases.jsonl, run.start.json, run.json, report.html, junit.xml, summary.md
     for (const std::string& leak : leaks) UNSCOPED_INFO(leak);
     CHECK(leaks.empty());
   }
