@@ -94,10 +94,9 @@ int RunDrift(const LoadedRun& base, const LoadedRun& cand, const DriftCommandOpt
     std::fprintf(stderr, "plumb: %s\n", error.c_str());
     return kExitUsage;
   }
-  if (options.json) {
-    *json_out = DriftReportToJson(report);
-  } else {
-    std::fputs(FormatDriftTable(report, options.colour).c_str(), stdout);
+  *json_out = DriftReportToJson(report);
+  if (!options.json) {
+    std::fputs(FormatDriftTable(report, options.colour, options.exit_line).c_str(), stdout);
     std::fflush(stdout);
   }
   return report.gate.exit_code;

@@ -23,6 +23,7 @@ struct DriftCommandOptions {
   OutputOptions outputs;  // --html, --markdown (and --junit from `run --baseline`)
   bool json = false;
   bool colour = false;
+  bool exit_line = true;  // false under `run --baseline`, which prints one exit line itself
 };
 
 int DriftCommand(const DriftCommandOptions& options);
@@ -36,8 +37,8 @@ bool ParseGate(const std::string& text, std::vector<std::string>* gate, std::str
 bool CheckDriftOptions(const DriftOptions& options, std::string* error);
 
 /// The comparison itself, for callers that already hold both runs: computes the report, writes
-/// the outputs and prints (the table or, with `json`, nothing: *json_out receives the JSON).
-/// Returns the gate's exit code, or kExitUsage after printing why.
+/// the outputs and prints the table (nothing with `json`); *json_out receives the report's JSON
+/// either way. Returns the gate's exit code, or kExitUsage after printing why.
 int RunDrift(const LoadedRun& base, const LoadedRun& cand, const DriftCommandOptions& options,
              nlohmann::json* json_out);
 

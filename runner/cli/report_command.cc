@@ -110,6 +110,19 @@ std::vector<ThresholdOutcome> ThresholdsFromRecord(const nlohmann::json& record)
   return out;
 }
 
+namespace {
+
+/// run.json's verdict.exit_code when it is one a finished run can have (0, 1 or 3); 0 for a
+/// record without one (written before verdicts were recorded).
+int RecordedExitCode(const nlohmann::json& record) {
+  const nlohmann::json& code = At(At(record, "verdict"), "exit_code");
+  if (!code.is_number_integer()) return kExitOk;
+  const int value = code.get<int>();
+  return value == kExitFloorBroken || value == kExitCaseErrors ? value : kExitOk;
+}
+
+}  // namespace
+
 int ReportCommand(const ReportOptions& options) {
   LoadedRun run;
   std::string error;
@@ -124,9 +137,11 @@ int ReportCommand(const ReportOptions& options) {
     std::fprintf(stderr, "plumb: %s\n", error.c_str());
     return kExitUsage;
   }
+  // The recorded verdict is the exit code: after `run --baseline` it includes the gate.
+  const int recorded = RecordedExitCode(run.record);
   if (options.json) {
     std::printf("%s\n", run.record.dump(2).c_str());
-    return kExitOk;
+    return recorded;
   }
   const nlohmann::json& r = run.record;
   SummaryHeader header;
@@ -144,7 +159,7 @@ int ReportCommand(const ReportOptions& options) {
                            UseColour(stdout))
                  .c_str(),
              stdout);
-  return kExitOk;
+  return recorded;
 }
 
 }  // namespace plumb

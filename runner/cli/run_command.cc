@@ -222,8 +222,10 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
   const double seconds =
       std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   FinishedRun finished;
+  // With a baseline or several pipelines, RunCommand prints the one final exit line itself.
+  const bool exit_line = !several && options.baseline_dir.empty();
   if (!FinishRun(context, outcomes, scheduled.interrupted, dir, options.json, seconds, &finished,
-                 &error)) {
+                 &error, exit_line)) {
     std::fprintf(stderr, "plumb: %s\n", error.c_str());
     return kExitUsage;
   }
@@ -257,10 +259,12 @@ int Worse(int a, int b) {
 }
 
 /// After a finished run: its report files and, with --baseline, the drift against the baseline
-/// run (printed after the run's summary, or added to the JSON record as "drift"). Returns the
-/// pipeline's exit code with the drift gate's folded in.
+/// run (printed after the run's summary, or added to the JSON record as "drift"). The drift and
+/// its gate are recorded in the run directory (drift.json, and run.json's "baseline" and
+/// "verdict"), so a later `plumb report` exits as this command does. Returns the pipeline's exit
+/// code with the drift gate's folded in; *reason gets the sentence that goes with it.
 int ReportOnRun(const RunOptions& options, const std::string& suite, const std::string& pipeline,
-                bool several, int code, const std::string& reason, nlohmann::json* record) {
+                bool several, int code, std::string* reason, nlohmann::json* record) {
   if (options.baseline_dir.empty() && options.outputs.empty()) return code;
   const std::string dir = RunDirectory(options.out_dir, suite, pipeline, several);
   const OutputOptions outputs =
@@ -292,15 +296,27 @@ int ReportOnRun(const RunOptions& options, const std::string& suite, const std::
   drift.outputs = outputs;
   drift.json = options.json;
   drift.colour = UseColour(stdout);
+  drift.exit_line = false;
   if (!options.json) std::printf("\n");
   nlohmann::json drift_json;
   const int gate = RunDrift(baseline, run, drift, &drift_json);
-  if (options.json && gate != kExitUsage) (*record)["drift"] = std::move(drift_json);
+  if (gate == kExitUsage) return Worse(code, gate);
   const int combined = Worse(code, gate);
-  // The last line states the process's exit code: the run's own verdict when it outranks the
-  // gate's (case errors, say), repeated after the drift table.
-  if (!options.json && gate != kExitUsage && combined != gate) {
-    std::printf("\nexit %d: %s\n", combined, reason.c_str());
+  const std::string gate_reason = drift_json["gate"].value("reason", std::string());
+  // The gate's reason when it decides the code (it also names the candidate's broken floors);
+  // the run's own when case errors or an interruption outrank it.
+  if (combined == gate) *reason = gate_reason;
+  RunVerdict verdict{combined, *reason};
+  const nlohmann::json recorded = BaselineRecord(baseline_dir, gate, gate_reason);
+  if (!WriteFileAtomically(dir + "/drift.json", drift_json.dump(2) + "\n", &error) ||
+      !RecordBaselineVerdict(dir, recorded, verdict, &error)) {
+    std::fprintf(stderr, "plumb: %s\n", error.c_str());
+    return Worse(combined, kExitUsage);
+  }
+  if (options.json) {
+    (*record)["drift"] = std::move(drift_json);
+    (*record)["baseline"] = recorded;
+    (*record)["verdict"] = {{"exit_code", combined}, {"reason", *reason}};
   }
   return combined;
 }
@@ -404,12 +420,14 @@ int RunCommand(const RunOptions& options) {
   }
   int code = kExitOk;
   nlohmann::json runs = nlohmann::json::array();
+  std::vector<std::pair<std::string, RunVerdict>> verdicts;  // per pipeline, for the last line
   for (const PipelineConfig* pipeline : pipelines) {
     PipelineRun run;
     int pipeline_code = RunOnePipeline(options, prepared, *pipeline, selected, several, &run);
     if (pipeline_code != kExitInterrupted && pipeline_code != kExitUsage) {
       pipeline_code = ReportOnRun(options, suite.name, pipeline->name, several, pipeline_code,
-                                  run.reason, &run.record);
+                                  &run.reason, &run.record);
+      verdicts.push_back({pipeline->name, RunVerdict{pipeline_code, run.reason}});
     }
     code = Worse(code, pipeline_code);
     if (!run.record.is_null()) runs.push_back(std::move(run.record));
@@ -418,6 +436,17 @@ int RunCommand(const RunOptions& options) {
   }
   // 130 for SIGINT, 143 for SIGTERM (SPEC §8; the shell's 128 + signal number).
   if (code == kExitInterrupted) code = InterruptExitCode();
+  // One last line states the process's exit code and why, after every run and gate; a single
+  // run without a baseline printed it already (FinishRun).
+  if (!options.json && (several || !options.baseline_dir.empty()) && !verdicts.empty() &&
+      code != kExitUsage && code != InterruptExitCode()) {
+    std::string reason;
+    for (const auto& [name, verdict] : verdicts) {
+      if (verdict.code != code) continue;
+      reason += (reason.empty() ? "" : "; ") + (several ? name + ": " : "") + verdict.reason;
+    }
+    std::printf("\n%s", FormatExitLine(RunVerdict{code, reason}, UseColour(stdout)).c_str());
+  }
   if (options.json) {
     const nlohmann::json out = several ? nlohmann::json{{"runs", runs}, {"exit_code", code}}
                                        : (runs.empty() ? nlohmann::json::object() : runs[0]);

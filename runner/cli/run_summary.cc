@@ -1,17 +1,21 @@
 #include "runner/cli/run_summary.h"
 
+#include <fmt/format.h>
+
 #include <cstdio>
 #include <memory>
 #include <thread>
 
 #include "runner/base/atomic_file.h"
+#include "runner/base/terminal_palette.h"
 #include "runner/report/summary_table.h"
+#include "runner/run/error_reasons.h"
 
 namespace plumb {
 
 bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, bool interrupted,
                const std::string& run_dir, bool json, double seconds, FinishedRun* finished,
-               std::string* error) {
+               std::string* error, bool exit_line) {
   const Suite& suite = *context.suite;
   if (context.finished_at.empty()) context.finished_at = NowIso8601();
   // An interrupted run keeps its journal but gets no run.json: it is not a finished run, and
@@ -44,10 +48,21 @@ bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, boo
   if (json) finished->record = head + cases + tail;
   if (!json) {
     SummaryHeader header{suite.name, context.pipeline_name, seconds, context.repeat};
-    const std::string table =
-        FormatSummary(header, aggregates, thresholds, finished->verdict, UseColour(stdout));
-    std::fputs(table.c_str(), stdout);
-    if (!run_dir.empty() && !interrupted) std::printf("run written to %s\n", run_dir.c_str());
+    const bool colour = UseColour(stdout);
+    std::string text = FormatSummary(header, aggregates, thresholds, finished->verdict, colour,
+                                     /*exit_line=*/false);
+    if (aggregates.errored > 0 && !run_dir.empty()) {
+      text += "\n" + FormatErrorReasons(CountErrorReasons(run_dir + "/cases.jsonl", 5),
+                                        aggregates.errored);
+    }
+    if (!run_dir.empty() && !interrupted) text += "\nrun written to " + run_dir + "\n";
+    if (exit_line) {
+      text += FormatExitLine(finished->verdict, colour);
+    } else {
+      text += fmt::format("this run's own verdict: exit code {} ({})\n", finished->verdict.code,
+                          finished->verdict.reason);
+    }
+    std::fputs(text.c_str(), stdout);
     std::fflush(stdout);
   }
   return true;

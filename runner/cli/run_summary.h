@@ -21,9 +21,13 @@ struct FinishedRun {
 };
 
 /// `run_dir` empty: no run.json is written. `seconds` is the wall time shown in the table.
+/// When cases errored, the most common error reasons follow the table. The table ends with "run
+/// written to DIR" and then, with `exit_line`, the verdict's "exit N: reason" line, last; without
+/// it (a run whose gate or other pipelines still follow) the run's own verdict is shown on a
+/// line of its own and the caller prints the final exit line.
 bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, bool interrupted,
                const std::string& run_dir, bool json, double seconds, FinishedRun* finished,
-               std::string* error);
+               std::string* error, bool exit_line = true);
 
 }  // namespace plumb
 

@@ -783,8 +783,9 @@ DriftGate DecideGate(const DriftReport& report, const LoadedRun& cand) {
     // "candidate floor broken: ...", "candidate 2 floors and 1 ceiling broken: ..."
     std::string count = CountFloorsAndCeilings(broken_floors, broken_ceilings);
     if (gate.broken_floors.size() == 1) count = count.substr(2);
-    parts.push_back(fmt::format("candidate {} broken: {}{}", count, gate.broken_floors.front(),
-                                gate.broken_floors.size() > 1 ? ", ..." : ""));
+    std::string all;  // every one, in full: a reason is never cut short
+    for (const std::string& b : gate.broken_floors) all += (all.empty() ? "" : ", ") + b;
+    parts.push_back(fmt::format("candidate {} broken: {}", count, all));
   }
   if (!parts.empty()) {
     gate.exit_code = kExitFloorBroken;

@@ -81,7 +81,7 @@ std::string DeltasText(const CaseChange& c, const std::vector<std::string>& gate
 
 }  // namespace
 
-std::string FormatDriftTable(const DriftReport& r, bool colour) {
+std::string FormatDriftTable(const DriftReport& r, bool colour, bool exit_line) {
   const Palette p = MakePalette(colour);
   std::string out;
   out += fmt::format("{}drift {}{}: {} paired cases", p.bold, Plain(r.base.suite_name), p.reset,
@@ -174,9 +174,10 @@ std::string FormatDriftTable(const DriftReport& r, bool colour) {
     out += fmt::format("\n  unstable across repeats: {} case(s), first: {}\n", r.unstable.size(),
                        Plain(r.unstable.front()));
   }
+  if (!exit_line) return out;
   const char* tone = r.gate.exit_code == 0 ? p.good : p.bad;
   out += fmt::format("\n{}exit {}{}: {}\n", tone, r.gate.exit_code, p.reset,
-                     Plain(r.gate.reason, 400));
+                     Plain(r.gate.reason, std::string::npos));  // in full, never cut
   return out;
 }
 

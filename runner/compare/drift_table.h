@@ -14,7 +14,9 @@
 
 namespace plumb {
 
-std::string FormatDriftTable(const DriftReport& report, bool colour);
+/// Without `exit_line` the table ends before the gate's exit line (`run --baseline` prints one
+/// exit line for the run and its gate, last).
+std::string FormatDriftTable(const DriftReport& report, bool colour, bool exit_line = true);
 
 }  // namespace plumb
 

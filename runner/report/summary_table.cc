@@ -32,7 +32,7 @@ void AppendMetricRows(std::string* out, const std::vector<MetricAggregate>& metr
 
 std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
                           const std::vector<ThresholdOutcome>& thresholds,
-                          const RunVerdict& verdict, bool colour) {
+                          const RunVerdict& verdict, bool colour, bool exit_line) {
   const Palette p = MakePalette(colour);
   std::string out;
   out += fmt::format("{}{} / {}{}  {} cases", p.bold, h.suite, h.pipeline, p.reset, run.cases);
@@ -80,8 +80,7 @@ std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
     out += fmt::format("\n  unstable across repeats: {} case(s), first: {}\n",
                        run.unstable_cases.size(), run.unstable_cases.front());
   }
-  const char* tone = verdict.code == kExitOk ? p.good : p.bad;
-  out += fmt::format("\n{}exit {}{}: {}\n", tone, verdict.code, p.reset, verdict.reason);
+  if (exit_line) out += "\n" + FormatExitLine(verdict, colour);
   return out;
 }
 

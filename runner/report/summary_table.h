@@ -23,9 +23,10 @@ struct SummaryHeader {
   int repeat = 1;
 };
 
+/// Without `exit_line` the table ends before the verdict line (the caller prints it, last).
 std::string FormatSummary(const SummaryHeader& header, const RunAggregates& aggregates,
                           const std::vector<ThresholdOutcome>& thresholds,
-                          const RunVerdict& verdict, bool colour);
+                          const RunVerdict& verdict, bool colour, bool exit_line = true);
 
 }  // namespace plumb
 

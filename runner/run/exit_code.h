@@ -25,6 +25,10 @@ struct RunVerdict {
   std::string reason;  // one line for the end of the summary
 };
 
+/// "exit N: reason" and a newline, green for 0 and red otherwise when `colour`: the last line
+/// plumb prints, so a CI log ends with the process's exit code and why.
+std::string FormatExitLine(const RunVerdict& verdict, bool colour);
+
 RunVerdict DecideRunVerdict(const RunAggregates& aggregates,
                             const std::vector<ThresholdOutcome>& thresholds, double max_error_rate,
                             bool interrupted);

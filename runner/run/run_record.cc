@@ -10,6 +10,8 @@
 #include <cstring>
 #include <ctime>
 #include <filesystem>
+#include <fstream>
+#include <iterator>
 
 #include "runner/base/atomic_file.h"
 #include "runner/base/json_writer.h"
@@ -164,6 +166,41 @@ bool WriteFileAtomically(const std::string& path, const std::string& contents, s
   if (file == nullptr) return false;
   file->Write(contents);
   return file->Commit(error);
+}
+
+nlohmann::json BaselineRecord(const std::string& baseline_dir, int gate_code,
+                              const std::string& gate_reason) {
+  return {{"run_dir", AbsolutePath(baseline_dir)},
+          {"drift", "drift.json"},
+          {"exit_code", gate_code},
+          {"reason", gate_reason}};
+}
+
+bool RecordBaselineVerdict(const std::string& run_dir, const nlohmann::json& baseline,
+                           const RunVerdict& verdict, std::string* error) {
+  const std::string path = run_dir + "/run.json";
+  std::ifstream in(path, std::ios::binary);
+  std::string text((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
+  // RunRecordTail ends the record with its verdict, the top-level object's last member.
+  const size_t at = text.rfind("\n  \"verdict\": {");
+  if (!in || at == std::string::npos) {
+    *error = "cannot record the baseline gate in " + path +
+             ": the file is missing or has no verdict; run the suite again";
+    return false;
+  }
+  auto member = [](const char* key, const nlohmann::json& value) {
+    std::string dumped = value.dump(2);
+    std::string indented;
+    for (char c : dumped) {
+      indented += c;
+      if (c == '\n') indented += "  ";
+    }
+    return std::string("\n  \"") + key + "\": " + indented;
+  };
+  text.resize(at);
+  text += member("baseline", baseline) + "," +
+          member("verdict", {{"exit_code", verdict.code}, {"reason", verdict.reason}}) + "\n}\n";
+  return WriteFileAtomically(path, text, error);
 }
 
 std::string NowIso8601() {

@@ -48,6 +48,18 @@ bool WriteRunRecordCases(const RunContext& context,
 std::string RunRecordTail(const RunContext& context, const RunAggregates& aggregates,
                           const std::vector<ThresholdOutcome>& thresholds,
                           const RunVerdict& verdict);
+/// run.json's "baseline" member after `run --baseline`: the baseline's absolute directory, the
+/// drift file beside run.json, and the gate's exit code and reason.
+nlohmann::json BaselineRecord(const std::string& baseline_dir, int gate_code,
+                              const std::string& gate_reason);
+
+/// Rewrites `run_dir`/run.json with `baseline` (BaselineRecord) before its verdict and with
+/// `verdict` (the process's exit code and reason, gate included) as the verdict, so `plumb
+/// report` and a CI step reading run.json see what the command's exit code said. The rest of
+/// the file is kept byte for byte; replaced atomically. False with a sentence on any failure.
+bool RecordBaselineVerdict(const std::string& run_dir, const nlohmann::json& baseline,
+                           const RunVerdict& verdict, std::string* error);
+
 /// Writes `contents` to `path` through a temporary file in the same directory and rename(2),
 /// so readers see the old file or the new one, never half of one (runner/base/atomic_file.h).
 /// Missing parent folders are created first. The path "-" writes to standard output

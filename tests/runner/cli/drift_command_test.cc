@@ -299,6 +299,9 @@ TEST_CASE("plumb run --baseline computes the drift and gates on it") {
   CHECK(same.code == 0);
   CHECK(same.out.find("drift echo-drift: 12 paired cases") != std::string::npos);
   CHECK(LastLine(same.out).rfind("exit 0: no gated metric regressed", 0) == 0);
+  // One exit line, the last: the run's own verdict and the drift table print none of their own.
+  CHECK(same.out.find("\nexit ") == same.out.rfind("\nexit "));
+  CHECK(same.out.find("run written to " + dir + "/pr-same") < same.out.rfind("\nexit "));
 
   const Result worse = Plumb({"run", dir + "/suite.yaml", "--pipeline", "wrong", "--out",
                               dir + "/pr-worse", "--baseline", dir + "/main-run", "--json",
@@ -312,6 +315,20 @@ TEST_CASE("plumb run --baseline computes the drift and gates on it") {
   CHECK(MetricRow(record["drift"]["metrics"], "correct")["p_value"] == 2.0 / 4096);
   CHECK(ReadFile(dir + "/comment.md").find("**FAIL** (exit 1)") != std::string::npos);
   CHECK(ReadFile(dir + "/cases.xml").find("failures=\"12\"") != std::string::npos);
+  // The gate is recorded where CI reads it: run.json's verdict is the process's exit code (the
+  // run alone broke no floor), its "baseline" says why, drift.json holds the comparison, and
+  // `plumb report` of the run exits as the run did.
+  CHECK(record["verdict"]["exit_code"] == 1);
+  const nlohmann::json stored = nlohmann::json::parse(ReadFile(dir + "/pr-worse/run.json"));
+  CHECK(stored["verdict"]["exit_code"] == 1);
+  CHECK(stored["verdict"]["reason"].get<std::string>().find(
+            "regressed (correct 1.0000 -> 0.0000") != std::string::npos);
+  CHECK(stored["baseline"]["exit_code"] == 1);
+  CHECK(stored["baseline"]["drift"] == "drift.json");
+  CHECK(nlohmann::json::parse(ReadFile(dir + "/pr-worse/drift.json"))["gate"]["exit_code"] == 1);
+  const Result reported = Plumb({"report", dir + "/pr-worse"}, dir);
+  CHECK(reported.code == 1);
+  CHECK(LastLine(reported.out) == "exit 1: " + stored["verdict"]["reason"].get<std::string>());
 
   const Result no_baseline = Plumb({"run", dir + "/suite.yaml", "--pipeline", "echo", "--out",
                                     dir + "/pr-lost", "--baseline", dir + "/missing"},
@@ -357,7 +374,9 @@ TEST_CASE("plumb report re-renders a stored run without its pipeline") {
   // (the header line holds the wall time, which only the live run knows).
   auto table = [](const std::string& text) {
     const size_t start = text.find("\n  metric");
-    const size_t end = text.find("\nexit ");
+    // score ends its table with "run written to DIR", then the exit line; report has no DIR.
+    size_t end = text.find("\nrun written to ");
+    if (end == std::string::npos) end = text.find("\nexit ");
     REQUIRE(start != std::string::npos);
     REQUIRE(end != std::string::npos);
     return text.substr(start, end - start);

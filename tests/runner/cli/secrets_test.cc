@@ -168,7 +168,7 @@ TEST_CASE("no file a run writes contains an expanded secret") {
                            run_dir + "/junit.xml", "--markdown", run_dir + "/summary.md"},
                           dir);
     INFO(report.err);
-    if (report.code != 0 && report.code != 1) {
+    if (report.code == 2) {  // report exits 0, 1 or 3: the recorded verdict
       WARN("plumb report did not run (exit " << report.code << "); only run files are searched");
       continue;
     }
