@@ -122,7 +122,7 @@ TEST_CASE("resume with the run's own settings continues it") {
   CHECK(Exists(dir + "/out/run.json"));
 }
 
-TEST_CASE("--out over a finished run is refused unless --overwrite") {
+TEST_CASE("An --out over a finished run is refused unless --overwrite") {
   const std::string dir = MakeTempDir();
   WriteFile(dir + "/s.yaml", "plumb: 1\nname: twice\npipelines:\n  b: {command: [" + kFixtures +
                                  "echo-pipeline], timeout: 5s}\n"
