@@ -6,57 +6,10 @@
 #include <limits>
 #include <numeric>
 
+#include "metrics/binomial_distribution.h"
+
 namespace plumb::metrics {
 namespace {
-
-constexpr double kLogSqrt2Pi = 0.918938533204672741780;  // log(sqrt(2 pi))
-constexpr double kTwoPi = 6.283185307179586476925;
-
-// Catherine Loader, "Fast and Accurate Computation of Binomial Probabilities" (2000), the method
-// behind R's dbinom: the binomial probability as a saddle-point expansion whose two pieces, the
-// Stirling-series error and the deviance bd0, are each computed without cancellation, so a
-// probability keeps full relative precision even for millions of trials.
-
-// log(n!) - log(sqrt(2 pi n) (n / e)^n) for an integer n >= 1.
-double StirlingError(double n) {
-  if (n <= 15) return std::lgamma(n + 1) - (n + 0.5) * std::log(n) + n - kLogSqrt2Pi;
-  // The Stirling series 1/(12n) - 1/(360n^3) + 1/(1260n^5) - 1/(1680n^7) + 1/(1188n^9): its
-  // coefficients are B_2k / (2k (2k - 1)); the next term is below 2e-16 / n^2 for n > 15.
-  const double nn = n * n;
-  return (1.0 / 12 - (1.0 / 360 - (1.0 / 1260 - (1.0 / 1680 - 1.0 / 1188 / nn) / nn) / nn) / nn) /
-         n;
-}
-
-// The deviance term x log(x / np) + np - x, by its series in v = (x - np) / (x + np) unless x is
-// far from np. Loader switches to the direct formula at |v| = 0.1; there it still cancels about
-// three bits (x = 0.77 np), which deep McNemar tails (p near 1e-230) showed against a 45-digit
-// reference, so the series, whose terms shrink by v^2 <= 1/4, is used up to |v| = 1/2.
-double Deviance(double x, double np) {
-  if (std::fabs(x - np) < 0.5 * (x + np)) {
-    double v = (x - np) / (x + np);
-    double sum = (x - np) * v;
-    double term = 2 * x * v;
-    v *= v;
-    for (int j = 1; j < 1000; ++j) {
-      term *= v;
-      const double next = sum + term / (2 * j + 1);
-      if (next == sum) return next;
-      sum = next;
-    }
-    return sum;
-  }
-  return x * std::log(x / np) + np - x;
-}
-
-// P(X = x) for X ~ Binomial(n, 1/2), 0 <= x <= n.
-double BinomialHalfProbability(int64_t x, int64_t n) {
-  // 2^-n; past 2^-1074 it is 0 in double, so the exponent is capped to stay in int range.
-  if (x == 0 || x == n) return std::ldexp(1.0, -static_cast<int>(std::min<int64_t>(n, 2000)));
-  const double xd = static_cast<double>(x), nd = static_cast<double>(n);
-  const double exponent = StirlingError(nd) - StirlingError(xd) - StirlingError(nd - xd) -
-                          Deviance(xd, nd / 2) - Deviance(nd - xd, nd / 2);
-  return std::exp(exponent) * std::sqrt(nd / (kTwoPi * xd * (nd - xd)));
-}
 
 // P(X <= k) for X ~ Binomial(n, 1/2), for 0 <= k < n / 2. Up to 60 trials the binomial
 // coefficients and their sum are exact integers (below 2^60), so the tail is correctly rounded.
@@ -72,7 +25,7 @@ double BinomialHalfLowerTail(int64_t k, int64_t n) {
     }
     return std::ldexp(static_cast<double>(sum), -static_cast<int>(n));
   }
-  double term = BinomialHalfProbability(k, n);
+  double term = BinomialProbability(k, n, 0.5);
   double sum = term;
   for (int64_t i = k; i >= 1 && term > sum * 1e-18; --i) {
     term *= static_cast<double>(i) / static_cast<double>(n - i + 1);
@@ -82,6 +35,12 @@ double BinomialHalfLowerTail(int64_t k, int64_t n) {
 }
 
 }  // namespace
+
+int64_t FewestPairsForSignificance(double alpha) {
+  int64_t n = 1;
+  while (n < 1100 && std::ldexp(1.0, static_cast<int>(1 - n)) > alpha) ++n;
+  return n;
+}
 
 double McNemarExactP(int64_t b, int64_t c) {
   if (b < 0 || c < 0) return std::numeric_limits<double>::quiet_NaN();
@@ -101,7 +60,6 @@ double WilcoxonSignedRankP(const std::vector<double>& differences) {
   }
   const size_t n = nonzero.size();
   if (n == 0) return 1;
-  const bool had_zeros = std::count(differences.begin(), differences.end(), 0.0) > 0;
 
   // Average ranks of |d| (scipy.stats.rankdata's default "average").
   std::vector<size_t> order(n);
@@ -124,18 +82,32 @@ double WilcoxonSignedRankP(const std::vector<double>& differences) {
   }
 
   const double count = static_cast<double>(n);
-  if (n <= 50 && !had_zeros && tie_term == 0) {
-    // Exact: the number of subsets of {1..n} with each rank sum, by the usual counting
-    // recurrence; every count is below 2^50, so it and every tail sum are exact in uint64 and the
-    // probability count / 2^n is exact in double (scipy's table is the same dyadic fractions).
-    const size_t max_sum = n * (n + 1) / 2;
+  if (n <= kWilcoxonExactMax) {
+    // Exact: under the null each non-zero difference is as likely positive as negative, so R+ is
+    // the sum of a random subset of the (average) ranks. Doubled, every average rank is an
+    // integer (start + end + 1), and the number of sign patterns giving each doubled sum follows
+    // from the subset-sum recurrence; every count is below 2^50, so the counts and the tails are
+    // exact in uint64 and each probability count / 2^n is exact in double. Without ties this is
+    // the classic table scipy reads; with ties and zeros it is the permutation distribution of
+    // the signed ranks (Pratt and Gibbons' conditional test; scipy.stats.permutation_test with
+    // permutation_type="samples" enumerates the same 2^n sign patterns).
+    std::vector<size_t> doubled(n);
+    size_t max_sum = 0;
+    for (size_t start = 0; start < n;) {
+      size_t end = start + 1;
+      while (end < n && std::fabs(nonzero[order[end]]) == std::fabs(nonzero[order[start]])) ++end;
+      for (size_t i = start; i < end; ++i) doubled[i] = start + end + 1;
+      max_sum += (end - start) * (start + end + 1);
+      start = end;
+    }
     std::vector<uint64_t> ways(max_sum + 1, 0);
     ways[0] = 1;
-    for (size_t rank = 1; rank <= n; ++rank) {
-      for (size_t s = rank * (rank + 1) / 2; s >= rank; --s) ways[s] += ways[s - rank];
+    size_t reached = 0;
+    for (size_t r : doubled) {
+      reached += r;
+      for (size_t s = reached; s >= r; --s) ways[s] += ways[s - r];
     }
-    const size_t r_plus = static_cast<size_t>(rank_sum_positive);
-    if (r_plus == max_sum / 2) return 1;  // the centre of the distribution, as scipy has it
+    const size_t r_plus = static_cast<size_t>(std::llround(2 * rank_sum_positive));
     uint64_t lower = 0, upper = 0;
     for (size_t s = 0; s <= r_plus; ++s) lower += ways[s];
     for (size_t s = r_plus; s <= max_sum; ++s) upper += ways[s];

@@ -5,10 +5,16 @@
 /// candidate run: exact McNemar for 0/1 metrics, the Wilcoxon signed-rank test for continuous
 /// ones, and Holm's step-down adjustment for the per-tag p-values. Pure functions.
 
+#include <cstddef>
 #include <cstdint>
 #include <vector>
 
 namespace plumb::metrics {
+
+/// The fewest paired cases that can give a two-sided p <= alpha in either test here: with n
+/// cases the smallest attainable p of exact McNemar and of the exact signed-rank test alike is
+/// 2 / 2^n (every case changed, all in one direction), so 6 at alpha 0.05 (2 / 64 = 0.031).
+int64_t FewestPairsForSignificance(double alpha);
 
 /// Exact McNemar test, two-sided: the binomial test of the discordant pairs, b (base pass,
 /// candidate fail) against c (base fail, candidate pass), with p = 1/2:
@@ -18,17 +24,24 @@ namespace plumb::metrics {
 /// 1e-100) up to b + c = 10^8. NaN when b or c is negative.
 double McNemarExactP(int64_t b, int64_t c);
 
+/// The most non-zero differences for which WilcoxonSignedRankP is exact.
+inline constexpr size_t kWilcoxonExactMax = 50;
+
 /// Wilcoxon signed-rank test, two-sided, on paired differences (candidate - base); NaN entries
-/// (a metric undefined on one side) are ignored. Follows scipy.stats.wilcoxon(d) with its defaults
-/// as of scipy 1.10.1 (Debian 12): zero differences are dropped (zero_method="wilcox"), |d| ties
-/// share their average rank, no continuity correction. The p-value is exact (the null distribution
-/// of the positive rank sum) when there are at most 50 differences, none zero and no tied |d|;
-/// otherwise it is the normal approximation of the rank sum with the tie correction of the
-/// variance. One deliberate departure: with tied |d| but no zeros and n <= 50, scipy 1.10.1
-/// truncates the (half-integer) rank sum and reads the no-ties exact table, which is not a valid
-/// exact p-value (its documentation says so); here that case takes the normal approximation, i.e.
-/// agrees with scipy.stats.wilcoxon(d, method="approx"). No differences, or all zero -> 1 (scipy
-/// raises).
+/// (a metric undefined on one side) are ignored. Zero differences are dropped (scipy's
+/// zero_method="wilcox", its default) and tied |d| share their average rank. With at most
+/// kWilcoxonExactMax non-zero differences the p-value is exact: the permutation distribution of
+/// the signed ranks (every sign pattern of the non-zero differences equally likely), ties and all,
+///   p = min(1, 2 * min(P(R+ <= r), P(R+ >= r))),
+/// which is scipy.stats.wilcoxon(d).pvalue (scipy 1.10.1, Debian 12) when there are no ties and
+/// no zeros, and scipy.stats.permutation_test((d,), R+, permutation_type="samples") in every case
+/// (tests/reference/statistics_reference.py checks both). scipy's own default departs with ties
+/// (it reads the no-ties table at a truncated rank sum, and says the result is then not exact)
+/// and with zeros (it switches to the normal approximation): k identical differences get
+/// 2 / 2^k here (0.5, 0.25, 0.125, 0.0625, 0.03125 for k = 2..6), where a normal approximation
+/// gives 0.157, 0.083, 0.046, 0.025, 0.014. Above kWilcoxonExactMax: the normal approximation of
+/// the rank sum with the tie correction of the variance and no continuity correction
+/// (scipy.stats.wilcoxon(d, method="approx")). No differences, or all zero -> 1 (scipy raises).
 double WilcoxonSignedRankP(const std::vector<double>& differences);
 
 /// Holm-Bonferroni step-down adjusted p-values, in input order: with the m p-values sorted

@@ -99,6 +99,9 @@ int main(int argc, char** argv) {
   run_cmd->add_flag("--json", run.json, "Print the run record as JSON on stdout");
   run_cmd->add_option("--baseline", run.baseline_dir,
                       "Compare with this run directory (drift) and exit 1 on a regression");
+  run_cmd->add_flag("--allow-missing", run.allow_missing,
+                    "With --baseline: leave out baseline cases this run lacks instead of counting "
+                    "them as lost (implied by --tag, --case, --limit and --shard)");
   AddOutputOptions(run_cmd, &run.outputs, /*junit=*/true);
 
   plumb::ScoreOptions score;
@@ -129,6 +132,8 @@ int main(int argc, char** argv) {
   drift_cmd->add_option("--seed", drift.drift.seed, "Bootstrap seed (default 20261201)");
   drift_cmd->add_option("--resamples", drift.drift.resamples,
                         "Bootstrap resamples (default 10000)");
+  drift_cmd->add_flag("--allow-missing", drift.drift.allow_missing,
+                      "Leave out base cases the candidate lacks instead of counting them as lost");
   drift_cmd->add_flag("--json", drift.json, "Print the drift report as JSON on stdout");
   AddOutputOptions(drift_cmd, &drift.outputs, /*junit=*/false);
 

@@ -297,6 +297,11 @@ int ReportOnRun(const RunOptions& options, const std::string& suite, const std::
   drift.json = options.json;
   drift.colour = UseColour(stdout);
   drift.exit_line = false;
+  // A run of selected cases (--tag, --case, --limit, --shard) lacks the rest of the baseline by
+  // choice: those are left out rather than counted as lost.
+  const CaseSelection& s = options.selection;
+  drift.drift.allow_missing = options.allow_missing || !s.tags.empty() || !s.id_globs.empty() ||
+                              s.limit >= 0 || s.shard.count > 1;
   if (!options.json) std::printf("\n");
   nlohmann::json drift_json;
   const int gate = RunDrift(baseline, run, drift, &drift_json);

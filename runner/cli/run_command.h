@@ -26,9 +26,10 @@ struct RunOptions {
   CaseSelection selection;                    // --tag, --case, --shard, --limit
   std::map<std::string, std::string> labels;  // --label K=V
   bool json = false;                          // --json
-  std::string baseline_dir;  // --baseline DIR: drift against it and gate (SPEC §7, §8)
-  OutputOptions outputs;     // --html, --junit, --markdown
-  bool progress = true;      // false in tests
+  std::string baseline_dir;    // --baseline DIR: drift against it and gate (SPEC §7, §8)
+  bool allow_missing = false;  // --allow-missing: baseline cases not run are left out
+  OutputOptions outputs;       // --html, --junit, --markdown
+  bool progress = true;        // false in tests
 };
 
 int RunCommand(const RunOptions& options);

@@ -19,6 +19,8 @@ namespace plumb {
 namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+/// PairedCases::cand_row of a case the candidate lacks (counted as lost, see drift.h).
+constexpr uint32_t kMissingRow = std::numeric_limits<uint32_t>::max();
 
 bool IsBinaryKind(const std::string& metric) {
   static const std::set<std::string> kBinary = {"exact_match", "correct", "pattern_match",
@@ -518,7 +520,8 @@ struct PairedCases {
 /// Pairs the runs' cases and fills the report's paired, only_in_base, only_in_cand and
 /// gold_changed lists.
 PairedCases PairCases(const RunCases& base, const RunCases& cand,
-                      const std::vector<std::string>& names, DriftReport* report) {
+                      const std::vector<std::string>& names, bool allow_missing,
+                      DriftReport* report) {
   struct Pair {
     const std::string* id;
     uint32_t base, cand;
@@ -528,6 +531,7 @@ PairedCases PairCases(const RunCases& base, const RunCases& cand,
     auto it = cand.row_of.find(id);
     if (it == cand.row_of.end()) {
       report->only_in_base.push_back(id);
+      if (!allow_missing) pairs.push_back({&id, row, kMissingRow});
     } else if (cand.GoldHash(it->second) != base.GoldHash(row)) {
       report->gold_changed.push_back(id);
     } else {
@@ -546,6 +550,7 @@ PairedCases PairCases(const RunCases& base, const RunCases& cand,
   const size_t metrics = names.size();
   paired.base_values.resize(pairs.size() * metrics);
   paired.cand_values.resize(pairs.size() * metrics);
+  report->missing_counted = !allow_missing && !report->only_in_base.empty();
   report->paired.reserve(pairs.size());
   for (size_t i = 0; i < pairs.size(); ++i) {
     report->paired.push_back(*pairs[i].id);
@@ -553,7 +558,11 @@ PairedCases PairCases(const RunCases& base, const RunCases& cand,
     paired.cand_row.push_back(pairs[i].cand);
     for (size_t m = 0; m < metrics; ++m) {
       paired.base_values[i * metrics + m] = base.Value(pairs[i].base, m);
-      paired.cand_values[i * metrics + m] = cand.Value(pairs[i].cand, m);
+      const double b = base.Value(pairs[i].base, m);
+      // A missing case scores 0 wherever the base defines the metric: an errored case's scores.
+      paired.cand_values[i * metrics + m] = pairs[i].cand == kMissingRow
+                                                ? (std::isnan(b) ? kNaN : 0.0)
+                                                : cand.Value(pairs[i].cand, m);
     }
   }
   return paired;
@@ -619,6 +628,7 @@ void RegisterLatency(const PairedCases& paired, const RunCases& base, const RunC
   std::vector<uint32_t> subset;
   std::vector<double> lb, lc;
   for (uint32_t i = 0; i < paired.size(); ++i) {
+    if (paired.cand_row[i] == kMissingRow) continue;
     const double b = base.Latency(paired.base_row[i]), c = cand.Latency(paired.cand_row[i]);
     if (!(std::isfinite(b) && b > 0 && std::isfinite(c) && c > 0)) continue;
     subset.push_back(i);
@@ -665,26 +675,80 @@ MetricDrift FinishMetric(const PendingMetric& p, const PairedCases& paired,
     d.p_value = metrics::WilcoxonSignedRankP(*differences);
   }
   d.p_holm = d.p_value;
-  d.verdict = DecideVerdict(d.delta, d.interval, options.min_effect);
+  d.needed_more = std::max<int64_t>(0, metrics::FewestPairsForSignificance(kDriftAlpha) - d.n);
+  d.verdict = d.needed_more > 0 ? Verdict::kTooFewCases
+                                : DecideVerdict(d.delta, d.interval, options.min_effect, d.p_value);
   d.gated = std::find(options.gate.begin(), options.gate.end(), d.metric) != options.gate.end();
   return d;
 }
 
+/// Holm over the gated run-level metrics that have enough cases, and every run-level verdict
+/// from its (adjusted) p; names the correction in the report.
+void JudgeGatedFamily(const DriftOptions& options, DriftReport* report) {
+  std::vector<MetricDrift*> family;
+  for (MetricDrift& d : report->metrics) {
+    if (d.gated && d.verdict != Verdict::kTooFewCases) family.push_back(&d);
+  }
+  std::vector<double> p;
+  for (const MetricDrift* d : family) p.push_back(d->p_value);
+  const std::vector<double> adjusted = metrics::HolmAdjust(p);
+  for (size_t k = 0; k < family.size(); ++k) {
+    family[k]->p_holm = adjusted[k];
+    report->family.push_back(family[k]->metric);
+  }
+  for (MetricDrift& d : report->metrics) {
+    if (d.verdict == Verdict::kTooFewCases) continue;
+    d.verdict = DecideVerdict(d.delta, d.interval, options.min_effect, d.p_holm);
+  }
+  std::string names;
+  for (const std::string& m : report->family) names += (names.empty() ? "" : ", ") + m;
+  if (family.size() > 1) {
+    report->correction = fmt::format("Holm over the {} gated metrics {} (family-wise alpha {})",
+                                     family.size(), names, kDriftAlpha);
+  } else if (family.size() == 1) {
+    report->correction = fmt::format(
+        "none needed: one gated metric with enough cases ({}), alpha {}", names, kDriftAlpha);
+  } else {
+    report->correction = "none: no gated metric has enough cases to be tested";
+  }
+}
+
+/// The metric's detectable drop (drift.h): at the level Holm's first step leaves a gated metric
+/// (alpha over the family size), alpha for one outside the family.
+double DetectableDrop(const MetricDrift& d, const std::vector<double>& differences,
+                      const DriftReport& report) {
+  if (d.verdict == Verdict::kTooFewCases || d.n < 1) return kNaN;
+  const bool in_family =
+      std::find(report.family.begin(), report.family.end(), d.metric) != report.family.end();
+  const double level =
+      in_family ? kDriftAlpha / static_cast<double>(report.family.size()) : kDriftAlpha;
+  const double range = d.base_mean;  // every per-case metric lies in [0, 1]
+  if (d.mcnemar) {
+    const double discordant = static_cast<double>(d.lost + d.gained) / static_cast<double>(d.n);
+    return metrics::McNemarDetectableDrop(d.n, discordant, level, report.options.min_effect,
+                                          kDriftPower, range);
+  }
+  return metrics::ShiftDetectableDrop(differences, level, report.options.min_effect, kDriftPower,
+                                      range);
+}
+
 /// Holm over the tags, metric by metric; a tag's verdict must survive the adjustment.
-void AdjustTags(const std::vector<std::string>& names, std::vector<TagDrift>* tags) {
+void AdjustTags(const std::vector<std::string>& names, double min_effect,
+                std::vector<TagDrift>* tags) {
   for (const std::string& metric : names) {
-    std::vector<MetricDrift*> family;
+    std::vector<MetricDrift*> family;  // tags with enough cases to be tested at all
     for (TagDrift& t : *tags) {
       for (MetricDrift& d : t.metrics) {
-        if (d.metric == metric) family.push_back(&d);
+        if (d.metric == metric && d.verdict != Verdict::kTooFewCases) family.push_back(&d);
       }
     }
     std::vector<double> p;
     for (const MetricDrift* d : family) p.push_back(d->p_value);
     const std::vector<double> adjusted = metrics::HolmAdjust(p);
     for (size_t k = 0; k < family.size(); ++k) {
-      family[k]->p_holm = adjusted[k];
-      if (!(adjusted[k] <= kDriftAlpha)) family[k]->verdict = Verdict::kSteady;
+      MetricDrift& d = *family[k];
+      d.p_holm = adjusted[k];
+      d.verdict = DecideVerdict(d.delta, d.interval, min_effect, d.p_holm);
     }
   }
 }
@@ -693,7 +757,9 @@ void AdjustTags(const std::vector<std::string>& names, std::vector<TagDrift>* ta
 void ListChangedCases(const PairedCases& paired, const RunCases& base, const RunCases& cand,
                       const std::vector<std::string>& gate, DriftReport* report) {
   for (size_t i = 0; i < paired.size(); ++i) {
-    const bool was = base.Passed(paired.base_row[i]), is = cand.Passed(paired.cand_row[i]);
+    const bool missing = paired.cand_row[i] == kMissingRow;
+    const bool was = base.Passed(paired.base_row[i]);
+    const bool is = !missing && cand.Passed(paired.cand_row[i]);
     if (was == is) continue;
     CaseChange change;
     change.id = report->paired[i];
@@ -701,7 +767,9 @@ void ListChangedCases(const PairedCases& paired, const RunCases& base, const Run
       const double b = paired.Base(i, m), c = paired.Cand(i, m);
       if (!std::isnan(b) && !std::isnan(c)) change.deltas[paired.names[m]] = c - b;
     }
+    if (missing) change.cand_error = "missing from the candidate run (counted as lost)";
     for (int run = 0; run < 2; ++run) {
+      if (run == 1 && missing) continue;
       const CaseRecord* first =
           run == 0 ? base.first[paired.base_row[i]] : cand.first[paired.cand_row[i]];
       if (first == nullptr) continue;
@@ -753,7 +821,10 @@ DriftGate DecideGate(const DriftReport& report, const LoadedRun& cand) {
       states.push_back(metric + " not measured");
       continue;
     }
-    states.push_back(metric + " " + VerdictName(m->verdict));
+    states.push_back(metric + " " + VerdictName(m->verdict) +
+                     (m->verdict == Verdict::kTooFewCases
+                          ? fmt::format(" ({} paired, {} more needed)", m->n, m->needed_more)
+                          : ""));
     if (m->verdict == Verdict::kRegressed) gate.regressed.push_back(metric);
   }
   const nlohmann::json& thresholds = ObjectAt(cand.record, "thresholds");
@@ -774,10 +845,15 @@ DriftGate DecideGate(const DriftReport& report, const LoadedRun& cand) {
     const MetricDrift& m = *report.Find(gate.regressed.front());
     std::string names;
     for (const std::string& r : gate.regressed) names += (names.empty() ? "" : ", ") + r;
-    parts.push_back(fmt::format(
-        "{} regressed ({} {:.4f} -> {:.4f}, delta {:+.4f}, 95% [{:+.4f}, "
-        "{:+.4f}])",
-        names, m.metric, m.base_mean, m.cand_mean, m.delta, m.interval.low, m.interval.high));
+    parts.push_back(
+        fmt::format("{} regressed ({} {:.4f} -> {:.4f}, delta {:+.4f}, 95% [{:+.4f}, "
+                    "{:+.4f}], p {:.3g}{})",
+                    names, m.metric, m.base_mean, m.cand_mean, m.delta, m.interval.low,
+                    m.interval.high, m.p_holm, report.family.size() > 1 ? " Holm-adjusted" : ""));
+    if (report.missing_counted) {
+      parts.back() += fmt::format("; {} case(s) missing from the candidate counted as lost",
+                                  report.only_in_base.size());
+    }
   }
   if (!gate.broken_floors.empty()) {
     // "candidate floor broken: ...", "candidate 2 floors and 1 ceiling broken: ..."
@@ -812,12 +888,16 @@ const char* VerdictName(Verdict verdict) {
       return "regressed";
     case Verdict::kImproved:
       return "improved";
+    case Verdict::kTooFewCases:
+      return "too few cases";
     default:
       return "steady";
   }
 }
 
-Verdict DecideVerdict(double delta, const metrics::Interval& interval, double min_effect) {
+Verdict DecideVerdict(double delta, const metrics::Interval& interval, double min_effect, double p,
+                      double alpha) {
+  if (!(p <= alpha)) return Verdict::kSteady;
   if (interval.high < 0 && delta <= -min_effect) return Verdict::kRegressed;
   if (interval.low > 0 && delta >= min_effect) return Verdict::kImproved;
   return Verdict::kSteady;
@@ -894,7 +974,8 @@ bool ComputeDrift(const LoadedRun& base, const LoadedRun& cand, const DriftOptio
   for (size_t m = 0; m < names.size(); ++m) index[names[m]] = m;
   const RunCases base_cases = SummarizeCases(base, index);
   const RunCases cand_cases = SummarizeCases(cand, index);
-  const PairedCases paired = PairCases(base_cases, cand_cases, names, report);
+  const PairedCases paired =
+      PairCases(base_cases, cand_cases, names, options.allow_missing, report);
   const std::vector<bool> binary = BinaryMetrics(paired);
 
   // Scopes: the whole run, then each tag (from the gold, which is equal in both runs).
@@ -918,18 +999,15 @@ bool ComputeDrift(const LoadedRun& base, const LoadedRun& cand, const DriftOptio
   report->latency_p95.interval = bootstrap.LatencyInterval(1);
 
   std::vector<double> differences;
+  std::vector<std::vector<double>> run_differences;
   for (const PendingMetric& p : run_level) {
-    MetricDrift d = FinishMetric(p, paired, binary, bootstrap, options, &differences);
-    // With no paired case changed there is no spread to estimate from: a continuous metric
-    // gets no figure (0 would claim any change is detectable); a 0/1 metric keeps McNemar's
-    // floor of six one-directional flips.
-    const bool unchanged =
-        std::all_of(differences.begin(), differences.end(), [](double x) { return x == 0; });
-    report->min_detectable_effect[d.metric] =
-        unchanged && !d.mcnemar
-            ? kNaN
-            : metrics::MinimumDetectableEffect(differences, d.mcnemar, kDriftAlpha, kDriftPower);
-    report->metrics.push_back(std::move(d));
+    report->metrics.push_back(FinishMetric(p, paired, binary, bootstrap, options, &differences));
+    run_differences.push_back(differences);
+  }
+  JudgeGatedFamily(options, report);
+  for (size_t k = 0; k < report->metrics.size(); ++k) {
+    const MetricDrift& d = report->metrics[k];
+    report->min_detectable_effect[d.metric] = DetectableDrop(d, run_differences[k], *report);
   }
   size_t t = 0;
   for (const auto& [tag, members] : tag_members) {
@@ -943,7 +1021,7 @@ bool ComputeDrift(const LoadedRun& base, const LoadedRun& cand, const DriftOptio
     report->tags.push_back(std::move(td));
     ++t;
   }
-  AdjustTags(names, &report->tags);
+  AdjustTags(names, options.min_effect, &report->tags);
   ListChangedCases(paired, base_cases, cand_cases, options.gate, report);
 
   std::set<std::string> unstable;

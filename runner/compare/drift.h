@@ -29,15 +29,33 @@
 ///   for latency over every paired case, exactly PairedBootstrapQuantileRatio. Sharing the draws
 ///   keeps the cost at n * B index draws for the whole report, whatever the number of metrics
 ///   and tags.
-/// - Verdict: regressed when the interval's upper end is below 0 and delta <= -min_effect;
-///   improved symmetrically; otherwise steady. A tag's verdict also needs its Holm-adjusted
-///   p-value (over the tags, per metric) at or below 0.05, so that with many tags noise in one of
-///   them is not called a change.
-/// - Minimum detectable effect: metrics::MinimumDetectableEffect over the run-level differences
-///   (normal approximation of a paired test at alpha 0.05, power 0.8, from the observed spread
-///   of the differences; 0/1 metrics floored at the six one-directional flips exact McNemar
-///   needs). A continuous metric on which no paired case changed has no spread to estimate from:
-///   NaN (null in JSON, "n/a" in tables).
+/// - Missing cases: a case in the base but not in the candidate is, unless
+///   DriftOptions::allow_missing, paired with a candidate that scored 0 on every metric the base
+///   defines there and failed (as an errored case scores): it counts as lost, and the report lists
+///   it in only_in_base with missing_counted set. With allow_missing it is left out as above.
+/// - Tests: a metric's p-value is exact McNemar (0/1) or Wilcoxon signed-rank (exact up to 50
+///   non-zero differences, ties and zeros included). A metric with fewer paired cases than
+///   metrics::FewestPairsForSignificance(alpha) (6 at 0.05) cannot reach p <= alpha whatever
+///   happened: its verdict is `too few cases`, needed_more says how many more it needs, and it
+///   takes no part in the family below.
+/// - Family correction: the gated run-level metrics that have enough cases form one family; their
+///   p-values are Holm-adjusted together (p_holm), so the gate's false-alarm rate over the whole
+///   family stays at or below alpha = 0.05. A metric that is not gated is judged on its own p.
+///   Per tag, each metric's p-values are Holm-adjusted over the tags that have it.
+/// - Verdict: regressed when all hold: the interval's upper end is below 0, delta <=
+///   -min_effect, and the (adjusted) p <= alpha; improved symmetrically; otherwise steady. For a
+///   0/1 metric the exact McNemar test decides (whenever it rejects, the percentile interval of
+///   the same discordant pairs lies on the same side of 0 in practice), so the verdict does not
+///   depend on --seed.
+/// - Detectable effect (min_detectable_effect, per metric with its own n): the smallest drop the
+///   gate as configured catches with power 0.8: the metric's test at the level Holm's first step
+///   leaves it (alpha / family size for a gated metric, alpha otherwise) together with
+///   min_effect. 0/1 metrics: exact binomial power, the observed flips kept as noise and the drop
+///   added as lost cases (metrics::McNemarDetectableDrop); continuous metrics: the normal
+///   approximation of a paired test from the spread of the differences
+///   (metrics::ShiftDetectableDrop). Capped at the base mean (the candidate cannot fall below 0):
+///   NaN ("n/a") when no drop within that range reaches the power, with too few cases, or, for a
+///   continuous metric on which no paired case changed, with no spread to estimate from.
 
 #include <cstdint>
 #include <map>
@@ -55,6 +73,7 @@ struct DriftOptions {
   double min_effect = 0.005;
   int resamples = 10000;
   uint64_t seed = 20261201;
+  bool allow_missing = false;  // --allow-missing: cases the candidate lacks are left out
 };
 
 /// The level, power and confidence every drift uses (SPEC §7: 95% intervals; the issue: alpha
@@ -63,11 +82,15 @@ inline constexpr double kDriftConfidence = 0.95;
 inline constexpr double kDriftAlpha = 0.05;
 inline constexpr double kDriftPower = 0.8;
 
-enum class Verdict { kSteady, kRegressed, kImproved };
-const char* VerdictName(Verdict verdict);  // "steady", "regressed", "improved"
+enum class Verdict { kSteady, kRegressed, kImproved, kTooFewCases };
+/// "steady", "regressed", "improved", "too few cases"
+const char* VerdictName(Verdict verdict);
 
-/// SPEC §7's verdict rule for one delta and its interval (NaN anywhere -> steady).
-Verdict DecideVerdict(double delta, const metrics::Interval& interval, double min_effect);
+/// The verdict rule for one delta, its interval and its p-value after the family correction:
+/// regressed when interval.high < 0, delta <= -min_effect and p <= alpha; improved
+/// symmetrically; steady otherwise (NaN anywhere -> steady).
+Verdict DecideVerdict(double delta, const metrics::Interval& interval, double min_effect, double p,
+                      double alpha = kDriftAlpha);
 
 struct MetricDrift {
   std::string metric;
@@ -80,7 +103,10 @@ struct MetricDrift {
   int64_t lost = 0;      // McNemar's discordant pairs: base 1, cand 0
   int64_t gained = 0;    // base 0, cand 1
   double p_value = 1;
-  double p_holm = 1;  // tags only: Holm-adjusted over the tags that have this metric
+  /// The p-value the verdict used: Holm-adjusted over the gated family (gated run-level
+  /// metrics) or over the tags that have this metric (tag rows); p_value otherwise.
+  double p_holm = 1;
+  int64_t needed_more = 0;  // more paired cases needed before a verdict is possible
   Verdict verdict = Verdict::kSteady;
   bool gated = false;
 };
@@ -140,6 +166,7 @@ struct DriftReport {
   bool pipeline_config_changed = false;
   std::vector<std::string> paired;  // by id
   std::vector<std::string> only_in_base;
+  bool missing_counted = false;  // only_in_base entered the statistics as lost (no --allow-missing)
   std::vector<std::string> only_in_cand;
   std::vector<std::string> gold_changed;
   std::vector<MetricDrift> metrics;  // in display order
@@ -147,7 +174,11 @@ struct DriftReport {
   int64_t latency_n = 0;             // paired cases with a latency in both runs
   LatencyDrift latency_p50;
   LatencyDrift latency_p95;
-  std::map<std::string, double> min_detectable_effect;  // +inf below 2 pairs; NaN see above
+  std::map<std::string, double> min_detectable_effect;  // NaN: n/a, see above
+  /// The family correction, one sentence for the reports, e.g. "Holm over the 3 gated metrics
+  /// correct, token_f1, citation_recall".
+  std::string correction;
+  std::vector<std::string> family;    // the gated metrics Holm adjusted together
   std::vector<CaseChange> lost;       // pass -> fail, largest drop of the gated metrics first
   std::vector<CaseChange> gained;     // fail -> pass, largest gain first
   std::vector<std::string> unstable;  // pass/fail differs between repeats, in either run

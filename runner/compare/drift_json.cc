@@ -21,6 +21,8 @@ nlohmann::json RunJson(const RunIdentity& run) {
 }
 
 nlohmann::json MetricJson(const MetricDrift& m, bool tag) {
+  // p_holm: the p-value the verdict used, adjusted over the gated family (run level) or over
+  // the tags; needed_more: with verdict "too few cases", how many more paired cases it needs.
   nlohmann::json out = {{"metric", m.metric},
                         {"base_mean", Number(m.base_mean)},
                         {"cand_mean", Number(m.cand_mean)},
@@ -32,7 +34,8 @@ nlohmann::json MetricJson(const MetricDrift& m, bool tag) {
                         {"n", m.n},
                         {"gated", m.gated}};
   if (m.mcnemar) out["discordant"] = {{"lost", m.lost}, {"gained", m.gained}};
-  if (tag) out["p_holm"] = Number(m.p_holm);
+  if (tag || m.gated) out["p_holm"] = Number(m.p_holm);
+  if (m.verdict == Verdict::kTooFewCases) out["needed_more"] = m.needed_more;
   return out;
 }
 
@@ -91,6 +94,7 @@ nlohmann::json DriftReportToJson(const DriftReport& r) {
         {"pipeline_config", r.pipeline_config_changed}}},
       {"paired_cases", r.paired},
       {"only_in_base", r.only_in_base},
+      {"missing_counted_as_lost", r.missing_counted},
       {"only_in_cand", r.only_in_cand},
       {"gold_changed", r.gold_changed},
       {"metrics", metrics},
@@ -109,6 +113,11 @@ nlohmann::json DriftReportToJson(const DriftReport& r) {
         {"regressed", r.gate.regressed},
         {"broken_floors", r.gate.broken_floors},
         {"exit_code", r.gate.exit_code},
+        {"correction",
+         {{"method", r.family.size() > 1 ? "holm" : "none"},
+          {"family", r.family},
+          {"alpha", kDriftAlpha},
+          {"text", r.correction}}},
         {"reason", r.gate.reason}}},
       {"settings",
        {{"min_effect", o.min_effect},
@@ -117,10 +126,14 @@ nlohmann::json DriftReportToJson(const DriftReport& r) {
         {"confidence", kDriftConfidence},
         {"alpha", kDriftAlpha},
         {"power", kDriftPower},
+        {"allow_missing", o.allow_missing},
         {"min_detectable_effect_method",
-         "(z(1-alpha/2) + z(power)) * sd(differences) / sqrt(n), normal approximation of a paired "
-         "test; 0/1 metrics at least 6/n, the fewest one-directional flips exact McNemar can "
-         "call significant at alpha 0.05"}}},
+         "the smallest drop the gate catches with the stated power, at the level Holm's first "
+         "step leaves the metric (alpha / gated family size) and with |delta| >= min_effect; 0/1 "
+         "metrics: exact binomial power of exact McNemar, the observed flips kept as noise and "
+         "the drop added as lost cases; others: (max(min_effect, z(1-level/2) se) + z(power) se), "
+         "se = sd(differences) / sqrt(n); null when it exceeds the base mean, with too few "
+         "cases, or with no spread"}}},
   };
 }
 

@@ -2,8 +2,10 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <cmath>
 
+#include "metrics/paired_tests.h"
 #include "metrics/utf8.h"
 #include "runner/base/terminal_palette.h"
 
@@ -58,8 +60,10 @@ std::string RunLine(const char* role, const RunIdentity& id) {
   return line + "\n";
 }
 
-std::string VerdictCell(Verdict v, const Palette& p) {
-  switch (v) {
+std::string VerdictCell(const MetricDrift& m, const Palette& p) {
+  switch (m.verdict) {
+    case Verdict::kTooFewCases:
+      return fmt::format("too few cases ({} more needed)", m.needed_more);
     case Verdict::kRegressed:
       return std::string(p.bad) + "REGRESSED" + p.reset;
     case Verdict::kImproved:
@@ -91,9 +95,16 @@ std::string FormatDriftTable(const DriftReport& r, bool colour, bool exit_line) 
                        r.cand_repeat);
   }
   out += "\n" + RunLine("base", r.base) + RunLine("cand", r.cand);
-  if (!r.only_in_base.empty() || !r.only_in_cand.empty() || !r.gold_changed.empty()) {
+  if (r.missing_counted) {
+    out += fmt::format(
+        "  {}missing from the candidate: {} case(s), counted as lost{} (--allow-missing leaves "
+        "them out)\n",
+        p.bad, r.only_in_base.size(), p.reset);
+  }
+  const size_t left_out_base = r.missing_counted ? 0 : r.only_in_base.size();
+  if (left_out_base > 0 || !r.only_in_cand.empty() || !r.gold_changed.empty()) {
     out += fmt::format("  left out: {} only in base, {} only in cand, {} with changed gold\n",
-                       r.only_in_base.size(), r.only_in_cand.size(), r.gold_changed.size());
+                       left_out_base, r.only_in_cand.size(), r.gold_changed.size());
   }
   std::string changed;
   if (r.suite_changed) changed += "suite, ";
@@ -104,19 +115,24 @@ std::string FormatDriftTable(const DriftReport& r, bool colour, bool exit_line) 
     out += "  changed between the runs: " + changed + "\n";
   }
 
-  out += fmt::format("\n  {}{:<22} {:>7} {:>7} {:>9}   {:<21} {:>8}   {}{}\n", p.dim, "metric",
-                     "base", "cand", "delta", "95% interval", "p", "verdict", p.reset);
+  out +=
+      fmt::format("\n  {}{:<22} {:>7} {:>7} {:>9}   {:<21} {:>8} {:>8}   {}{}\n", p.dim, "metric",
+                  "base", "cand", "delta", "95% interval", "p", "p(Holm)", "verdict", p.reset);
   for (const MetricDrift& m : r.metrics) {
     const std::string name = m.metric + (m.gated ? " *" : "");
-    out += fmt::format("  {:<22} {:>7} {:>7} {:>9}   {:<21} {:>8}   {}\n", Plain(name, 22),
-                       Num(m.base_mean, "{:.3f}"), Num(m.cand_mean, "{:.3f}"),
-                       Num(m.delta, "{:+.4f}"), IntervalText(m.interval, "{:+.4f}"),
-                       PValue(m.p_value), VerdictCell(m.verdict, p));
+    const bool in_family = std::find(r.family.begin(), r.family.end(), m.metric) != r.family.end();
+    out +=
+        fmt::format("  {:<22} {:>7} {:>7} {:>9}   {:<21} {:>8} {:>8}   {}\n", Plain(name, 22),
+                    Num(m.base_mean, "{:.3f}"), Num(m.cand_mean, "{:.3f}"), Num(m.delta, "{:+.4f}"),
+                    IntervalText(m.interval, "{:+.4f}"), PValue(m.p_value),
+                    in_family && r.family.size() > 1 ? PValue(m.p_holm) : "", VerdictCell(m, p));
   }
   out += fmt::format(
-      "  {}* gated. A verdict needs the interval to exclude 0 and |delta| >= {}; "
-      "p: exact McNemar (0/1 metrics) or Wilcoxon signed-rank{}\n",
-      p.dim, r.options.min_effect, p.reset);
+      "  {}* gated. A verdict needs the interval to exclude 0, |delta| >= {} and p <= {} "
+      "(exact McNemar for 0/1 metrics, Wilcoxon signed-rank otherwise); family correction: {}; "
+      "fewer than {} paired cases: too few cases{}\n",
+      p.dim, r.options.min_effect, kDriftAlpha, r.correction,
+      metrics::FewestPairsForSignificance(kDriftAlpha), p.reset);
 
   if (r.latency_p50.available) {
     out += fmt::format("\n  {:<22} p50 {} -> {} ms  x{} {}   p95 {} -> {} ms  x{} {}  (n {})\n",
@@ -131,22 +147,22 @@ std::string FormatDriftTable(const DriftReport& r, bool colour, bool exit_line) 
   for (const MetricDrift& m : r.metrics) {
     auto it = r.min_detectable_effect.find(m.metric);
     if (!m.gated || it == r.min_detectable_effect.end()) continue;
-    mde += fmt::format("{}{} {}", mde.empty() ? "" : ", ", m.metric, Num(it->second, "{:.4f}"));
+    mde += fmt::format("{}{} {} (n {})", mde.empty() ? "" : ", ", m.metric,
+                       Num(it->second, "{:.4f}"), m.n);
   }
   if (!mde.empty()) {
-    out += fmt::format("  smallest detectable change at {} pairs (alpha 0.05, power 0.8): {}\n",
-                       r.paired.size(), mde);
+    out += fmt::format("  smallest drop this gate catches with power {}: {}\n", kDriftPower, mde);
   }
 
   int tag_changes = 0;
   std::string tags;
   for (const TagDrift& t : r.tags) {
     for (const MetricDrift& m : t.metrics) {
-      if (m.verdict == Verdict::kSteady) continue;
+      if (m.verdict == Verdict::kSteady || m.verdict == Verdict::kTooFewCases) continue;
       if (++tag_changes > kShownTagRows) continue;
       tags += fmt::format("  tag {:<18} {:<18} {:>9} {:<21} p(Holm) {:<8} {}\n", Plain(t.tag, 18),
                           m.metric, Num(m.delta, "{:+.4f}"), IntervalText(m.interval, "{:+.4f}"),
-                          PValue(m.p_holm), VerdictCell(m.verdict, p));
+                          PValue(m.p_holm), VerdictCell(m, p));
     }
   }
   if (!r.tags.empty()) {

@@ -240,24 +240,30 @@ void AppendMasthead(std::string* out, const nlohmann::json& drift, const LoadedR
              std::to_string(cases.size()) + ": " + std::to_string(counts[0]) + " lost, " +
                  std::to_string(counts[1]) + " gained, " + std::to_string(counts[2]) +
                  " still failing, " + std::to_string(counts[3]) + " still passing");
+  const bool missing_counted = drift.value("missing_counted_as_lost", false);
+  if (missing_counted) {
+    AppendFact(out, "missing",
+               std::to_string(IdSet(drift, "only_in_base").size()) +
+                   " case(s) missing from the candidate, counted as lost");
+  }
   AppendFact(out, "left out",
-             std::to_string(IdSet(drift, "only_in_base").size()) + " only in base, " +
-                 std::to_string(IdSet(drift, "only_in_cand").size()) + " only in candidate, " +
-                 std::to_string(IdSet(drift, "gold_changed").size()) + " with changed gold");
+             std::to_string(missing_counted ? 0 : IdSet(drift, "only_in_base").size()) +
+                 " only in base, " + std::to_string(IdSet(drift, "only_in_cand").size()) +
+                 " only in candidate, " + std::to_string(IdSet(drift, "gold_changed").size()) +
+                 " with changed gold");
   AppendFact(out, "changed", ChangedWords(drift.value("changed", nlohmann::json())));
   const nlohmann::json mde = drift.value("min_detectable_effect", nlohmann::json());
   if (!mde.is_null()) {
     std::string words;
     if (mde.is_object()) {
       for (const auto& [metric, v] : mde.items()) {
-        if (v.is_null()) continue;  // too few pairs to say
-        words += (words.empty() ? "" : ", ") + metric + " " + Display(v);
+        words += (words.empty() ? "" : ", ") + metric + " " + (v.is_null() ? "n/a" : Display(v));
       }
     } else {
       words = Display(mde);
     }
     if (!words.empty()) {
-      AppendFact(out, "smallest detectable effect", words + " at this case count");
+      AppendFact(out, "smallest drop the gate catches (power 0.8)", words);
     }
   }
   out->append("</dl></div></header>");
@@ -330,6 +336,9 @@ void AppendMetricRows(std::string* out, const std::vector<nlohmann::json>& metri
     AppendHtmlAttribute(out, verdict);
     out->append("\">");
     AppendHtmlText(out, verdict);
+    if (JsonNumber(m, "needed_more")) {
+      AppendHtmlText(out, " (" + m["needed_more"].dump() + " more needed)");
+    }
     out->append("</span></td><td>");
     const bool is_gated = m.value("gated", false) || gated.count(metric) > 0;
     out->append(is_gated ? "gated" : "");
@@ -343,7 +352,13 @@ void AppendMetricTable(std::string* out, const nlohmann::json& drift) {
       "<section id=\"scores\"><h2>Metrics, candidate against base</h2><p class=\"note\">Delta is "
       "candidate minus base over the paired cases, with a 95% paired-bootstrap interval; the "
       "p-value comes from the test named (exact McNemar for 0/1 metrics, Wilcoxon signed-rank "
-      "for the others).</p>");
+      "for the others). A verdict needs the interval to exclude 0, |delta| to reach "
+      "min_effect and p &le; 0.05 after the family correction: ");
+  const nlohmann::json gate = drift.value("gate", nlohmann::json::object());
+  const nlohmann::json correction =
+      gate.is_object() && gate.contains("correction") ? gate["correction"] : nlohmann::json();
+  AppendHtmlText(out, JsonString(correction, "text"));
+  out->append(".</p>");
   if (!metrics.is_array() || metrics.empty()) {
     out->append("<p class=\"note\">No metric was compared.</p></section>");
     return;
@@ -418,7 +433,8 @@ void AppendTagTable(std::string* out, const nlohmann::json& drift) {
     for (const nlohmann::json& m : metrics) {
       all.push_back(m);
       flat.push_back({tag, m});
-      if (JsonString(m, "verdict") != "steady") moved.push_back({tag, m});
+      const std::string verdict = JsonString(m, "verdict");
+      if (verdict != "steady" && verdict != "too few cases") moved.push_back({tag, m});
     }
   }
   const double range = DeltaRange(all);

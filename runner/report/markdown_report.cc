@@ -240,10 +240,17 @@ std::string FormatDriftMarkdown(const DriftReport& r) {
     return s;
   };
   out += run_text("Base", r.base) + " → " + run_text("candidate", r.cand) + "  \n";
-  out += fmt::format(
-      "{} paired cases; {} only in base, {} only in candidate, {} with changed gold "
-      "(left out)\n",
-      r.paired.size(), r.only_in_base.size(), r.only_in_cand.size(), r.gold_changed.size());
+  if (r.missing_counted) {
+    out += fmt::format(
+        "{} paired cases, of which {} missing from the candidate and counted as lost; {} only in "
+        "candidate, {} with changed gold (left out)\n",
+        r.paired.size(), r.only_in_base.size(), r.only_in_cand.size(), r.gold_changed.size());
+  } else {
+    out += fmt::format(
+        "{} paired cases; {} only in base, {} only in candidate, {} with changed gold "
+        "(left out)\n",
+        r.paired.size(), r.only_in_base.size(), r.only_in_cand.size(), r.gold_changed.size());
+  }
   std::vector<std::string> changed;
   if (r.suite_changed) changed.push_back("suite");
   if (r.corpus_changed) changed.push_back("corpus");
@@ -258,12 +265,20 @@ std::string FormatDriftMarkdown(const DriftReport& r) {
       "\n| metric | base | cand | delta | 95% interval | p | verdict |\n"
       "|:--|--:|--:|--:|:--|--:|:--|\n";
   for (const MetricDrift& m : r.metrics) {
-    const std::string verdict = VerdictName(m.verdict);
+    std::string verdict = VerdictName(m.verdict);
+    if (m.verdict == Verdict::kTooFewCases) {
+      verdict += fmt::format(" ({} more needed)", m.needed_more);
+    }
     out += fmt::format("| {}{} | {} | {} | {} | {} | {} | {} |\n", Code(m.metric),
                        m.gated ? " (gated)" : "", Fixed(m.base_mean, 3), Fixed(m.cand_mean, 3),
-                       Signed(m.delta), IntervalText(m.interval, true), PValue(m.p_value),
-                       m.verdict == Verdict::kSteady ? verdict : "**" + verdict + "**");
+                       Signed(m.delta), IntervalText(m.interval, true), PValue(m.p_holm),
+                       m.verdict == Verdict::kRegressed || m.verdict == Verdict::kImproved
+                           ? "**" + verdict + "**"
+                           : verdict);
   }
+  out += fmt::format(
+      "\np: exact McNemar (0/1 metrics) or Wilcoxon signed-rank; family correction: {}.\n",
+      MarkdownText(r.correction, 300));
   if (r.latency_p50.available) {
     out += fmt::format("\nLatency (n {}): p50 ×{} {}, p95 ×{} {}\n", r.latency_n,
                        Fixed(r.latency_p50.ratio, 3), IntervalText(r.latency_p50.interval, false),
@@ -274,20 +289,21 @@ std::string FormatDriftMarkdown(const DriftReport& r) {
     if (!m.gated) continue;
     auto it = r.min_detectable_effect.find(m.metric);
     if (it == r.min_detectable_effect.end()) continue;
-    mde += fmt::format("{}{} {}", mde.empty() ? "" : ", ", Code(m.metric), Fixed(it->second, 4));
+    mde += fmt::format("{}{} {} (n {})", mde.empty() ? "" : ", ", Code(m.metric),
+                       std::isfinite(it->second) ? Fixed(it->second, 4) : std::string("n/a"), m.n);
   }
   if (!mde.empty()) {
     out += fmt::format(
-        "\nSmallest detectable change at {} pairs (alpha 0.05, power 0.8): {}; "
-        "verdicts also need |delta| ≥ {}.\n",
-        r.paired.size(), mde, r.options.min_effect);
+        "\nSmallest drop this gate catches with power 0.8: {}; verdicts also need |delta| ≥ "
+        "{}.\n",
+        mde, r.options.min_effect);
   }
 
   std::string tag_rows;
   int changed_tags = 0;
   for (const TagDrift& t : r.tags) {
     for (const MetricDrift& m : t.metrics) {
-      if (m.verdict == Verdict::kSteady) continue;
+      if (m.verdict == Verdict::kSteady || m.verdict == Verdict::kTooFewCases) continue;
       if (++changed_tags > 20) continue;
       tag_rows += fmt::format("| {} | {} | {} | {} | {} | {} |\n", Code(t.tag), Code(m.metric),
                               Signed(m.delta), IntervalText(m.interval, true), PValue(m.p_holm),

@@ -9,18 +9,26 @@ the runs' own files (run.json's per-case gold hashes and tags, cases.jsonl's sco
 and latencies), following the definitions in runner/compare/drift.h, with the reference libraries:
   - pairing by id and gold hash, per-case means over repeats, means and deltas: plain Python/numpy,
   - exact McNemar: statsmodels.stats.contingency_tables.mcnemar(exact=True),
-  - Wilcoxon signed-rank: scipy.stats.wilcoxon (with method="approx" where metrics/paired_tests.h
-    documents its one departure: tied |d|, no zeros, n <= 50; all-zero differences are p = 1,
-    where scipy raises),
-  - Holm: statsmodels.stats.multitest.multipletests(method="holm"), per metric over the tags,
+  - Wilcoxon signed-rank: scipy.stats.wilcoxon where its method is plumb's (no ties and no zeros
+    up to 50 differences, and everything above 50); with ties or zeros at up to 50 non-zero
+    differences the exact permutation distribution of the signed ranks, from
+    scipy.stats.permutation_test (every sign pattern up to 16, else the sign test
+    scipy.stats.binomtest when every |d| is tied, else 200,000 sampled patterns within Monte
+    Carlo error); all-zero differences are p = 1, where scipy raises,
+  - Holm: statsmodels.stats.multitest.multipletests(method="holm"), over the gated run-level
+    metrics with at least six paired cases, and per metric over the tags with at least six,
+  - verdicts: interval, min_effect and the (adjusted) p <= 0.05; "too few cases" below six,
   - bootstrap intervals: numpy over the SAME resamples (the generator transcription in
     statistics_reference.py, itself checked there against published vectors): per resample the
     count of each paired case, a statistic over a case subset = sum(count * d) / sum(count) over
     the subset, resamples without a case of the subset left out; latency = the type-7
     percentile (numpy method="linear") of the drawn cases' latencies, ratio cand / base,
-  - minimum detectable effect: (norm.ppf(0.975) + norm.ppf(0.8)) * sd(d, ddof=1) / sqrt(n),
-    0/1 metrics at least k/n with k the smallest all-one-direction table statsmodels' exact
-    McNemar calls significant, null for a continuous metric with no changed case.
+  - detectable effect at the level l = 0.05 / (gated family size) for a family member, 0.05
+    otherwise: 0/1 metrics by exact power (the discordant count's scipy.stats.binom weights times
+    the lost count's binomial upper tail beyond critical values found with
+    scipy.stats.binomtest), solved for power 0.8 with scipy.optimize.brentq; continuous ones
+    max(0.005, norm.ppf(1 - l/2) se) + norm.ppf(0.8) se; null with too few cases, no spread, or
+    beyond the base mean.
 Exits 1 and lists every disagreement.
 """
 
@@ -33,6 +41,7 @@ import tempfile
 import warnings
 
 import numpy as np
+import scipy.optimize
 import scipy.stats
 from statsmodels.stats.contingency_tables import mcnemar
 from statsmodels.stats.multitest import multipletests
@@ -91,15 +100,62 @@ def load_run(run_dir):
     return record, cases
 
 
+def rank_sum_positive(x, axis=-1):
+    x = np.asarray(x)
+    return np.sum(scipy.stats.rankdata(np.abs(x), axis=axis) * (x > 0), axis=axis)
+
+
 def wilcoxon_p(d):
+    """(p, tolerance): exact where scipy computes plumb's method, Monte Carlo error otherwise."""
     d = np.asarray(d, dtype=float)
     if len(d) == 0 or np.all(d == 0):
-        return 1.0
+        return 1.0, 0.0
     nonzero = d[d != 0]
     ties = len(np.unique(np.abs(nonzero))) < len(nonzero)
-    if len(d) <= 50 and len(nonzero) == len(d) and ties:
-        return scipy.stats.wilcoxon(d, method="approx").pvalue
-    return scipy.stats.wilcoxon(d).pvalue
+    if len(nonzero) > 50 or (len(nonzero) == len(d) and not ties):
+        return scipy.stats.wilcoxon(d).pvalue, 0.0
+    if len(np.unique(np.abs(nonzero))) == 1:  # one tie group: R+ counts the positive signs
+        return scipy.stats.binomtest(int(np.sum(nonzero > 0)), len(nonzero)).pvalue, 0.0
+    exact = len(nonzero) <= 16
+    result = scipy.stats.permutation_test((nonzero,), rank_sum_positive, vectorized=True,
+                                          permutation_type="samples",
+                                          n_resamples=np.inf if exact else 200000,
+                                          alternative="two-sided", random_state=1)
+    tolerance = 0.0 if exact else 10 * math.sqrt(max(result.pvalue, 1e-3) / 200000)
+    return result.pvalue, tolerance
+
+
+def mcnemar_drop(n, discordant_rate, level, min_effect, cap):
+    """The exact-power detectable drop of a 0/1 metric (runner/compare/drift.h)."""
+    noise = min(1.0, discordant_rate) / 2
+    cap = min(cap, 1 - 2 * noise)
+    if n < 1 or cap <= 0:
+        return None
+    margin = max(1, math.ceil(n * min_effect - 1e-9))
+    critical = np.full(n + 1, 10 ** 9)
+    for d in range(n + 1):
+        low, high = (d + margin + 1) // 2, d
+        if low > d or scipy.stats.binomtest(d, d).pvalue > level:
+            continue
+        while low < high:
+            mid = (low + high) // 2
+            if scipy.stats.binomtest(mid, d).pvalue <= level:
+                high = mid
+            else:
+                low = mid + 1
+        critical[d] = high
+    ds = np.arange(n + 1)
+    usable = critical <= ds
+
+    def power(drop):
+        q = min(1.0, 2 * noise + drop)
+        share = (noise + drop) / q
+        tails = scipy.stats.binom.sf(critical[usable] - 1, ds[usable], share)
+        return float(np.sum(scipy.stats.binom.pmf(ds[usable], n, q) * tails))
+
+    if power(cap) < 0.8:
+        return None
+    return scipy.optimize.brentq(lambda x: power(x) - 0.8, 1e-12, cap, xtol=1e-10)
 
 
 def percentiles(values):
@@ -142,21 +198,30 @@ def recompute(base_dir, cand_dir, resamples, seed, min_effect, gate):
         if is_binary:
             lost, gained = int(np.sum(d < 0)), int(np.sum(d > 0))
             out["p_value"] = mcnemar(np.array([[0, lost], [gained, 0]]), exact=True).pvalue
+            out["p_tolerance"] = 0.0
         else:
-            out["p_value"] = wilcoxon_p(d)
+            out["p_value"], out["p_tolerance"] = wilcoxon_p(d)
+        out["too_few"] = len(subset) < 6
         sub_counts = counts[:, subset]
         drawn = sub_counts.sum(axis=1)
         keep = drawn > 0
         means = (sub_counts[keep] @ d) / drawn[keep]
         out["interval"] = percentiles(means) if len(means) else (None, None)
-        low, high = out["interval"]
-        if high is not None and high < 0 and out["delta"] <= -min_effect:
-            out["verdict"] = "regressed"
-        elif low is not None and low > 0 and out["delta"] >= min_effect:
-            out["verdict"] = "improved"
-        else:
-            out["verdict"] = "steady"
+        out["p_holm"] = out["p_value"]
         return out
+
+    def judge(s):
+        low, high = s["interval"]
+        if s["too_few"]:
+            s["verdict"] = "too few cases"
+        elif not s["p_holm"] <= 0.05:
+            s["verdict"] = "steady"
+        elif high is not None and high < 0 and s["delta"] <= -min_effect:
+            s["verdict"] = "regressed"
+        elif low is not None and low > 0 and s["delta"] >= min_effect:
+            s["verdict"] = "improved"
+        else:
+            s["verdict"] = "steady"
 
     everyone = list(range(n))
     run_level = {m: s for m in metrics if (s := stat(m, everyone)) is not None}
@@ -166,26 +231,40 @@ def recompute(base_dir, cand_dir, resamples, seed, min_effect, gate):
         members = [k for k in everyone if t in base[paired[k]]["tags"]]
         tag_level[t] = {m: s for m in metrics if (s := stat(m, members)) is not None}
     for m in metrics:
-        family = [t for t in tags if m in tag_level[t]]
-        if not family:
-            continue
-        adjusted = multipletests([tag_level[t][m]["p_value"] for t in family], method="holm")[1]
-        for t, p in zip(family, adjusted):
-            tag_level[t][m]["p_holm"] = p
-            if not p <= 0.05:
-                tag_level[t][m]["verdict"] = "steady"
+        family = [t for t in tags if m in tag_level[t] and not tag_level[t][m]["too_few"]]
+        if family:
+            adjusted = multipletests([tag_level[t][m]["p_value"] for t in family],
+                                     method="holm")[1]
+            for t, p in zip(family, adjusted):
+                tag_level[t][m]["p_holm"] = p
+        for t in tags:
+            if m in tag_level[t]:
+                judge(tag_level[t][m])
+    gated_family = [m for m in gate if m in run_level and not run_level[m]["too_few"]]
+    if gated_family:
+        adjusted = multipletests([run_level[m]["p_value"] for m in gated_family],
+                                 method="holm")[1]
+        for m, p in zip(gated_family, adjusted):
+            run_level[m]["p_holm"] = p
+    for s in run_level.values():
+        judge(s)
 
-    z = scipy.stats.norm.ppf(0.975) + scipy.stats.norm.ppf(0.8)
-    k_floor = next(k for k in range(1, 64)
-                   if mcnemar(np.array([[0, 0], [k, 0]]), exact=True).pvalue <= 0.05)
     mde = {}
     for m, s in run_level.items():
         d = s["d"]
-        if s["test"] == "wilcoxon" and np.all(d == 0):
+        level = 0.05 / len(gated_family) if m in gated_family else 0.05
+        if s["too_few"]:
             mde[m] = None
-            continue
-        value = z * d.std(ddof=1) / math.sqrt(len(d)) if len(d) >= 2 else math.inf
-        mde[m] = max(value, k_floor / len(d)) if s["test"] == "mcnemar" else value
+        elif s["test"] == "mcnemar":
+            mde[m] = mcnemar_drop(len(d), float(np.sum(d != 0)) / len(d), level, min_effect,
+                                  s["base_mean"])
+        elif np.all(d == d[0]):
+            mde[m] = None
+        else:
+            se = d.std(ddof=1) / math.sqrt(len(d))
+            value = max(min_effect, scipy.stats.norm.ppf(1 - level / 2) * se) \
+                + scipy.stats.norm.ppf(0.8) * se
+            mde[m] = value if value <= s["base_mean"] else None
 
     latency_subset = [k for k in everyone
                       if base[paired[k]]["latency"] and cand[paired[k]]["latency"]
@@ -239,19 +318,23 @@ def compare(label, report, want):
             close(f"{name} cand_mean", row["cand_mean"], s["cand_mean"])
             close(f"{name} delta", row["delta"], s["delta"])
             close(f"{name} p_value", row["p_value"], s["p_value"],
-                  rel=1e-12 if s["test"] == "mcnemar" else 1e-9, abs_tol=1e-300)
+                  rel=1e-12 if s["test"] == "mcnemar" else 1e-9,
+                  abs_tol=max(1e-300, s["p_tolerance"]))
             close(f"{name} interval low", row["interval"][0], s["interval"][0])
             close(f"{name} interval high", row["interval"][1], s["interval"][1])
             equal(f"{name} verdict", row["verdict"], s["verdict"])
-            if "p_holm" in s:
-                close(f"{name} p_holm", row["p_holm"], s["p_holm"], rel=1e-9, abs_tol=1e-300)
+            if "p_holm" in row:
+                close(f"{name} p_holm", row["p_holm"], s["p_holm"], rel=1e-9,
+                      abs_tol=max(1e-300, 10 * s["p_tolerance"]))
 
     metric_rows(report["metrics"], want["run"], "run")
     equal(f"{label} tags", [t["tag"] for t in report["tags"]], sorted(want["tags"]))
     for t in report["tags"]:
         metric_rows(t["metrics"], want["tags"].get(t["tag"], {}), f"tag {t['tag']}")
     for metric, value in want["mde"].items():
-        close(f"{label} mde {metric}", report["min_detectable_effect"].get(metric), value)
+        # The exact-power drop is found by bisection to 1e-6.
+        close(f"{label} mde {metric}", report["min_detectable_effect"].get(metric), value,
+              rel=1e-9, abs_tol=2e-6)
     for p, expected in want["latency"].items():
         got = report["latency"][p]
         for key in ("base", "cand", "ratio"):

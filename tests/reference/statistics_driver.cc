@@ -21,7 +21,10 @@
 //   holm N P...                              -> adjusted p-values
 //   delta RESAMPLES SEED CONFIDENCE N BASE... CAND...       -> delta low high
 //   ratio P RESAMPLES SEED CONFIDENCE N BASE... CAND...     -> ratio low high
-//   mde BINARY ALPHA POWER N D...            -> minimum detectable effect
+//   shiftdrop LEVEL MIN_EFFECT POWER MAX N D... -> ShiftDetectableDrop
+//   mcnemarpower N LOST GAINED LEVEL MIN_EFFECT  -> McNemarPower
+//   mcnemardrop N DISCORDANT LEVEL MIN_EFFECT POWER MAX -> McNemarDetectableDrop
+//   binomtail K N P                          -> BinomialProbability(K; N, P) BinomialUpperTail
 #include <algorithm>
 #include <cinttypes>
 #include <cstdio>
@@ -31,6 +34,7 @@
 #include <string>
 #include <vector>
 
+#include "metrics/binomial_distribution.h"
 #include "metrics/binomial_sampler.h"
 #include "metrics/detectable_effect.h"
 #include "metrics/grouped_bootstrap.h"
@@ -174,12 +178,27 @@ bool Run(const std::string& line) {
           PairedBootstrapQuantileRatio(base, cand, p, resamples, seed, confidence);
       Print({r.ratio, r.interval.low, r.interval.high});
     }
-  } else if (command == "mde") {
-    int binary = 0;
-    in >> binary;
-    const double alpha = ReadDouble(in);
-    const double power = ReadDouble(in);
-    Print({MinimumDetectableEffect(ReadValues(in), binary != 0, alpha, power)});
+  } else if (command == "shiftdrop") {
+    const double level = ReadDouble(in), min_effect = ReadDouble(in), power = ReadDouble(in);
+    const double max_drop = ReadDouble(in);
+    Print({ShiftDetectableDrop(ReadValues(in), level, min_effect, power, max_drop)});
+  } else if (command == "mcnemarpower") {
+    int64_t n = 0;
+    in >> n;
+    const double lost = ReadDouble(in), gained = ReadDouble(in), level = ReadDouble(in);
+    const double min_effect = ReadDouble(in);
+    Print({McNemarPower(n, lost, gained, level, min_effect)});
+  } else if (command == "mcnemardrop") {
+    int64_t n = 0;
+    in >> n;
+    const double discordant = ReadDouble(in), level = ReadDouble(in);
+    const double min_effect = ReadDouble(in), power = ReadDouble(in), max_drop = ReadDouble(in);
+    Print({McNemarDetectableDrop(n, discordant, level, min_effect, power, max_drop)});
+  } else if (command == "binomtail") {
+    int64_t k = 0, n = 0;
+    in >> k >> n;
+    const double p = ReadDouble(in);
+    Print({BinomialProbability(k, n, p), BinomialUpperTail(k, n, p)});
   } else {
     std::fprintf(stderr, "statistics_driver: unknown command '%s'\n", command.c_str());
     return false;

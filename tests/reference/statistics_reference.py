@@ -19,9 +19,16 @@ written to its stdin; this script recomputes every value with a reference librar
     must fit scipy.stats.binom.pmf (chi-square); and at large B its intervals must agree with
     numpy's own index bootstrap within Monte Carlo error,
   - McNemar with statsmodels.stats.contingency_tables.mcnemar(exact=True),
-  - Wilcoxon with scipy.stats.wilcoxon (defaults of the installed scipy, 1.10.1 on Debian 12),
+  - Wilcoxon with scipy.stats.wilcoxon (defaults of the installed scipy, 1.10.1 on Debian 12)
+    where its method is plumb's (exact without ties and zeros up to 50 differences, the normal
+    approximation above), and with scipy.stats.permutation_test over the sign patterns (every one
+    enumerated up to 16 differences, 400,000 random ones beyond) where ties or zeros make scipy's
+    default depart from the exact permutation distribution plumb computes,
   - Holm with statsmodels.stats.multitest.multipletests(method="holm"),
-  - the minimum detectable effect with scipy's normal quantiles and statsmodels' NormalIndPower.
+  - binomial probabilities and upper tails with scipy.stats.binom.pmf / .sf,
+  - the exact McNemar power and detectable drop with scipy.stats.binom and critical values found
+    with statsmodels' exact McNemar (and the drop solved with scipy.optimize.brentq),
+  - the continuous detectable drop with scipy's normal quantiles and statsmodels' NormalIndPower.
 Exits 1 and lists every disagreement if any value is off.
 """
 
@@ -33,6 +40,7 @@ from decimal import Decimal, localcontext
 
 import numpy as np
 import scipy
+import scipy.optimize
 import scipy.special
 import scipy.stats
 import statsmodels
@@ -629,22 +637,51 @@ def main():
     wilcoxon_cases.append(("exact all positive n10", list(np.arange(1, 11) * 0.1), {}))
     for n in [51, 80, 200, 200, 500]:  # normal approximation by size
         wilcoxon_cases.append((f"approx n{n}", list(rng.normal(0.1, 1, n)), {}))
-    for n in [10, 30, 200]:  # zeros and ties (a token-F1-like difference)
+    for n in [200]:  # zeros and ties beyond the exact range (a token-F1-like difference)
         d = list(np.round(rng.normal(0, 0.3, n) * 4) / 4)
         wilcoxon_cases.append((f"zeros+ties n{n}", d, {}))
-    wilcoxon_cases.append(("one zero n12", [0.0] + list(rng.normal(0, 1, 11)), {}))
+    # 51 tied differences: beyond the exact range, scipy's default is the normal approximation.
+    wilcoxon_cases.append(("ties n51", list(rng.choice([-1.0, 0.5, 1.0], 51)), {}))
     wilcoxon_cases.append(("0/1 flips n200", list(rng.choice([-1.0, 0.0, 0.0, 1.0, 1.0], 200)), {}))
-    # Ties without zeros, n <= 50: plumb deliberately takes the normal approximation here, where
-    # scipy 1.10.1's default reads the no-ties exact table at a truncated rank sum (see
-    # metrics/paired_tests.h), so the reference is method="approx".
-    for n in [8, 25, 50]:
-        d = list(rng.choice([-2.0, -1.0, 0.5, 1.0, 1.5], n))
-        wilcoxon_cases.append((f"ties, no zeros n{n}", d, {"method": "approx"}))
     for name, d, options in wilcoxon_cases:
         want = scipy.stats.wilcoxon(d, **options).pvalue
         expect(f"wilcoxon {values_text(d)}", f"Wilcoxon {name}", [want], rel=1e-9)
     expect("wilcoxon 4 0 0 0 0", "Wilcoxon all zero", [1.0], rel=0)
     expect("wilcoxon 0", "Wilcoxon empty", [1.0], rel=0)
+
+    # Ties and zeros at n <= 50 (non-zero) differences: the exact permutation distribution of the
+    # signed ranks, against scipy.stats.permutation_test flipping the signs of the non-zero
+    # differences (zeros dropped first, as zero_method="wilcox" does).
+    def rank_sum_positive(x, axis=-1):
+        x = np.asarray(x)
+        ranks = scipy.stats.rankdata(np.abs(x), axis=axis)
+        return np.sum(ranks * (x > 0), axis=axis)
+
+    permutation_cases = [("identical x2", [-0.5] * 2), ("identical x5", [-0.5] * 5),
+                         ("identical x6 and zeros", [0.0] * 30 + [-0.5] * 6),
+                         ("hand ties", [1.0, 1.0, -2.0, 2.0, 3.0, 0.0]),
+                         ("one zero n12", [0.0] + list(rng.normal(0, 1, 11)))]
+    for n in [8, 14]:
+        permutation_cases.append((f"ties, no zeros n{n}", list(rng.choice([-2.0, -1.0, 0.5, 1.0, 1.5], n))))
+        permutation_cases.append((f"zeros+ties n{n}", list(np.round(rng.normal(0, 0.3, n) * 4) / 4)))
+    for name, d in permutation_cases:
+        nonzero = np.array([x for x in d if x != 0])
+        result = scipy.stats.permutation_test((nonzero,), rank_sum_positive, vectorized=True,
+                                              permutation_type="samples", n_resamples=np.inf,
+                                              alternative="two-sided")
+        expect(f"wilcoxon {values_text(d)}", f"Wilcoxon exact, {name}", [result.pvalue], rel=1e-12)
+    # Beyond 16 non-zero differences the sign patterns are sampled: within 5 Monte Carlo
+    # standard errors of 400,000 random patterns.
+    for n in [25, 50]:
+        for name, d in [(f"ties, no zeros n{n}", list(rng.choice([-2.0, -1.0, 0.5, 1.0, 1.5], n))),
+                        (f"zeros+ties n{n + 10}", [0.0] * 10 + list(rng.choice([-0.75, -0.25, 0.25, 0.5], n)))]:
+            nonzero = np.array([x for x in d if x != 0])
+            result = scipy.stats.permutation_test((nonzero,), rank_sum_positive, vectorized=True,
+                                                  permutation_type="samples", n_resamples=400000,
+                                                  alternative="two-sided", random_state=n)
+            mc_error = 5 * math.sqrt(max(result.pvalue * (1 - result.pvalue), 1e-4) / 400000) * 2
+            expect(f"wilcoxon {values_text(d)}", f"Wilcoxon exact vs sampled permutations, {name}",
+                   [result.pvalue], rel=0, abs_tol=mc_error)
 
     # Holm.
     holm_cases = [[0.01, 0.04, 0.03, 0.005], [0.5], [0.2, 0.2, 0.2], [1.0, 0.0, 0.5],
@@ -680,26 +717,65 @@ def main():
                + " ".join(fmt(v) for v in base) + " " + " ".join(fmt(v) for v in cand),
                f"ratio p{p} n{n} B{resamples}", [ratio, low, high], rel=1e-12)
 
-    # Minimum detectable effect: (z_{1-a/2} + z_power) * sd / sqrt(n), with statsmodels' one-sample
-    # normal power solved at one-sided alpha/2 as a second opinion; the 0/1 floor from the smallest
-    # all-one-direction table that statsmodels' exact McNemar calls significant.
-    for d, is_binary, alpha, power in [(list(rng.normal(0, 0.2, 60)), 0, 0.05, 0.8),
-                                       (list(rng.normal(0.1, 1, 500)), 0, 0.01, 0.9),
-                                       (list(rng.choice([-1.0, 0.0, 1.0], 300, p=[0.1, 0.8, 0.1])), 1, 0.05, 0.8),
-                                       ([0.0] * 40 + [1.0], 1, 0.05, 0.8)]:
+    # Binomial probabilities and upper tails.
+    for k, n, p in [(3, 10, 0.3), (0, 10, 0.3), (10, 10, 0.3), (700, 1000, 0.75), (40, 1000, 0.01),
+                    (5, 200000, 0.0001), (52000, 100000, 0.5), (9000, 100000, 0.1), (1, 5, 0.5)]:
+        expect(f"binomtail {k} {n} {fmt(p)}", f"binomial k{k} n{n} p{p}",
+               [scipy.stats.binom.pmf(k, n, p), scipy.stats.binom.sf(k - 1, n, p)], rel=1e-9,
+               abs_tol=1e-300)
+
+    # Exact McNemar power: the sum over the discordant count D of its binomial weight times the
+    # binomial upper tail of the lost count from the fewest lost cases that statsmodels' exact
+    # McNemar calls significant (and that reach min_effect).
+    def critical_lost(d, n, level, min_effect):
+        for lost in range(d + 1):
+            if 2 * lost - d >= max(1, math.ceil(n * min_effect - 1e-9)) and \
+                    mcnemar(np.array([[0, lost], [d - lost, 0]]), exact=True).pvalue <= level:
+                return lost
+        return d + 1
+
+    def mcnemar_power(n, lost_rate, gained_rate, level, min_effect, critical):
+        q = lost_rate + gained_rate
+        total = 0.0
+        for d in range(n + 1):
+            k = critical[d]
+            if k <= d:
+                total += scipy.stats.binom.pmf(d, n, q) * scipy.stats.binom.sf(k - 1, d, lost_rate / q)
+        return total
+
+    for n, level, min_effect, noise in [(30, 0.05, 0.005, 0.2), (100, 0.05 / 3, 0.005, 0.1),
+                                        (100, 0.05, 0.05, 0.0), (60, 0.025, 0.005, 0.5)]:
+        critical = [critical_lost(d, n, level, min_effect) for d in range(n + 1)]
+        for drop in [0.05, 0.15, 0.3]:
+            lost, gained = noise / 2 + drop, noise / 2
+            expect(f"mcnemarpower {n} {fmt(lost)} {fmt(gained)} {fmt(level)} {fmt(min_effect)}",
+                   f"McNemar power n{n} drop {drop} noise {noise}",
+                   [mcnemar_power(n, lost, gained, level, min_effect, critical)], rel=1e-9,
+                   abs_tol=1e-15)
+        want = scipy.optimize.brentq(
+            lambda x: mcnemar_power(n, noise / 2 + x, noise / 2, level, min_effect, critical) - 0.8,
+            1e-9, 1 - noise, xtol=1e-12)
+        expect(f"mcnemardrop {n} {fmt(noise)} {fmt(level)} {fmt(min_effect)} 0.8 1",
+               f"McNemar detectable drop n{n} noise {noise}", [want], rel=0, abs_tol=2e-6)
+
+    # Continuous detectable drop: max(min_effect, z_{1-l/2} se) + z_power se, with statsmodels'
+    # one-sample normal power solved at one-sided level/2 as a second opinion when min_effect is
+    # below the critical value.
+    for d, level, min_effect, power in [(list(rng.normal(0, 0.2, 60)), 0.05, 0.005, 0.8),
+                                        (list(rng.normal(0.1, 1, 500)), 0.01, 0.005, 0.9),
+                                        (list(rng.normal(0, 0.2, 400)), 0.05 / 3, 0.005, 0.8),
+                                        (list(rng.normal(0, 0.05, 900)), 0.05, 0.01, 0.8)]:
         a = np.array(d)
-        sd = a.std(ddof=1)
-        want = (scipy.stats.norm.ppf(1 - alpha / 2) + scipy.stats.norm.ppf(power)) * sd / math.sqrt(len(a))
-        solved = NormalIndPower().solve_power(nobs1=len(a), alpha=alpha / 2, power=power, ratio=0,
-                                              alternative="larger") * sd
-        if not math.isclose(want, solved, rel_tol=1e-5):  # the solver's own tolerance
-            failures.append(f"MDE formula {want!r} disagrees with NormalIndPower {solved!r}")
-        if is_binary:
-            k = next(k for k in range(1, 64)
-                     if mcnemar(np.array([[0, 0], [k, 0]]), exact=True).pvalue <= alpha)
-            want = max(want, k / len(a))
-        expect(f"mde {is_binary} {fmt(alpha)} {fmt(power)} {values_text(d)}",
-               f"MDE n{len(a)} binary={is_binary}", [want], rel=1e-12)
+        se = a.std(ddof=1) / math.sqrt(len(a))
+        critical = scipy.stats.norm.ppf(1 - level / 2) * se
+        want = max(min_effect, critical) + scipy.stats.norm.ppf(power) * se
+        if min_effect < critical:
+            solved = NormalIndPower().solve_power(nobs1=len(a), alpha=level / 2, power=power, ratio=0,
+                                                  alternative="larger") * a.std(ddof=1)
+            if not math.isclose(want, solved, rel_tol=1e-4):  # the solver's own tolerance
+                failures.append(f"drop formula {want!r} disagrees with NormalIndPower {solved!r}")
+        expect(f"shiftdrop {fmt(level)} {fmt(min_effect)} {fmt(power)} 1 {values_text(d)}",
+               f"shift drop n{len(a)} level {level}", [want], rel=1e-12)
 
     results = run_driver(driver, commands)
     for (name, want, rel, abs_tol), got in zip(expectations, results):
@@ -710,11 +786,11 @@ def main():
             check(f"{name} [{i}]", g, w, rel, abs_tol)
 
     # The scipy default this build departs from, shown rather than assumed: with ties and no zeros
-    # at n <= 50, scipy 1.10.1's auto method differs from its own normal approximation.
+    # at n <= 50, scipy 1.10.1's auto method reads the no-ties table at a truncated rank sum.
     d = [1.0, 1.0, -2.0, 3.0, 3.0, 3.0, 4.0, 5.0]
     print("note: ties without zeros, n=8: scipy default p", scipy.stats.wilcoxon(d).pvalue,
           "method='approx' p", scipy.stats.wilcoxon(d, method="approx").pvalue,
-          "(plumb follows the latter)")
+          "(plumb computes the exact permutation p, as scipy.stats.permutation_test does)")
 
     for failure in failures:
         print("FAIL", failure)

@@ -9,6 +9,7 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <nlohmann/json.hpp>
+#include <sstream>
 #include <string>
 #include <vector>
 
@@ -64,7 +65,10 @@ void CheckSteadyEverywhere(const nlohmann::json& d) {
     CHECK(m["interval"] == nlohmann::json::array({0.0, 0.0}));
   }
   for (const nlohmann::json& t : d["tags"]) {
-    for (const nlohmann::json& m : t["metrics"]) CHECK(m["verdict"] == "steady");
+    // A tag with fewer than six cases gets no verdict at all.
+    for (const nlohmann::json& m : t["metrics"]) {
+      CHECK((m["verdict"] == "steady" || m["verdict"] == "too few cases"));
+    }
   }
   CHECK(d["lost"].empty());
   CHECK(d["gained"].empty());
@@ -92,9 +96,13 @@ TEST_CASE("two runs of the same recorded predictions are steady everywhere") {
   CHECK(d["latency"]["p95"]["interval"] == nlohmann::json::array({1.0, 1.0}));
   // make_runs.py: 350 of 400 right.
   CHECK(MetricRow(d["metrics"], "correct")["base_mean"] == 0.875);
-  // No pair differs: a 0/1 metric keeps McNemar's floor of 6 flips (6/400), a continuous one
-  // has no spread to estimate a detectable effect from.
-  CHECK(d["min_detectable_effect"]["correct"] == 6.0 / 400);
+  // No pair differs. correct: the drop the gate catches with power 0.8 when cases are lost at
+  // that rate and none flip back, tested at 0.05 / 3 (the default family of three metrics): 7
+  // lost are the fewest with 2 / 2^7 <= 0.0167, so the power is P(Binomial(400, d) >= 7) and
+  // scipy.optimize.brentq on scipy.stats.binom.sf(6, 400, d) - 0.8 gives d = 0.02260120962072544.
+  // A continuous metric has no spread to estimate a detectable effect from.
+  CHECK(d["min_detectable_effect"]["correct"].get<double>() ==
+        Approx(0.02260120962072544).margin(2e-6));
   CHECK(d["min_detectable_effect"]["token_f1"].is_null());
 }
 
@@ -164,10 +172,12 @@ TEST_CASE("a candidate that breaks 20 of 400 cases regresses on correct") {
   // (up to rounding in the interpolation).
   CHECK(d["latency"]["p50"]["ratio"].get<double>() == Approx(1.25).epsilon(1e-14));
   CHECK(d["latency"]["p95"]["interval"][0].get<double>() == Approx(1.25).epsilon(1e-14));
-  // Detectable effect (runner/compare/drift.h): 2.801585 * sd / sqrt(n), the differences 20 times
-  // -1 and 380 times 0: mean -0.05, sd = sqrt((20 * 0.95^2 + 380 * 0.05^2) / 399) = sqrt(19 / 399).
+  // Detectable effect (runner/compare/drift.h): 20 of 400 discordant, so 0.025 flip each way as
+  // noise and the drop is added as lost cases; exact McNemar at 0.05 / 3 with min_effect 0.005.
+  // The exact power, summed with scipy.stats.binom and critical values from
+  // scipy.stats.binomtest, reaches 0.8 (scipy.optimize.brentq) at 0.052459746127840434.
   CHECK(d["min_detectable_effect"]["correct"].get<double>() ==
-        Approx(2.801585 * std::sqrt(19.0 / 399) / 20).epsilon(1e-6));
+        Approx(0.052459746127840434).margin(2e-6));
   CHECK(d["changed"]["pipeline_config"] == true);  // another predictions file
 }
 
@@ -208,6 +218,57 @@ TEST_CASE("a candidate that flips 2 of 400 cases is steady") {
     for (const nlohmann::json& m : d["metrics"]) CHECK(m["verdict"] == "steady");
     CHECK(d["lost"].size() == 2);
   }
+}
+
+TEST_CASE("a candidate that lacks the cases it would have lost fails unless --allow-missing") {
+  // The candidate is cand-broken20.jsonl scored on a copy of the suite without the twenty cases
+  // it breaks (sailing-002, 022, ..., 382): on the 380 it has, it equals the base.
+  const std::string dir = MakeTempDir();
+  const std::string base = Score(dir, "base", "base.jsonl");
+  auto keep = [](const std::string& line) {
+    const size_t at = line.find("\"sailing-");
+    if (at == std::string::npos) return true;
+    const int number = std::stoi(line.substr(at + 9, 3));
+    return number % 20 != 2;
+  };
+  for (const char* name : {"cases.jsonl", "cand-broken20.jsonl"}) {
+    std::istringstream in(ReadFile(kRuns + name));
+    std::string kept, line;
+    while (std::getline(in, line)) {
+      if (keep(line)) kept += line + "\n";
+    }
+    WriteFile(dir + "/" + name, kept);
+  }
+  std::istringstream suite(ReadFile(kRuns + "suite.yaml"));
+  std::string copy, line;
+  while (std::getline(suite, line)) {
+    if (line.rfind("corpus:", 0) == 0) line = "corpus: " + kRuns + "docs";
+    copy += line + "\n";
+  }
+  WriteFile(dir + "/suite.yaml", copy);
+  const Result scored = Plumb(
+      {"score", dir + "/suite.yaml", dir + "/cand-broken20.jsonl", "--out", dir + "/lacking"}, dir);
+  INFO(scored.err);
+  REQUIRE((scored.code == 0 || scored.code == 1));
+
+  int code = -1;
+  const nlohmann::json d = DriftJson(dir, base, dir + "/lacking", &code);
+  CHECK(code == 1);
+  CHECK(d["only_in_base"].size() == 20);
+  CHECK(d["missing_counted_as_lost"] == true);
+  const nlohmann::json& correct = MetricRow(d["metrics"], "correct");
+  CHECK(correct["discordant"] == nlohmann::json({{"lost", 20}, {"gained", 0}}));
+  CHECK(correct["verdict"] == "regressed");
+  CHECK(d["lost"].size() == 20);
+  const Result table = Plumb({"drift", base, dir + "/lacking"}, dir);
+  CHECK(table.out.find("missing from the candidate: 20 case(s), counted as lost") !=
+        std::string::npos);
+
+  const nlohmann::json allowed = DriftJson(dir, base, dir + "/lacking", &code, {"--allow-missing"});
+  CHECK(code == 0);
+  CHECK(allowed["missing_counted_as_lost"] == false);
+  CHECK(allowed["paired_cases"].size() == 380);
+  CheckSteadyEverywhere(allowed);
 }
 
 TEST_CASE("the candidate's floors still gate") {

@@ -12,6 +12,7 @@
 #include <string>
 #include <vector>
 
+#include "metrics/detectable_effect.h"
 #include "metrics/paired_bootstrap.h"
 
 using plumb::CaseRecord;
@@ -94,18 +95,22 @@ const plumb::MetricDrift& Metric(const DriftReport& r, const std::string& metric
 
 }  // namespace
 
-TEST_CASE("the verdict rule: the interval must exclude 0 and |delta| reach min_effect") {
+TEST_CASE("the verdict rule: interval, min_effect and the test must all agree") {
   using plumb::DecideVerdict;
-  // SPEC §7: regressed when the upper bound is below 0 and delta <= -min_effect.
-  CHECK(DecideVerdict(-0.05, {-0.0725, -0.03}, 0.005) == Verdict::kRegressed);
-  CHECK(DecideVerdict(0.05, {0.03, 0.0725}, 0.005) == Verdict::kImproved);
+  // Regressed when the upper bound is below 0, delta <= -min_effect and p <= 0.05.
+  CHECK(DecideVerdict(-0.05, {-0.0725, -0.03}, 0.005, 0.01) == Verdict::kRegressed);
+  CHECK(DecideVerdict(0.05, {0.03, 0.0725}, 0.005, 0.01) == Verdict::kImproved);
   // An upper bound of exactly 0 does not exclude 0.
-  CHECK(DecideVerdict(-0.005, {-0.0125, 0.0}, 0.005) == Verdict::kSteady);
+  CHECK(DecideVerdict(-0.005, {-0.0125, 0.0}, 0.005, 0.01) == Verdict::kSteady);
   // Significant but smaller than min_effect.
-  CHECK(DecideVerdict(-0.004, {-0.006, -0.002}, 0.005) == Verdict::kSteady);
-  // delta == -min_effect counts (<=).
-  CHECK(DecideVerdict(-2.0 / 400, {-0.01, -0.001}, 0.005) == Verdict::kRegressed);
-  CHECK(DecideVerdict(std::nan(""), {std::nan(""), std::nan("")}, 0.005) == Verdict::kSteady);
+  CHECK(DecideVerdict(-0.004, {-0.006, -0.002}, 0.005, 0.01) == Verdict::kSteady);
+  // delta == -min_effect counts (<=), and so does p == alpha.
+  CHECK(DecideVerdict(-2.0 / 400, {-0.01, -0.001}, 0.005, 0.05) == Verdict::kRegressed);
+  CHECK(DecideVerdict(std::nan(""), {std::nan(""), std::nan("")}, 0.005, 0.01) == Verdict::kSteady);
+  // The interval alone is not enough: a collapsed interval with p = 1 (issue 15) is steady.
+  CHECK(DecideVerdict(-1, {-1, -1}, 0.005, 1.0) == Verdict::kSteady);
+  CHECK(DecideVerdict(-0.04, {-0.07, -0.01}, 0.005, 0.0625) == Verdict::kSteady);
+  CHECK(DecideVerdict(-0.04, {-0.07, -0.01}, 0.005, std::nan("")) == Verdict::kSteady);
 }
 
 TEST_CASE("cases pair by id and gold hash, the rest are listed apart and left out") {
@@ -116,7 +121,10 @@ TEST_CASE("cases pair by id and gold hash, the rest are listed apart and left ou
                                   }()});
   const LoadedRun cand =
       MakeRun({Scored("b", 0, 0.25), Scored("c", 0, 0.5), Scored("d", 0, 0), Scored("e", 0, 0)});
-  const DriftReport r = Drift(base, cand);
+  DriftOptions options;
+  options.allow_missing = true;
+  const DriftReport r = Drift(base, cand, options);
+  CHECK_FALSE(r.missing_counted);
   CHECK(r.paired == std::vector<std::string>{"b", "c"});
   CHECK(r.only_in_base == std::vector<std::string>{"a"});
   CHECK(r.only_in_cand == std::vector<std::string>{"e"});
@@ -222,9 +230,10 @@ TEST_CASE("per-tag p-values are Holm-adjusted, and a tag verdict must survive th
   CHECK(tag_metric(0).verdict == Verdict::kRegressed);
   CHECK(tag_metric(1).p_value == 0.03125);
   CHECK(tag_metric(1).p_holm == 0.0625);
-  // Tag b's interval alone would call it regressed; Holm's 0.0625 > 0.05 keeps it steady.
-  CHECK(plumb::DecideVerdict(tag_metric(1).delta, tag_metric(1).interval, 0.005) ==
-        Verdict::kRegressed);
+  // Tag b's interval and raw p alone would call it regressed; Holm's 0.0625 > 0.05 keeps it
+  // steady.
+  CHECK(plumb::DecideVerdict(tag_metric(1).delta, tag_metric(1).interval, 0.005,
+                             tag_metric(1).p_value) == Verdict::kRegressed);
   CHECK(tag_metric(1).verdict == Verdict::kSteady);
   CHECK(tag_metric(2).p_holm == 1.0);
   CHECK(tag_metric(2).verdict == Verdict::kSteady);
@@ -313,7 +322,7 @@ TEST_CASE("the report says what changed between the runs and carries both runs' 
   CHECK_FALSE(r.pipeline_config_changed);
   CHECK(r.base.labels == std::map<std::string, std::string>{{"git", "abc123"}});
   CHECK(r.cand.labels.at("prompt") == "v2");
-  CHECK(Metric(r, "correct").verdict == Verdict::kSteady);
+  CHECK(Metric(r, "correct").verdict == Verdict::kTooFewCases);
 }
 
 TEST_CASE("metric ids are shown in one order everywhere") {
@@ -324,4 +333,218 @@ TEST_CASE("metric ids are shown in one order everywhere") {
   CHECK(plumb::IsKnownCaseMetric("recall@5"));
   CHECK_FALSE(plumb::IsKnownCaseMetric("recall@"));
   CHECK_FALSE(plumb::IsKnownCaseMetric("corect"));
+}
+
+namespace {
+
+/// n paired cases scored on correct and token_f1 alike (f1 = correct): `lost` pass -> fail,
+/// `gained` fail -> pass, the rest pass in both runs.
+std::pair<LoadedRun, LoadedRun> Flips(int n, int lost, int gained) {
+  std::vector<Item> b, c;
+  for (int i = 0; i < n; ++i) {
+    const std::string id = "case" + std::to_string(1000 + i);
+    const double was = i < lost ? 1 : (i < lost + gained ? 0 : 1);
+    const double is = i < lost ? 0 : 1;
+    b.push_back(Scored(id, was, was));
+    c.push_back(Scored(id, is, is));
+  }
+  return {MakeRun(b), MakeRun(c)};
+}
+
+}  // namespace
+
+// Each case below is a defect issue 15 lists: the gate of the time exited 1 on each.
+
+TEST_CASE("one case out of one flipped is too few cases, not a regression") {
+  const auto [base, cand] = Flips(1, 1, 0);
+  const DriftReport r = Drift(base, cand);
+  const plumb::MetricDrift& correct = Metric(r, "correct");
+  CHECK(correct.p_value == 1.0);  // min(1, 2 * P(X <= 0)), X ~ Binomial(1, 1/2)
+  CHECK(correct.verdict == Verdict::kTooFewCases);
+  CHECK(correct.needed_more == 5);  // 6 paired cases are the fewest that can give p <= 0.05
+  CHECK(r.gate.exit_code == 0);
+  CHECK(r.gate.reason.find("correct too few cases (1 paired, 5 more needed)") != std::string::npos);
+  CHECK(std::isnan(r.min_detectable_effect.at("correct")));
+}
+
+TEST_CASE("five of five lost is too few cases: exact McNemar cannot go below 0.0625") {
+  const auto [base, cand] = Flips(5, 5, 0);
+  const DriftReport r = Drift(base, cand);
+  CHECK(Metric(r, "correct").p_value == 0.0625);  // 2 / 2^5
+  CHECK(Metric(r, "correct").verdict == Verdict::kTooFewCases);
+  CHECK(Metric(r, "correct").needed_more == 1);
+  CHECK(r.gate.exit_code == 0);
+  // Six of six can: p = 2 / 2^6 = 0.03125, but the default gate is a family of three metrics of
+  // which two (correct, token_f1) are measured here: Holm gives 2 * 0.03125 = 0.0625 to the
+  // smaller, so gating correct alone is what calls it.
+  const auto [base6, cand6] = Flips(6, 6, 0);
+  CHECK(Drift(base6, cand6).gate.exit_code == 0);
+  DriftOptions alone;
+  alone.gate = {"correct"};
+  const DriftReport r6 = Drift(base6, cand6, alone);
+  CHECK(Metric(r6, "correct").verdict == Verdict::kRegressed);
+  CHECK(r6.gate.exit_code == 1);
+}
+
+TEST_CASE("4 lost and 0 gained of 100 is steady: p = 0.125") {
+  const auto [base, cand] = Flips(100, 4, 0);
+  const DriftReport r = Drift(base, cand);
+  CHECK(Metric(r, "correct").p_value == 0.125);   // 2 / 2^4
+  CHECK(Metric(r, "correct").interval.high < 0);  // the bootstrap alone excluded 0
+  CHECK(Metric(r, "correct").verdict == Verdict::kSteady);
+  CHECK(r.gate.exit_code == 0);
+}
+
+TEST_CASE("an A/A check of 55 cases with 4 one-way flips is steady") {
+  // The new user's report: 55 cases, 4 answered differently (all now wrong), exact McNemar
+  // p = 2 / 2^4 = 0.125; the percentile interval excluded 0 and the gate exited 1.
+  const auto [base, cand] = Flips(55, 4, 0);
+  const DriftReport r = Drift(base, cand);
+  CHECK(Metric(r, "correct").verdict == Verdict::kSteady);
+  CHECK(r.gate.exit_code == 0);
+}
+
+TEST_CASE("a metric defined on 3 of 500 cases, all 3 lost, cannot fail the gate") {
+  std::vector<Item> b, c;
+  for (int i = 0; i < 500; ++i) {
+    const std::string id = "case" + std::to_string(1000 + i);
+    b.push_back(Scored(id, 1, 1));
+    c.push_back(Scored(id, 1, 1));
+    if (i < 3) {
+      b.back().scores["citation_recall"] = 1;
+      c.back().scores["citation_recall"] = 0;
+    }
+  }
+  const DriftReport r = Drift(MakeRun(b), MakeRun(c));
+  const plumb::MetricDrift& recall = Metric(r, "citation_recall");
+  CHECK(recall.n == 3);
+  CHECK(recall.verdict == Verdict::kTooFewCases);
+  CHECK(recall.needed_more == 3);
+  CHECK(r.gate.exit_code == 0);
+  // The family is what can be tested: correct and token_f1.
+  CHECK(r.family == std::vector<std::string>{"correct", "token_f1"});
+  CHECK(r.correction.find("Holm over the 2 gated metrics correct, token_f1") == 0);
+}
+
+TEST_CASE("a 0/1 verdict near the cut does not depend on the seed") {
+  // 12 lost / 4 gained of 100: exact McNemar p = 2 * P(X <= 4), X ~ Binomial(16, 1/2)
+  // = 2 * 2517 / 65536 = 0.076812744140625: steady under every seed (it was REGRESSED under 13
+  // of 40). 13 lost / 1 gained: p = 2 * 15 / 16384 = 0.0018310546875: regressed under every seed.
+  for (uint64_t seed = 1; seed <= 40; ++seed) {
+    DriftOptions options;
+    options.seed = seed;
+    options.resamples = 2000;
+    options.gate = {"correct"};
+    const auto [base, cand] = Flips(100, 12, 4);
+    const DriftReport near = Drift(base, cand, options);
+    CHECK(Metric(near, "correct").p_value == 0.076812744140625);
+    CHECK(Metric(near, "correct").verdict == Verdict::kSteady);
+    const auto [base2, cand2] = Flips(100, 13, 1);
+    const DriftReport clear = Drift(base2, cand2, options);
+    CHECK(Metric(clear, "correct").p_value == 0.0018310546875);
+    CHECK(Metric(clear, "correct").verdict == Verdict::kRegressed);
+  }
+}
+
+TEST_CASE("the gated metrics form one Holm family") {
+  // correct: 7 lost of 200, p = 2 / 2^7 = 0.015625; token_f1 unchanged but for one case
+  // (p = 1), citation_recall unchanged (p = 1). Alone, correct regresses. In the default family
+  // of three, Holm multiplies the smallest p by 3: 0.046875 <= 0.05, still regressed; with 6 lost
+  // (p = 0.03125, Holm 0.09375) steady, where the old per-metric rule said REGRESSED.
+  for (int lost : {6, 7}) {
+    std::vector<Item> b, c;
+    for (int i = 0; i < 200; ++i) {
+      const std::string id = "case" + std::to_string(1000 + i);
+      Item x = Scored(id, 1, 0.5), y = Scored(id, i < lost ? 0 : 1, 0.5);
+      x.scores["citation_recall"] = y.scores["citation_recall"] = 1;
+      if (i == 100) y.scores["token_f1"] = 0.75;
+      b.push_back(x);
+      c.push_back(y);
+    }
+    const DriftReport r = Drift(MakeRun(b), MakeRun(c));
+    CHECK(r.family == std::vector<std::string>{"correct", "token_f1", "citation_recall"});
+    const plumb::MetricDrift& correct = Metric(r, "correct");
+    CHECK(correct.p_value == std::ldexp(1.0, 1 - lost));
+    CHECK(correct.p_holm == 3 * std::ldexp(1.0, 1 - lost));
+    CHECK(correct.verdict == (lost == 7 ? Verdict::kRegressed : Verdict::kSteady));
+    CHECK(r.gate.exit_code == (lost == 7 ? 1 : 0));
+    CHECK(r.correction ==
+          "Holm over the 3 gated metrics correct, token_f1, citation_recall (family-wise alpha "
+          "0.05)");
+    // pass_rate is not gated: judged on its own p (0.03125 or 0.015625), regressed both times.
+    CHECK(Metric(r, "pass_rate").p_holm == Metric(r, "pass_rate").p_value);
+    CHECK(Metric(r, "pass_rate").verdict == Verdict::kRegressed);
+  }
+}
+
+TEST_CASE("cases missing from the candidate count as lost unless allowed") {
+  // 200 cases; the candidate lacks the ten it would have lost, and matches the base elsewhere.
+  std::vector<Item> b, c;
+  for (int i = 0; i < 200; ++i) {
+    const std::string id = "case" + std::to_string(1000 + i);
+    b.push_back(Scored(id, 1, 1));
+    if (i >= 10) c.push_back(Scored(id, 1, 1));
+  }
+  const DriftReport r = Drift(MakeRun(b), MakeRun(c));
+  CHECK(r.missing_counted);
+  CHECK(r.only_in_base.size() == 10);
+  CHECK(r.paired.size() == 200);
+  const plumb::MetricDrift& correct = Metric(r, "correct");
+  CHECK(correct.lost == 10);
+  CHECK(correct.cand_mean == 0.95);
+  CHECK(correct.p_value == std::ldexp(1.0, -9));  // 2 / 2^10
+  CHECK(correct.verdict == Verdict::kRegressed);
+  CHECK(r.gate.exit_code == 1);
+  CHECK(r.gate.reason.find("10 case(s) missing from the candidate counted as lost") !=
+        std::string::npos);
+  REQUIRE(r.lost.size() == 10);
+  CHECK(r.lost[0].cand_error == "missing from the candidate run (counted as lost)");
+  CHECK(r.latency_n == 190);  // a missing case has no latency
+
+  DriftOptions allow;
+  allow.allow_missing = true;
+  const DriftReport allowed = Drift(MakeRun(b), MakeRun(c), allow);
+  CHECK_FALSE(allowed.missing_counted);
+  CHECK(allowed.paired.size() == 190);
+  CHECK(allowed.gate.exit_code == 0);
+  // Cases whose gold changed stay apart either way.
+  std::vector<Item> changed = c;
+  changed.push_back(Scored("case1000", 0, 0));
+  changed.back().gold_hash = "new gold";
+  const DriftReport gold = Drift(MakeRun(b), MakeRun(changed));
+  CHECK(gold.gold_changed == std::vector<std::string>{"case1000"});
+  CHECK(gold.only_in_base.size() == 9);
+}
+
+TEST_CASE("the detectable effect is per metric, with its own n, and n/a when it cannot be had") {
+  // correct on 400 cases with 20 flips each way; token_f1 moved by exactly -0.1 on every case
+  // (all differences equal: no spread; the old figure was 0.0000); citation_recall on 8 cases.
+  std::vector<Item> b, c;
+  for (int i = 0; i < 400; ++i) {
+    const std::string id = "case" + std::to_string(1000 + i);
+    const double was = i < 20 ? 1 : (i < 40 ? 0 : 1), is = i < 20 ? 0 : 1;
+    Item x = Scored(id, was, 0.8), y = Scored(id, is, 0.7);
+    if (i < 8) x.scores["citation_recall"] = y.scores["citation_recall"] = (i % 2 ? 0.5 : 1.0);
+    if (i == 0) y.scores["citation_recall"] = 0.25;
+    b.push_back(x);
+    c.push_back(y);
+  }
+  const DriftReport r = Drift(MakeRun(b), MakeRun(c));
+  CHECK(std::isnan(r.min_detectable_effect.at("token_f1")));
+  // correct: n 400, 40 of 400 discordant, tested at 0.05 / 3 (the family of three): the exact
+  // power at the printed drop is 0.8 (McNemarPower is checked against scipy and statsmodels in
+  // tests/reference/statistics_reference.py).
+  const double drop = r.min_detectable_effect.at("correct");
+  CHECK(drop > 0.02);
+  CHECK(drop < 0.1);
+  CHECK(plumb::metrics::McNemarPower(400, 0.05 + drop, 0.05, 0.05 / 3, 0.005) ==
+        Approx(0.8).margin(1e-4));
+  // citation_recall: its own n (8), one difference -0.75 and seven zeros: sd = 0.75 / sqrt(8),
+  // se = 0.75 / 8; at 0.05 / 3: (2.3939797998185104 + 0.8416212335729143) * 0.09375 = 0.30334.
+  CHECK(Metric(r, "citation_recall").n == 8);
+  CHECK(r.min_detectable_effect.at("citation_recall") ==
+        Approx((2.3939797998185104 + 0.8416212335729143) * 0.09375).epsilon(1e-9));
+  // Two cases: too few for any test, n/a rather than a figure above 1.
+  const auto [base2, cand2] = Flips(2, 1, 0);
+  CHECK(std::isnan(Drift(base2, cand2).min_detectable_effect.at("correct")));
 }
