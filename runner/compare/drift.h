@@ -50,9 +50,10 @@
 /// - Detectable effect (min_detectable_effect, per metric with its own n): the smallest drop the
 ///   gate as configured catches with power 0.8: the metric's test at the level Holm's first step
 ///   leaves it (alpha / family size for a gated metric, alpha otherwise) together with
-///   min_effect. 0/1 metrics: exact binomial power, the observed flips kept as noise and the drop
-///   added as lost cases (metrics::McNemarDetectableDrop); continuous metrics: the normal
-///   approximation of a paired test from the spread of the differences
+///   min_effect. 0/1 metrics: exact binomial power, the observed flips (D of n, taken as
+///   (D + 1/2) / n so that runs showing few flips by chance do not over-promise) kept as noise
+///   and the drop added as lost cases (metrics::McNemarDetectableDrop); continuous metrics: the
+///   normal approximation of a paired test from the spread of the differences
 ///   (metrics::ShiftDetectableDrop). Capped at the base mean (the candidate cannot fall below 0):
 ///   NaN ("n/a") when no drop within that range reaches the power, with too few cases, or, for a
 ///   continuous metric on which no paired case changed, with no spread to estimate from.

@@ -130,8 +130,9 @@ nlohmann::json DriftReportToJson(const DriftReport& r) {
         {"min_detectable_effect_method",
          "the smallest drop the gate catches with the stated power, at the level Holm's first "
          "step leaves the metric (alpha / gated family size) and with |delta| >= min_effect; 0/1 "
-         "metrics: exact binomial power of exact McNemar, the observed flips kept as noise and "
-         "the drop added as lost cases; others: (max(min_effect, z(1-level/2) se) + z(power) se), "
+         "metrics: exact binomial power of exact McNemar, the observed flips ((D + 1/2) / n) kept "
+         "as noise and the drop added as lost cases; others: (max(min_effect, z(1-level/2) se) + "
+         "z(power) se), "
          "se = sd(differences) / sqrt(n); null when it exceeds the base mean, with too few "
          "cases, or with no spread"}}},
   };

@@ -24,7 +24,7 @@ and latencies), following the definitions in runner/compare/drift.h, with the re
     the subset, resamples without a case of the subset left out; latency = the type-7
     percentile (numpy method="linear") of the drawn cases' latencies, ratio cand / base,
   - detectable effect at the level l = 0.05 / (gated family size) for a family member, 0.05
-    otherwise: 0/1 metrics by exact power (the discordant count's scipy.stats.binom weights times
+    otherwise: 0/1 metrics by exact power (noise (D + 1/2) / n for D of n pairs discordant) (the discordant count's scipy.stats.binom weights times
     the lost count's binomial upper tail beyond critical values found with
     scipy.stats.binomtest), solved for power 0.8 with scipy.optimize.brentq; continuous ones
     max(0.005, norm.ppf(1 - l/2) se) + norm.ppf(0.8) se; null with too few cases, no spread, or
@@ -256,8 +256,8 @@ def recompute(base_dir, cand_dir, resamples, seed, min_effect, gate):
         if s["too_few"]:
             mde[m] = None
         elif s["test"] == "mcnemar":
-            mde[m] = mcnemar_drop(len(d), float(np.sum(d != 0)) / len(d), level, min_effect,
-                                  s["base_mean"])
+            mde[m] = mcnemar_drop(len(d), (float(np.sum(d != 0)) + 0.5) / len(d), level,
+                                  min_effect, s["base_mean"])
         elif np.all(d == d[0]):
             mde[m] = None
         else:

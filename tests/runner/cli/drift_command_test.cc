@@ -96,13 +96,16 @@ TEST_CASE("two runs of the same recorded predictions are steady everywhere") {
   CHECK(d["latency"]["p95"]["interval"] == nlohmann::json::array({1.0, 1.0}));
   // make_runs.py: 350 of 400 right.
   CHECK(MetricRow(d["metrics"], "correct")["base_mean"] == 0.875);
-  // No pair differs. correct: the drop the gate catches with power 0.8 when cases are lost at
-  // that rate and none flip back, tested at 0.05 / 3 (the default family of three metrics): 7
-  // lost are the fewest with 2 / 2^7 <= 0.0167, so the power is P(Binomial(400, d) >= 7) and
-  // scipy.optimize.brentq on scipy.stats.binom.sf(6, 400, d) - 0.8 gives d = 0.02260120962072544.
+  // No pair differs. correct: the drop the gate catches with power 0.8, tested at 0.05 / 3 (the
+  // default family of three metrics), with the noise taken as half a flip in 400 (0.5 / 400,
+  // half each way) and the drop added as lost cases. The exact power, summed with
+  // scipy.stats.binom and critical values from scipy.stats.binomtest, reaches 0.8
+  // (scipy.optimize.brentq) at 0.024603781039757484; with no noise at all it would be the root
+  // of scipy.stats.binom.sf(6, 400, d) = 0.8, 0.0226 (7 lost are the fewest with 2 / 2^7 <=
+  // 0.0167).
   // A continuous metric has no spread to estimate a detectable effect from.
   CHECK(d["min_detectable_effect"]["correct"].get<double>() ==
-        Approx(0.02260120962072544).margin(2e-6));
+        Approx(0.024603781039757484).margin(2e-6));
   CHECK(d["min_detectable_effect"]["token_f1"].is_null());
 }
 
@@ -172,12 +175,13 @@ TEST_CASE("a candidate that breaks 20 of 400 cases regresses on correct") {
   // (up to rounding in the interpolation).
   CHECK(d["latency"]["p50"]["ratio"].get<double>() == Approx(1.25).epsilon(1e-14));
   CHECK(d["latency"]["p95"]["interval"][0].get<double>() == Approx(1.25).epsilon(1e-14));
-  // Detectable effect (runner/compare/drift.h): 20 of 400 discordant, so 0.025 flip each way as
-  // noise and the drop is added as lost cases; exact McNemar at 0.05 / 3 with min_effect 0.005.
-  // The exact power, summed with scipy.stats.binom and critical values from
-  // scipy.stats.binomtest, reaches 0.8 (scipy.optimize.brentq) at 0.052459746127840434.
+  // Detectable effect (runner/compare/drift.h): 20 of 400 discordant, taken as 20.5 / 400, half
+  // of it flipping each way as noise, and the drop added as lost cases; exact McNemar at
+  // 0.05 / 3 with min_effect 0.005. The exact power, summed with scipy.stats.binom and critical
+  // values from scipy.stats.binomtest, reaches 0.8 (scipy.optimize.brentq) at
+  // 0.052879974016392356.
   CHECK(d["min_detectable_effect"]["correct"].get<double>() ==
-        Approx(0.052459746127840434).margin(2e-6));
+        Approx(0.052879974016392356).margin(2e-6));
   CHECK(d["changed"]["pipeline_config"] == true);  // another predictions file
 }
 

@@ -531,13 +531,13 @@ TEST_CASE("the detectable effect is per metric, with its own n, and n/a when it 
   }
   const DriftReport r = Drift(MakeRun(b), MakeRun(c));
   CHECK(std::isnan(r.min_detectable_effect.at("token_f1")));
-  // correct: n 400, 40 of 400 discordant, tested at 0.05 / 3 (the family of three): the exact
-  // power at the printed drop is 0.8 (McNemarPower is checked against scipy and statsmodels in
-  // tests/reference/statistics_reference.py).
+  // correct: n 400, 40 of 400 discordant (taken as 40.5 / 400), tested at 0.05 / 3 (the family
+  // of three): the exact power at the printed drop is 0.8 (McNemarPower is checked against scipy
+  // and statsmodels in tests/reference/statistics_reference.py).
   const double drop = r.min_detectable_effect.at("correct");
   CHECK(drop > 0.02);
   CHECK(drop < 0.1);
-  CHECK(plumb::metrics::McNemarPower(400, 0.05 + drop, 0.05, 0.05 / 3, 0.005) ==
+  CHECK(plumb::metrics::McNemarPower(400, 40.5 / 800 + drop, 40.5 / 800, 0.05 / 3, 0.005) ==
         Approx(0.8).margin(1e-4));
   // citation_recall: its own n (8), one difference -0.75 and seven zeros: sd = 0.75 / sqrt(8),
   // se = 0.75 / 8; at 0.05 / 3: (2.3939797998185104 + 0.8416212335729143) * 0.09375 = 0.30334.
