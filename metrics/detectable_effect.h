@@ -39,7 +39,7 @@ double McNemarDetectableDrop(int64_t n, double discordant_rate, double level, do
 /// i.e. the drop whose mean difference lands beyond both the test's critical value and
 /// -min_effect with probability `power`. The signed-rank test's efficiency relative to this
 /// z-test is 3/pi = 0.955 for normal differences and can be higher or lower (down to 0.864) for
-/// others, so the figure is an approximation; tests/bench/gate_simulation.py measures its power.
+/// others, so the figure is an approximation; tests/bench/gate_simulation.cc measures its power.
 /// NaN when n < 2, when every difference is equal (no spread to estimate from, e.g. no paired
 /// case changed), or when d exceeds max_drop.
 double ShiftDetectableDrop(const std::vector<double>& differences, double level, double min_effect,
