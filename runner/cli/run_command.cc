@@ -17,6 +17,7 @@
 #include "runner/cli/run_summary.h"
 #include "runner/pipeline/adapter_factory.h"
 #include "runner/pipeline/child_process.h"
+#include "runner/pipeline/reply_mapping.h"
 #include "runner/report/summary_table.h"
 #include "runner/run/prepared_suite.h"
 #include "runner/run/run_journal.h"
@@ -153,6 +154,12 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
     }
   }
 
+  std::unique_ptr<ReplyMapping> reply = ReplyMapping::Create(pipeline.reply, &error);
+  if (reply == nullptr) {
+    std::fprintf(stderr, "%s: error: pipeline '%s': %s\n", suite.path.c_str(),
+                 pipeline.name.c_str(), error.c_str());
+    return kExitUsage;
+  }
   const int jobs = options.jobs > 0 ? options.jobs : (pipeline.jobs > 0 ? pipeline.jobs : 1);
   std::unique_ptr<Adapter> adapter = CreateAdapter(pipeline, jobs, &error);
   if (adapter == nullptr) {
@@ -200,6 +207,7 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
     inputs.scorer = prepared.scorer.get();
     inputs.journal = journal.get();
     inputs.pipeline = &pipeline;
+    inputs.reply = reply.get();
     inputs.progress = &progress;
     inputs.stop = &watch.interrupted();
     scheduled = RunSchedule(inputs);
@@ -212,6 +220,14 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
     scheduled.interrupted = scheduled.interrupted || watch.interrupted();
   }
   progress.Finish();
+  // Once per run: a pointer the reply block names that no reply had is most likely mistyped.
+  for (const ReplyMapping::Unresolved& u : reply->NeverResolved()) {
+    std::fprintf(stderr,
+                 "%s: warning: pipeline '%s': reply.%s '%s' resolved in none of the %lld "
+                 "replies; compare it with a reply in %s\n",
+                 suite.path.c_str(), pipeline.name.c_str(), u.key.c_str(), u.pointer.c_str(),
+                 static_cast<long long>(reply->replies_read()), journal_path.c_str());
+  }
   if (!scheduled.fatal_error.empty()) {
     std::fprintf(stderr, "plumb: %s\n", scheduled.fatal_error.c_str());
     return kExitUsage;

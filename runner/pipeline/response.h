@@ -31,35 +31,19 @@ struct Response {
   bool has_retrieved = false;        // the reply carried a `retrieved` list (retrieval metrics)
   std::optional<int64_t> input_tokens;
   std::optional<int64_t> output_tokens;
+  std::optional<double> service_latency_ms;  // the service's own timing, when `reply:` maps it
 };
 
-/// Where each field lives in the reply: RFC 6901 JSON Pointers. Defaults are the top-level
-/// keys of §5. `citation_fields` renames fields inside citation/retrieved objects
-/// (e.g. {"doc": "source", "start": "from", "end": "to"}).
-struct ResponseMap {
-  std::string answer = "/answer";
-  std::string abstained = "/abstained";
-  std::string citations = "/citations";
-  std::string retrieved = "/retrieved";
-  std::string usage = "/usage";
-  std::map<std::string, std::string> citation_fields;
-  /// Set when `map:` names the pointer explicitly: a reply where it does not resolve is then a
-  /// case error (a mistyped pointer must not silently score as "no citations"). The default
-  /// top-level keys stay optional.
-  bool citations_required = false;
-  bool retrieved_required = false;
+class ReplyMapping;  // runner/pipeline/reply_mapping.h
 
-  /// Builds a map from a pipeline's `map:` block; unknown keys were rejected by the loader.
-  static ResponseMap FromConfig(const std::map<std::string, std::string>& config);
-};
-
-/// Parses `body` into `out`. Returns false with a one-sentence reason in `*error` when the body
-/// is not JSON, not an object, lacks the answer (a missing answer is an error; null is an
-/// abstention), or has fields of the wrong type. Malformed individual citations are an error
-/// too: a pipeline that emits them has a bug the user wants to see.
-bool ParseResponse(std::string_view body, const ResponseMap& map, Response* out,
+/// Parses `body` into `out` where `mapping` says the values are (ReplyMapping::Read). Returns
+/// false with a one-sentence reason in `*error` when the body is not JSON, not an object, lacks
+/// the answer (a missing answer is an error; null is an abstention), or has fields of the wrong
+/// type. Malformed individual citations are an error too: a pipeline that emits them has a bug
+/// the user wants to see.
+bool ParseResponse(std::string_view body, const ReplyMapping& mapping, Response* out,
                    std::string* error);
-bool ParseResponseJson(const nlohmann::json& body, const ResponseMap& map, Response* out,
+bool ParseResponseJson(const nlohmann::json& body, const ReplyMapping& mapping, Response* out,
                        std::string* error);
 
 }  // namespace plumb

@@ -2,6 +2,7 @@
 
 #include "runner/base/json_writer.h"
 #include "runner/pipeline/excerpt.h"
+#include "runner/pipeline/reply_mapping.h"
 
 namespace plumb {
 namespace {
@@ -46,6 +47,10 @@ void BeginCaseRecord(std::string_view id, int repeat, JsonWriter* out) {
 void EndCaseRecord(const CaseRecord& r, JsonWriter* out) {
   JsonWriter& w = *out;
   w.PlainKey("latency_ms").Double(r.latency_ms).PlainKey("attempts").Int(r.attempts);
+  // The service's own timing, when the pipeline's `reply:` block maps it.
+  if (r.error.empty() && r.parsed.service_latency_ms) {
+    w.PlainKey("service_latency_ms").Double(*r.parsed.service_latency_ms);
+  }
   if (r.error.empty()) {
     w.PlainKey("answer");
     if (r.parsed.answer) {
@@ -114,7 +119,7 @@ bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* 
                               {"retrieved", json.value("retrieved", nlohmann::json())},
                               {"usage", json.value("usage", nlohmann::json::object())}};
       std::string parse_error;
-      if (!ParseResponseJson(reply, ResponseMap(), &r->parsed, &parse_error)) {
+      if (!ParseResponseJson(reply, ProtocolReplyMapping(), &r->parsed, &parse_error)) {
         *error = parse_error;
         return false;
       }

@@ -8,6 +8,7 @@
 
 #include "runner/base/parallel_chunks.h"
 #include "runner/pipeline/flat_reply.h"
+#include "runner/pipeline/reply_mapping.h"
 #include "runner/run/case_record.h"
 
 namespace plumb {
@@ -226,8 +227,9 @@ PredictionReader::LineRead PredictionReader::ReadGeneral(const Line& line, Chunk
     call.latency_ms = it->get<double>();
   }
   call.body = std::string(line.text);
-  CaseRecord record = MakeCaseRecord(prepared_.suite.cases[result->case_index], result->repeat,
-                                     call, recorded_, *prepared_.scorer, result->case_index, &json);
+  CaseRecord record =
+      MakeCaseRecord(prepared_.suite.cases[result->case_index], result->repeat, call, recorded_,
+                     ProtocolReplyMapping(), *prepared_.scorer, result->case_index, &json);
   const size_t begin = chunk->journal.size();
   WriteCaseRecord(record, &chunk->journal);
   KeepRecord(begin, std::move(record), chunk, result);
@@ -294,8 +296,9 @@ bool PredictionReader::RecordMissing(size_t case_index, std::vector<CaseOutcome>
                                      std::string* error) {
   CallResult call;
   call.error = "no prediction for this case in " + path_;
-  const CaseRecord record = MakeCaseRecord(prepared_.suite.cases[case_index], 0, call, recorded_,
-                                           *prepared_.scorer, case_index, nullptr);
+  const CaseRecord record =
+      MakeCaseRecord(prepared_.suite.cases[case_index], 0, call, recorded_, ProtocolReplyMapping(),
+                     *prepared_.scorer, case_index, nullptr);
   if (!journal_->AppendLine(CaseRecordLine(record), error)) return false;
   outcomes->push_back(OutcomeOf(record, case_index));
   return true;

@@ -3,6 +3,7 @@
 #include <thread>
 
 #include "runner/pipeline/excerpt.h"
+#include "runner/pipeline/reply_mapping.h"
 
 namespace plumb {
 namespace {
@@ -13,10 +14,10 @@ constexpr size_t kExcerptBytes = 2048;
 }  // namespace
 
 CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
-                          const PipelineConfig& pipeline, const CaseScorer& scorer,
-                          size_t case_index, nlohmann::json* parsed_body) {
+                          const PipelineConfig& pipeline, const ReplyMapping& reply,
+                          const CaseScorer& scorer, size_t case_index,
+                          nlohmann::json* parsed_body) {
   const std::vector<std::string>& secrets = pipeline.secrets;
-  const ResponseMap map = ResponseMap::FromConfig(pipeline.map);
   CaseRecord record;
   record.id = c.id;
   record.repeat = repeat;
@@ -44,7 +45,7 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
     std::string parse_error;
     if (parsed.is_discarded()) {
       record.error = "response is not valid JSON";
-    } else if (!ParseResponseJson(parsed, map, &record.parsed, &parse_error)) {
+    } else if (!ParseResponseJson(parsed, reply, &record.parsed, &parse_error)) {
       record.error = secrets.empty() ? parse_error : RedactSecrets(parse_error, secrets);
     }
     if (!record.error.empty()) {
@@ -104,8 +105,9 @@ ScheduleResult RunSchedule(const ScheduleInputs& in) {
       // A call cut short by the interrupt is not the pipeline's fault: leave it unjournaled so
       // --resume sends it again.
       if (!call.error.empty() && stopping()) return;
-      CaseRecord record =
-          MakeCaseRecord(c, item.repeat, call, *in.pipeline, *in.scorer, item.case_index);
+      CaseRecord record = MakeCaseRecord(c, item.repeat, call, *in.pipeline,
+                                         in.reply != nullptr ? *in.reply : ProtocolReplyMapping(),
+                                         *in.scorer, item.case_index);
       std::string error;
       if (!in.journal->AppendLine(CaseRecordLine(record), &error)) {
         std::lock_guard<std::mutex> lock(fatal_mutex);

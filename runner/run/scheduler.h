@@ -52,6 +52,8 @@ struct ScheduleInputs {
   const CaseScorer* scorer = nullptr;
   RunJournal* journal = nullptr;
   const PipelineConfig* pipeline = nullptr;
+  /// Where the values are in the pipeline's replies; null: the protocol's own shape.
+  const ReplyMapping* reply = nullptr;
   Progress* progress = nullptr;
   /// Raised (e.g. by a SIGINT watcher) to stop taking new items; in-flight calls that then fail
   /// are treated as interrupted, not as case errors, so --resume runs them again.
@@ -62,13 +64,15 @@ ScheduleResult RunSchedule(const ScheduleInputs& inputs);
 
 /// Builds the journal record and outcome for one reply; shared by `plumb run` (replies from an
 /// adapter) and `plumb score` (recorded replies).
-/// `pipeline` supplies the reply map, the offset unit and the secrets to redact; `plumb score`
-/// passes a default PipelineConfig. `parsed_body`, when not null, is call.body already parsed
-/// as JSON by the caller (valid, and from a pipeline without secrets): it is used, and moved
-/// from, instead of parsing the body a second time.
+/// `pipeline` supplies the offset unit and the secrets to redact, `reply` where the reply's
+/// values are; `plumb score` passes a default PipelineConfig and ProtocolReplyMapping().
+/// `parsed_body`, when not null, is call.body already parsed as JSON by the caller (valid, and from
+/// a pipeline without secrets): it is used, and moved from, instead of parsing the body a second
+/// time.
 CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
-                          const PipelineConfig& pipeline, const CaseScorer& scorer,
-                          size_t case_index, nlohmann::json* parsed_body = nullptr);
+                          const PipelineConfig& pipeline, const ReplyMapping& reply,
+                          const CaseScorer& scorer, size_t case_index,
+                          nlohmann::json* parsed_body = nullptr);
 
 CaseOutcome OutcomeOf(const CaseRecord& record, size_t case_index);
 /// The same, taking the scores out of a record that is no longer needed.

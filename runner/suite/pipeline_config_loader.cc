@@ -8,6 +8,7 @@
 #include "runner/suite/did_you_mean.h"
 #include "runner/suite/env_expand.h"
 #include "runner/suite/flow_yaml.h"
+#include "runner/suite/reply_block_reader.h"
 #include "runner/suite/request_block_reader.h"
 
 namespace plumb {
@@ -17,12 +18,9 @@ const std::vector<std::string> kSubprocessKeys = {"command", "mode", "env", "cwd
 const std::vector<std::string> kHttpKeys = {"url",     "method", "headers", "request",
                                             "retries", "rate",   "insecure"};
 // Keys an earlier format used; each is refused with its entry in the new form.
-const std::vector<std::string> kRetiredKeys = {"body"};
-const std::vector<std::string> kCommonKeys = {"timeout", "jobs", "max_response_bytes", "map",
+const std::vector<std::string> kRetiredKeys = {"body", "map"};
+const std::vector<std::string> kCommonKeys = {"timeout", "jobs", "max_response_bytes", "reply",
                                               "offsets"};
-const std::vector<std::string> kMapKeys = {"answer",    "abstained", "citations",
-                                           "retrieved", "usage",     "fields"};
-const std::vector<std::string> kCitationFieldKeys = {"doc", "start", "end", "quote"};
 
 bool Contains(const std::vector<std::string>& names, const std::string& name) {
   return std::find(names.begin(), names.end(), name) != names.end();
@@ -40,18 +38,6 @@ bool LeadingNumber(std::string_view text, double* value, std::string_view* rest)
   }
   *value = std::stod(std::string(text.substr(0, i)));
   *rest = text.substr(i);
-  return true;
-}
-
-bool IsJsonPointer(const std::string& pointer) {
-  if (!pointer.empty() && pointer[0] != '/') return false;
-  // RFC 6901 §3: '~' only in the escapes ~0 and ~1.
-  for (size_t i = 0; i < pointer.size(); ++i) {
-    if (pointer[i] == '~' &&
-        (i + 1 == pointer.size() || (pointer[i + 1] != '0' && pointer[i + 1] != '1'))) {
-      return false;
-    }
-  }
   return true;
 }
 
@@ -176,7 +162,12 @@ class PipelineReader {
           config->request = std::move(request);
         }
       } else if (key == "map") {
-        ReadMap(value, config);
+        check_.Error(key_entry->key,
+                     "'map' is now 'reply', where citations and retrieved each name their own "
+                     "members",
+                     "write 'reply: " + UpgradeMapToReply(value) + "' in its place");
+      } else if (key == "reply") {
+        ReadReplyBlock(value, &check_, &config->reply);
       } else if (key == "retries") {
         int64_t retries;
         if (!check_.Int(value, key, &retries)) continue;
@@ -287,30 +278,6 @@ class PipelineReader {
       if (!ReadExpanded(*value, field + "." + key->scalar, config, &expanded)) continue;
       (*redacted)[key->scalar] = expanded.redacted;
       (*out)[key->scalar] = expanded;
-    }
-  }
-
-  void ReadMap(const SourceNode& node, PipelineConfig* config) {
-    auto keys = check_.Keys(node, kMapKeys, "in 'map'", "'map'");
-    for (const auto& [key, entry] : keys) {
-      if (key == "fields") {
-        auto fields =
-            check_.Keys(entry->value, kCitationFieldKeys, "in 'map.fields'", "'map.fields'");
-        for (const auto& [field, field_entry] : fields) {
-          std::string name;
-          if (!check_.NonEmptyString(field_entry->value, "map.fields." + field, &name)) continue;
-          config->map["fields." + field] = name;
-        }
-        continue;
-      }
-      std::string pointer;
-      if (!check_.String(entry->value, "map." + key, &pointer)) continue;
-      if (!IsJsonPointer(pointer)) {
-        check_.Error(entry->value, "'map." + key + "' is not a JSON Pointer: '" + pointer + "'",
-                     "RFC 6901 pointers are \"\" or start with '/', e.g. /data/text");
-        continue;
-      }
-      config->map[key] = pointer;
     }
   }
 

@@ -7,7 +7,7 @@
 ///
 /// Keys: subprocess pipelines (`command`) take mode, env, cwd; HTTP pipelines (`url`) take
 /// method, headers, request, retries, rate, insecure; both take timeout, jobs, max_response_bytes,
-/// map and offsets (the last two describe the reply, which both adapters parse the same way).
+/// reply and offsets (the last two describe the reply, which both adapters parse the same way).
 
 #include <cstdint>
 #include <string>

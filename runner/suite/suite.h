@@ -79,6 +79,28 @@ struct RequestPart {
   std::vector<std::string> keys;   // kObject: member names, parallel to `items`
 };
 
+/// A pipeline's `reply:` block: where each value the runner scores lives in the reply. Every
+/// string is an RFC 6901 JSON Pointer into the reply, empty when the block does not name it
+/// (the reply protocol's own place is used then). runner/pipeline/reply_mapping.h compiles it.
+struct ReplyFields {
+  std::string answer;
+  std::string abstained;     // a boolean; true is an abstention
+  std::string refusal;       // a string; present and non-empty is an abstention
+  std::string abstain_when;  // RE2 pattern (not a pointer): an answer it matches abstains
+  std::string input_tokens;
+  std::string output_tokens;
+  std::string latency_ms;  // the service's own timing, recorded beside plumb's
+  /// A list of sources: `at` points at it; doc, start, end and quote name each item's members
+  /// (a name, or a pointer from '/' into the item). Empty names keep the protocol's names.
+  struct SourceList {
+    std::string at;
+    std::string doc, start, end, quote;
+  };
+  std::optional<SourceList> citations;
+  std::optional<SourceList> retrieved;
+  bool given = false;  // the pipeline has a `reply:` block
+};
+
 enum class PipelineKind { kSubprocess, kHttp };
 enum class SubprocessMode { kPersistent, kPerCase };
 
@@ -103,14 +125,12 @@ struct PipelineConfig {
   /// `url: !text [...]`: the url's pieces (kValue text with `${VAR}` expanded, kCaseField
   /// values percent-encoded per request); empty when the url is one plain string (`url`).
   std::vector<RequestPart> url_pieces;
-  // response field -> RFC 6901 pointer; keys answer, abstained, citations, retrieved, usage,
-  // and fields.doc / fields.start / fields.end / fields.quote for renamed citation fields.
-  std::map<std::string, std::string> map;
   int retries = 3;
   double rate_per_second = 0;  // 0: unlimited
   bool insecure = false;       // `insecure: true`: skip TLS certificate verification
 
   // Both adapters.
+  ReplyFields reply;  // `reply:`; where the values plumb scores are in the reply
   int64_t timeout_ms = 30000;
   int jobs = 0;  // 0: take --jobs (or 1)
   int64_t max_response_bytes = 16 * 1024 * 1024;

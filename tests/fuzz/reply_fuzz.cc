@@ -12,12 +12,13 @@
 
 #include "runner/base/json_writer.h"
 #include "runner/pipeline/flat_reply.h"
+#include "runner/pipeline/reply_mapping.h"
 #include "runner/pipeline/response.h"
 #include "tests/fuzz/fuzz_check.h"
 
 namespace {
 
-void CheckParse(std::string_view body, const plumb::ResponseMap& map) {
+void CheckParse(std::string_view body, const plumb::ReplyMapping& map) {
   plumb::Response response;
   std::string error;
   if (plumb::ParseResponse(body, map, &response, &error)) {
@@ -32,10 +33,19 @@ void CheckParse(std::string_view body, const plumb::ResponseMap& map) {
 
 extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
   const std::string_view body(reinterpret_cast<const char*>(data), size);
-  CheckParse(body, plumb::ResponseMap());
-  static const plumb::ResponseMap renamed = plumb::ResponseMap::FromConfig(
-      {{"answer", "/data/text"}, {"citations", "/data/refs"}, {"fields.doc", "source"}});
-  CheckParse(body, renamed);
+  CheckParse(body, plumb::ProtocolReplyMapping());
+  static const std::unique_ptr<plumb::ReplyMapping> renamed = [] {
+    plumb::ReplyFields fields;
+    fields.answer = "/data/text";
+    fields.refusal = "/data/refusal";
+    fields.abstain_when = "(?i)I (do not|don't) know";
+    fields.input_tokens = "/usage/prompt_tokens";
+    fields.citations = plumb::ReplyFields::SourceList{"/data/refs", "source", "", "", ""};
+    fields.retrieved = plumb::ReplyFields::SourceList{"/hits", "/document/path", "", "", ""};
+    std::string error;
+    return plumb::ReplyMapping::Create(fields, &error);
+  }();
+  CheckParse(body, *renamed);
 
   plumb::FlatReply flat;
   if (plumb::ReadFlatReply(body, &flat)) {

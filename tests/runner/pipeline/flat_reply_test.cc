@@ -11,6 +11,7 @@
 #include <random>
 #include <string>
 
+#include "runner/pipeline/reply_mapping.h"
 #include "tests/support/random_json.h"
 
 namespace plumb {
@@ -123,7 +124,7 @@ TEST_CASE("flat predictions read as the general path reads them, or are declined
     CHECK(flat.latency_ms == (timed ? json["latency_ms"].get<double>() : 0.0));
     Response general;
     std::string error;
-    REQUIRE(ParseResponseJson(json, ResponseMap(), &general, &error));
+    REQUIRE(ParseResponseJson(json, plumb::ProtocolReplyMapping(), &general, &error));
     CHECK(general.answer == flat.parsed.answer);
     CHECK(general.abstained == flat.parsed.abstained);
     CHECK(general.citations.empty());

@@ -24,6 +24,7 @@
 #include <thread>
 #include <vector>
 
+#include "runner/pipeline/reply_mapping.h"
 #include "runner/pipeline/response.h"
 #include "tests/support/plumb_process.h"
 
@@ -329,10 +330,16 @@ TEST_CASE("invalid JSON and an unresolved answer pointer pass the adapter and fa
   REQUIRE(r.error.empty());  // a 200 reply: whether it is valid is the parser's decision
   plumb::Response response;
   std::string error;
-  CHECK_FALSE(plumb::ParseResponse(r.body, plumb::ResponseMap(), &response, &error));
+  CHECK_FALSE(plumb::ParseResponse(r.body, plumb::ProtocolReplyMapping(), &response, &error));
   CHECK(error == "response is not valid JSON");
 
-  const plumb::ResponseMap map = plumb::ResponseMap::FromConfig({{"answer", "/data/text"}});
+  plumb::ReplyFields fields;
+  fields.answer = "/data/text";
+  std::string create_error;
+  const std::unique_ptr<plumb::ReplyMapping> mapping =
+      plumb::ReplyMapping::Create(fields, &create_error);
+  REQUIRE(mapping != nullptr);
+  const plumb::ReplyMapping& map = *mapping;
   auto echo = MakeAdapter(Config(server->Url("/echo")));
   const plumb::CallResult plain = echo->Call(Request("c", "q"), 0);
   CHECK_FALSE(plumb::ParseResponse(plain.body, map, &response, &error));
@@ -610,7 +617,7 @@ TEST_CASE("plumb run: an answer pointer that does not resolve is a case error na
                             "/\", !case input.fault]\n"
                             "    request: {id: !case id, question: !case question, input: "
                             "!case input}\n"
-                            "    map: {answer: /data/text}\n"
+                            "    reply: {answer: /data/text}\n"
                             "cases:\n"
                             "  - {id: mapped, question: q, answers: [q], input: {fault: map}}\n"
                             "  - {id: flat, question: q, answers: [q], input: {fault: echo}}\n");

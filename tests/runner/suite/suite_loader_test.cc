@@ -810,7 +810,8 @@ TEST_CASE("pipelines: env expansion, redaction and every key") {
       "    headers: {Authorization: \"Bearer ${PLUMB_TEST_TOKEN}\"}\n"
       "    request: {q: !case question, k: 4, ctx: !text [\"channel: \", !case input.channel],"
       " key: !env PLUMB_TEST_TOKEN}\n"
-      "    map: {answer: /data/text, citations: \"\", fields: {doc: source, start: from}}\n"
+      "    reply: {answer: /data/text, citations: \"\", retrieved: {at: /hits, doc: /doc/path,"
+      " start: from}, abstain_when: \"(?i)no idea\", input_tokens: /usage/prompt_tokens}\n"
       "    timeout: 500ms\n"
       "    retries: 0\n"
       "    rate: 120/m\n"
@@ -873,10 +874,17 @@ TEST_CASE("pipelines: env expansion, redaction and every key") {
   CHECK(svc.redacted_config["request"] ==
         nlohmann::json::parse(R"({"q": {"!case": "question"}, "k": 4,
             "ctx": {"!text": ["channel: ", {"!case": "input.channel"}]}, "key": "***"})"));
-  CHECK(svc.map == std::map<std::string, std::string>{{"answer", "/data/text"},
-                                                      {"citations", ""},
-                                                      {"fields.doc", "source"},
-                                                      {"fields.start", "from"}});
+  CHECK(svc.reply.given);
+  CHECK(svc.reply.answer == "/data/text");
+  REQUIRE(svc.reply.citations.has_value());
+  CHECK(svc.reply.citations->at == "");  // "" is the whole reply (RFC 6901)
+  REQUIRE(svc.reply.retrieved.has_value());
+  CHECK(svc.reply.retrieved->at == "/hits");
+  CHECK(svc.reply.retrieved->doc == "/doc/path");
+  CHECK(svc.reply.retrieved->start == "from");
+  CHECK(svc.reply.retrieved->end == "");
+  CHECK(svc.reply.abstain_when == "(?i)no idea");
+  CHECK(svc.reply.input_tokens == "/usage/prompt_tokens");
   CHECK(svc.timeout_ms == 500);
   CHECK(svc.retries == 0);
   CHECK(svc.rate_per_second == 2);
@@ -910,7 +918,7 @@ TEST_CASE("pipeline errors") {
                                  "    url: ftp://h/\n"                            // 9:10
                                  "    mode: persistent\n"                         // 10:5
                                  "    timeout: 30 s\n"                            // 11:14
-                                 "    map: {answer: data/text, anser: /a}\n"      // 12
+                                 "    reply: {answer: data/text, anser: /a}\n"    // 12
                                  "    request: {q: !case questoin}\n"             // 13:18
                                  "    rate: 20\n"                                 // 14:11
                                  "    max_response_bytes: 16MB\n"                 // 15:25
@@ -930,11 +938,11 @@ TEST_CASE("pipeline errors") {
   const Diagnostic& timeout = Find(r.errors, "invalid timeout '30 s'");
   CheckAt(timeout, suite, 11, 14);
   CHECK(timeout.hint == "write a duration such as 30s, 500ms or 2m, or a number of seconds");
-  const Diagnostic& pointer = Find(r.errors, "'map.answer' is not a JSON Pointer");
-  CheckAt(pointer, suite, 12, 19);
+  const Diagnostic& pointer = Find(r.errors, "'reply.answer' is not a JSON Pointer");
+  CheckAt(pointer, suite, 12, 21);
   CHECK(pointer.hint == "RFC 6901 pointers are \"\" or start with '/', e.g. /data/text");
-  const Diagnostic& anser = Find(r.errors, "unknown key 'anser' in 'map'");
-  CheckAt(anser, suite, 12, 30);
+  const Diagnostic& anser = Find(r.errors, "unknown key 'anser' in 'reply'");
+  CheckAt(anser, suite, 12, 32);
   CHECK(anser.hint == "did you mean 'answer'?");
   const Diagnostic& field = Find(r.errors, "unknown case field 'questoin' in '!case'");
   CheckAt(field, suite, 13, 18);
@@ -1009,6 +1017,44 @@ TEST_CASE("the retired 'body' key and url placeholders are refused with their ne
         "write 'request: {q: !case question, k: 4, meta: {case: !case id, try: !case repeat}, "
         "prompt: !text [\"Q: \", !case question, \" (\", !case input.lang, \")\"], key: !env "
         "API_KEY}' in its place");
+}
+
+TEST_CASE("the retired 'map' and 'fields' keys are refused with their reply: form") {
+  TempDir dir;
+  std::string suite = WriteSuite(
+      dir,
+      "pipelines:\n"                                                                 // 4
+      "  svc:\n"                                                                     // 5
+      "    url: http://127.0.0.1:8088/answer\n"                                      // 6
+      "    map: {answer: /data/text, citations: /data/refs, retrieved: /data/hits,"  // 7:5
+      " usage: /data/usage, fields: {doc: source, start: from, end: to}}\n"
+      "  other:\n"                                                                        // 8
+      "    url: http://127.0.0.1:8088/answer\n"                                           // 9
+      "    reply: {answer: /a, fields: {doc: source}, usage: /u, abstain_when: \"(\"}\n"  // 10
+      "cases: []\n");
+  Loaded r = Load(suite);
+  INFO(FormatDiagnostics(r.errors));
+  REQUIRE(r.errors.size() == 4);
+  CheckAt(r.errors[0], suite, 7, 5);
+  CHECK(r.errors[0].message ==
+        "'map' is now 'reply', where citations and retrieved each name their own members");
+  CHECK(r.errors[0].hint ==
+        "write 'reply: {answer: /data/text, input_tokens: /data/usage/input_tokens, "
+        "output_tokens: /data/usage/output_tokens, citations: {at: /data/refs, doc: source, "
+        "start: from, end: to}, retrieved: {at: /data/hits, doc: source, start: from, end: to}}' "
+        "in its place");
+  // "    reply: {answer: /a, " is 24 characters: 'fields' at column 25.
+  CheckAt(r.errors[1], suite, 10, 25);
+  CHECK(r.errors[1].message ==
+        "'fields' renamed members in citations and retrieved at once; each list names its own "
+        "now");
+  CHECK(r.errors[1].hint ==
+        "write 'citations: {at: /citations, doc: source}' and 'retrieved: {at: /retrieved, doc: "
+        "source}', each with the names its list uses");
+  CheckAt(r.errors[2], suite, 10, 48);
+  CHECK(r.errors[2].message == "'usage' is now one pointer per count");
+  CheckAt(r.errors[3], suite, 10, 73);
+  CHECK(r.errors[3].message.rfind("invalid RE2 pattern in 'reply.abstain_when': ", 0) == 0);
 }
 
 TEST_CASE("a pipelines file (--pipelines) replaces the suite's pipelines") {
