@@ -130,7 +130,8 @@ lib.main('browser drift page', async (checks) => {
     const facts = await page.textContent('.facts');
     checks.check('labels of both runs', facts.includes('git=base111') && facts.includes('git=cand222'));
     checks.check('what changed', facts.includes('suite changed between the runs'), facts);
-    checks.check('detectable effect', facts.includes('correct 1.000, token_f1 0.500 at this case count'),
+    checks.check('detectable effect',
+                 facts.includes('smallest drop the gate catches (power 0.8)correct 1.000, token_f1 0.500'),
                  facts);
 
     checks.equal('lost first, then gained, then unchanged', await page.$$eval('.case', (els) =>
