@@ -188,6 +188,7 @@ CitationScores ScoreCitations(const std::vector<CitedRef>& citations,
       if (it->second) ++scores.citations_hit;
     }
     scores.citation_hit.push_back(it->second);
+    scores.placed_span.push_back(placed.kind == PlacedCitation::Kind::kSpan);
     scores.resolved.push_back(std::move(placed.ref));
   }
 

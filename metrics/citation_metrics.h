@@ -117,6 +117,7 @@ struct CitationScores {
   std::vector<bool> citation_hit;    // per input citation, in input order (duplicates too)
   std::vector<bool> gold_hit_flags;  // per gold span, in input order
   std::vector<CitedRef> resolved;    // the input citations; located quotes gain start and end
+  std::vector<bool> placed_span;     // per input citation: a valid span of a known document
 };
 
 /// Scores one case's `citations` against its `gold` spans (SPEC §6.3 definition).

@@ -31,10 +31,10 @@ bool CheckGateAgainstRuns(const DriftOptions& options, const LoadedRun& base, co
         std::find(measured.begin(), measured.end(), metric) != measured.end()) {
       continue;
     }
-    std::vector<std::string> known = {"correct",         "exact_match",  "token_f1",
-                                      "pattern_match",   "number_match", "citation_precision",
-                                      "citation_recall", "citation_f1",  "mrr",
-                                      "pass_rate"};
+    std::vector<std::string> known = {
+        "correct",         "exact_match",   "token_f1",      "token_recall", "covers_gold",
+        "knowledge_f1",    "cited_support", "pattern_match", "number_match", "citation_precision",
+        "citation_recall", "citation_f1",   "mrr",           "pass_rate"};
     known.insert(known.end(), measured.begin(), measured.end());
     *error = "--gate " + metric + ": not a per-case metric id; " +
              DidYouMeanHint(metric, MetricDisplayOrder(known), "metric ids");

@@ -23,8 +23,8 @@ constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 constexpr uint32_t kMissingRow = std::numeric_limits<uint32_t>::max();
 
 bool IsBinaryKind(const std::string& metric) {
-  static const std::set<std::string> kBinary = {"exact_match", "correct", "pattern_match",
-                                                "number_match", "pass_rate"};
+  static const std::set<std::string> kBinary = {"exact_match",  "correct",     "pattern_match",
+                                                "number_match", "covers_gold", "pass_rate"};
   return kBinary.count(metric) > 0;
 }
 
@@ -916,10 +916,11 @@ const MetricDrift* DriftReport::Find(const std::string& metric) const {
 
 bool IsKnownCaseMetric(const std::string& metric) {
   static const std::set<std::string> kKnown = {
-      "correct",      "exact_match",        "token_f1",        "pattern_match",
-      "number_match", "citation_precision", "citation_recall", "citation_f1",
-      "mrr",          "pass_rate"};
+      "correct",         "exact_match",   "token_f1",      "token_recall", "covers_gold",
+      "knowledge_f1",    "cited_support", "pattern_match", "number_match", "citation_precision",
+      "citation_recall", "citation_f1",   "mrr",           "pass_rate"};
   if (kKnown.count(metric)) return true;
+  if (metric.rfind("grade.", 0) == 0 && metric.size() > 6) return true;
   const std::string prefix = "recall@";
   if (metric.size() <= prefix.size() || metric.compare(0, prefix.size(), prefix) != 0) {
     return false;
@@ -929,11 +930,15 @@ bool IsKnownCaseMetric(const std::string& metric) {
 
 std::vector<std::string> MetricDisplayOrder(std::vector<std::string> metrics) {
   static const std::vector<std::string> kFirst = {
-      "correct",      "exact_match",        "token_f1",        "pattern_match",
-      "number_match", "citation_precision", "citation_recall", "citation_f1"};
+      "correct",      "exact_match",  "token_f1",           "token_recall",
+      "covers_gold",  "knowledge_f1", "cited_support",      "pattern_match",
+      "number_match", "grade.",       "citation_precision", "citation_recall",
+      "citation_f1"};
   auto rank = [](const std::string& m) -> std::pair<int, long> {
     for (size_t i = 0; i < kFirst.size(); ++i) {
-      if (kFirst[i] == m) return {0, static_cast<long>(i)};
+      if (kFirst[i] == m || (kFirst[i] == "grade." && m.rfind("grade.", 0) == 0)) {
+        return {0, static_cast<long>(i)};
+      }
     }
     if (m.rfind("recall@", 0) == 0 && IsKnownCaseMetric(m)) {
       return {1, std::strtol(m.c_str() + 7, nullptr, 10)};

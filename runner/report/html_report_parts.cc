@@ -80,9 +80,18 @@ std::string TagsAttribute(const std::vector<std::string>& tags) {
 }
 
 std::vector<std::string> MetricOrder(const nlohmann::json& metrics) {
-  std::vector<std::string> order = {"correct",         "exact_match",  "token_f1",
-                                    "pattern_match",   "number_match", "citation_precision",
-                                    "citation_recall", "citation_f1"};
+  std::vector<std::string> order = {"correct",       "exact_match",   "token_f1",
+                                    "token_recall",  "covers_gold",   "knowledge_f1",
+                                    "cited_support", "pattern_match", "number_match"};
+  if (!metrics.is_object()) return {};
+  std::vector<std::string> grades;
+  for (const auto& [metric, value] : metrics.items()) {
+    (void)value;
+    if (metric.rfind("grade.", 0) == 0) grades.push_back(metric);
+  }
+  std::sort(grades.begin(), grades.end());
+  order.insert(order.end(), grades.begin(), grades.end());
+  order.insert(order.end(), {"citation_precision", "citation_recall", "citation_f1"});
   std::vector<std::pair<int, std::string>> recall_at;
   std::vector<std::string> others;
   const std::vector<std::string> tail = {"mrr", "pass_rate", "abstain_precision", "abstain_recall",

@@ -3,6 +3,7 @@
 #include <string_view>
 
 #include "metrics/citation_metrics.h"
+#include "metrics/long_answer_metrics.h"
 #include "metrics/number_match.h"
 #include "metrics/retrieval_metrics.h"
 #include "runner/base/parallel_chunks.h"
@@ -11,7 +12,7 @@ namespace plumb {
 namespace {
 
 // Metrics a case usually defines besides recall@K (room set aside in one allocation).
-constexpr size_t kUsualMetrics = 4;
+constexpr size_t kUsualMetrics = 8;
 // Below this many cases per thread, preparing them on one thread is quicker.
 constexpr size_t kCasesPerChunk = 2000;
 
@@ -22,10 +23,13 @@ std::vector<metrics::GoldSpanRef> GoldRefs(const Case& c) {
   return gold;
 }
 
-void ScoreErroredCase(const Case& c, CaseScores* scores) {
+void ScoreErroredCase(const Case& c, bool has_knowledge, CaseScores* scores) {
   scores->errored = true;
   scores->values["exact_match"] = 0;
   scores->values["token_f1"] = 0;
+  scores->values["token_recall"] = 0;
+  scores->values["covers_gold"] = 0;
+  if (has_knowledge) scores->values["knowledge_f1"] = 0;
   scores->values["correct"] = 0;
   if (!c.patterns.empty()) scores->values["pattern_match"] = 0;
   if (c.number) scores->values["number_match"] = 0;
@@ -50,6 +54,12 @@ std::unique_ptr<CaseScorer> CaseScorer::Create(const Suite& suite, Corpus* corpu
       const Case& c = suite.cases[i];
       PreparedCase& prepared = scorer->prepared_[i];
       prepared.gold = metrics::NormalizeGold(c.answers, suite.normalize, suite.lang);
+      if (!c.sources.empty()) {
+        std::vector<std::string> texts;
+        texts.reserve(c.sources.size());
+        for (const GoldSpan& span : c.sources) texts.push_back(span.text);
+        prepared.knowledge = metrics::JoinedTokens(texts, suite.normalize, suite.lang);
+      }
       if (c.patterns.empty()) continue;
       std::string pattern_error;
       if (!metrics::PatternSet::Compile(c.patterns, &prepared.patterns, &pattern_error)) {
@@ -112,6 +122,37 @@ std::vector<metrics::CitedRef> CaseScorer::ToCodePoints(const std::vector<Source
   return out;
 }
 
+std::vector<std::string> CaseScorer::CitedTexts(const std::vector<metrics::CitedRef>& resolved,
+                                                const std::vector<bool>& placed) const {
+  std::vector<std::string> texts;
+  for (size_t i = 0; i < resolved.size(); ++i) {
+    const metrics::CitedRef& ref = resolved[i];
+    if (i >= placed.size() || !placed[i] || !ref.start || !ref.end) continue;
+    const std::string* text = DocumentText(ref.doc);
+    const metrics::CodePointIndex* index = DocumentIndex(ref.doc);
+    if (text == nullptr || index == nullptr) continue;
+    const int64_t begin = index->ByteOfCodePoint(*ref.start);
+    const int64_t end = index->ByteOfCodePoint(*ref.end);
+    if (begin >= 0 && end > begin) texts.push_back(text->substr(begin, end - begin));
+  }
+  return texts;
+}
+
+void CaseScorer::Conclude(CaseScores* scores) const {
+  if (scores->errored) {
+    scores->values["correct"] = 0;
+    scores->pass = false;
+    return;
+  }
+  double correct = 0;
+  for (const std::string& metric : suite_.correct_from) {
+    auto it = scores->values.find(metric);
+    if (it != scores->values.end()) correct = std::max(correct, it->second);
+  }
+  scores->values["correct"] = correct;
+  scores->pass = Passes(*scores);
+}
+
 bool CaseScorer::Passes(const CaseScores& scores) const {
   if (scores.errored) return false;
   for (const auto& [metric, minimum] : suite_.case_pass) {
@@ -131,7 +172,7 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
   scores.values.reserve(kUsualMetrics + suite_.retrieval_k.size());
   scores.abstention_case = c.answers.empty();
   if (response == nullptr) {
-    ScoreErroredCase(c, &scores);
+    ScoreErroredCase(c, !prepared.knowledge.empty(), &scores);
     return scores;
   }
 
@@ -142,13 +183,23 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
   // The reply abstained, or its answer normalized to no tokens (SPEC §6.2).
   scores.abstained = answer.abstained;
 
-  double correct = answer.exact_match;
+  // The long-answer metrics read the answer's tokens; an abstention has none.
+  const std::vector<std::string> answer_tokens =
+      response->answer ? metrics::NormalizeTokens(*response->answer, suite_.normalize, suite_.lang)
+                       : std::vector<std::string>();
+  const metrics::LongAnswerScores long_answer =
+      metrics::ScoreLongAnswer(answer_tokens, prepared.gold);
+  scores.values["token_recall"] = long_answer.token_recall;
+  scores.values["covers_gold"] = long_answer.covers_gold;
+  if (const auto knowledge = metrics::KnowledgeF1(answer_tokens, prepared.knowledge)) {
+    scores.values["knowledge_f1"] = *knowledge;
+  }
+
   const std::string_view raw_answer =
       response->answer ? std::string_view(*response->answer) : std::string_view();
   if (prepared.has_patterns) {
     const double pattern = !response->abstained && prepared.patterns.AnyMatch(raw_answer) ? 1 : 0;
     scores.values["pattern_match"] = pattern;
-    correct = std::max(correct, pattern);
   }
   if (c.number) {
     const double number =
@@ -157,9 +208,7 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
             ? 1
             : 0;
     scores.values["number_match"] = number;
-    correct = std::max(correct, number);
   }
-  scores.values["correct"] = correct;
 
   const metrics::DocumentLookup lookup = [this](const std::string& doc) {
     return DocumentText(doc);
@@ -176,6 +225,13 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
   if (citations.f1) scores.values["citation_f1"] = *citations.f1;
   scores.warnings.insert(scores.warnings.end(), citations.warnings.begin(),
                          citations.warnings.end());
+  if (!answer_tokens.empty() && !citations.resolved.empty()) {
+    const std::vector<std::string> cited = metrics::JoinedTokens(
+        CitedTexts(citations.resolved, citations.placed_span), suite_.normalize, suite_.lang);
+    if (const auto support = metrics::CitedSupport(answer_tokens, cited)) {
+      scores.values["cited_support"] = *support;
+    }
+  }
 
   if (response->has_retrieved && !gold.empty()) {
     const metrics::RetrievalScores retrieval = metrics::ScoreRetrieval(
@@ -188,7 +244,7 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
     }
     if (retrieval.mrr) scores.values["mrr"] = *retrieval.mrr;
   }
-  scores.pass = Passes(scores);
+  Conclude(&scores);
   return scores;
 }
 

@@ -38,6 +38,11 @@ class CaseScorer {
   CaseScores Score(size_t case_index, const Response* response,
                    metrics::OffsetUnit offsets = metrics::OffsetUnit::kCodePoints) const;
 
+  /// Sets `correct` (the max of the suite's `correct_from` metrics the case defines; 0 when it
+  /// defines none of them, and 0 for an errored case) and `pass` from the values in *scores.
+  /// Score() calls it; a grading pass that adds grade.NAME values calls it again.
+  void Conclude(CaseScores* scores) const;
+
   CaseScorer(const CaseScorer&) = delete;
   CaseScorer& operator=(const CaseScorer&) = delete;
 
@@ -51,9 +56,13 @@ class CaseScorer {
                                               metrics::OffsetUnit unit, const char* what,
                                               std::vector<std::string>* warnings) const;
   bool Passes(const CaseScores& scores) const;
+  /// The document text of each citation placed as a span (`placed`), for cited_support.
+  std::vector<std::string> CitedTexts(const std::vector<metrics::CitedRef>& resolved,
+                                      const std::vector<bool>& placed) const;
 
   struct PreparedCase {
     metrics::NormalizedGold gold;
+    std::vector<std::string> knowledge;  // the gold spans' text, normalized (knowledge_f1)
     metrics::PatternSet patterns;
     bool has_patterns = false;
   };

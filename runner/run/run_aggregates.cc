@@ -12,15 +12,18 @@ namespace {
 
 // 0/1 per case (before averaging over repeats): summarized with a Wilson interval.
 bool IsBinaryMetric(const std::string& metric) {
-  static const std::set<std::string> kBinary = {"exact_match",  "correct",   "pattern_match",
-                                                "number_match", "pass_rate", "error_rate"};
+  static const std::set<std::string> kBinary = {"exact_match",  "correct",     "pattern_match",
+                                                "number_match", "covers_gold", "pass_rate",
+                                                "error_rate"};
   return kBinary.count(metric) > 0;
 }
 
 std::vector<std::string> DisplayOrder(const Suite& suite) {
-  std::vector<std::string> order = {"correct",         "exact_match",  "token_f1",
-                                    "pattern_match",   "number_match", "citation_precision",
-                                    "citation_recall", "citation_f1"};
+  std::vector<std::string> order = {"correct",       "exact_match",        "token_f1",
+                                    "token_recall",  "covers_gold",        "knowledge_f1",
+                                    "cited_support", "pattern_match",      "number_match",
+                                    "grade.*",       "citation_precision", "citation_recall",
+                                    "citation_f1"};
   for (int k : suite.retrieval_k) order.push_back("recall@" + std::to_string(k));
   order.insert(order.end(),
                {"mrr", "pass_rate", "abstain_precision", "abstain_recall", "error_rate"});
@@ -103,8 +106,21 @@ std::vector<MetricAggregate> Summarize(const Suite& suite,
     }
     return nullptr;
   };
-  std::vector<MetricAggregate> out;
+  // "grade.*" in the display order stands for every grader's metric, by name.
+  std::vector<std::string> order;
   for (const std::string& metric : DisplayOrder(suite)) {
+    if (metric != "grade.*") {
+      order.push_back(metric);
+      continue;
+    }
+    const size_t first = order.size();
+    for (const auto& column : columns) {
+      if (column.first.rfind("grade.", 0) == 0) order.emplace_back(column.first);
+    }
+    std::sort(order.begin() + static_cast<std::ptrdiff_t>(first), order.end());
+  }
+  std::vector<MetricAggregate> out;
+  for (const std::string& metric : order) {
     if (metric == "abstain_precision" || metric == "abstain_recall") {
       const int64_t hits = metric == "abstain_precision" ? abstained_right : abstention_cases_hit;
       const int64_t n = metric == "abstain_precision" ? abstained : abstention_cases;

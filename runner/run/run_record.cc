@@ -102,7 +102,9 @@ std::string RunRecordHead(const RunContext& ctx) {
   for (int k : suite.retrieval_k) w.Int(k);
   w.EndArray().Key("case_pass").BeginObject();
   for (const auto& [metric, minimum] : suite.case_pass) w.Member(metric, minimum);
-  w.EndObject()
+  w.EndObject().Key("correct_from").BeginArray();
+  for (const std::string& metric : suite.correct_from) w.String(metric);
+  w.EndArray()
       .Member("min_overlap", suite.min_overlap)
       .Member("max_error_rate", suite.max_error_rate)
       .EndObject();

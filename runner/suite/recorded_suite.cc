@@ -102,6 +102,16 @@ bool ReadRecordedSuiteSettings(const nlohmann::json& record, Suite* suite, std::
       }
     }
   }
+  // Runs recorded before `correct_from` existed made correct from the default list.
+  if (auto from = settings->find("correct_from"); from != settings->end()) {
+    suite->correct_from.clear();
+    for (const nlohmann::json& metric : from->is_array() ? *from : nlohmann::json::array()) {
+      if (metric.is_string()) suite->correct_from.push_back(metric.get<std::string>());
+    }
+    if (!from->is_array() || suite->correct_from.size() != from->size()) {
+      fields.Fail("\"correct_from\" must be a list of metric ids");
+    }
+  }
   if (!fields.Done(error)) return false;
 
   auto corpus = record.find("corpus_dir");

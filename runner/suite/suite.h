@@ -160,6 +160,8 @@ struct Suite {
   std::string lang = "en";
   std::vector<int> retrieval_k = {1, 5};
   std::map<std::string, double> case_pass = {{"correct", 1.0}};
+  /// The per-case metrics whose max (over those a case defines) is `correct` (`correct_from:`).
+  std::vector<std::string> correct_from = {"exact_match", "pattern_match", "number_match"};
   double min_overlap = 0;        // citation overlap fraction (§6.3)
   double max_error_rate = 0.05;  // exit 3 above this fraction of errored cases (§8)
   Thresholds thresholds;

@@ -34,9 +34,9 @@ namespace {
 namespace fs = std::filesystem;
 
 const std::vector<std::string> kSuiteKeys = {
-    "plumb",   "name",        "corpus",    "normalize",   "lang",
-    "include", "retrieval_k", "case_pass", "min_overlap", "max_error_rate",
-    "floors",  "ceilings",    "pipelines", "cases"};
+    "plumb",          "name",        "corpus",    "normalize",    "lang",
+    "include",        "retrieval_k", "case_pass", "correct_from", "min_overlap",
+    "max_error_rate", "floors",      "ceilings",  "pipelines",    "cases"};
 // Top-level keys an earlier format used; each is refused with its entry in the new form.
 const std::vector<std::string> kRetiredSuiteKeys = {"thresholds"};
 const std::vector<std::string> kCaseKeys = {"id",     "question", "answers", "patterns",
@@ -45,9 +45,9 @@ const std::vector<std::string> kSourceKeys = {"doc", "quote", "start", "end"};
 const std::vector<std::string> kNumberKeys = {"value", "tolerance", "unit"};
 // Metrics scored on each case (recall@K comes on top, one per K in retrieval_k).
 const std::vector<std::string> kCaseMetrics = {
-    "exact_match",     "token_f1",     "correct",
-    "pattern_match",   "number_match", "citation_precision",
-    "citation_recall", "citation_f1",  "mrr"};
+    "exact_match",     "token_f1",    "correct",      "pattern_match", "number_match",
+    "token_recall",    "covers_gold", "knowledge_f1", "cited_support", "citation_precision",
+    "citation_recall", "citation_f1", "mrr"};
 // Metrics that exist only over a whole run.
 const std::vector<std::string> kRunMetrics = {"abstain_precision", "abstain_recall",
                                               "pass_rate",         "error_rate",
@@ -273,6 +273,8 @@ class SuiteLoader {
       suite_->case_pass.clear();
       ReadMetricMap(it->second->value, "case_pass", /*per_case=*/true, check, &suite_->case_pass);
     }
+    if (auto it = keys.find("correct_from"); it != keys.end())
+      ReadCorrectFrom(it->second->value, check);
     if (auto it = keys.find("min_overlap"); it != keys.end()) {
       check->Fraction(it->second->value, "min_overlap", &suite_->min_overlap);
     }
@@ -483,6 +485,36 @@ class SuiteLoader {
         continue;
       }
       suite_->retrieval_k.push_back(int(k));
+    }
+  }
+
+  // correct_from: a non-empty list of per-case metric ids other than correct itself.
+  void ReadCorrectFrom(const SourceNode& node, NodeChecker* check) {
+    if (!check->Sequence(node, "correct_from", "metric ids")) return;
+    if (node.items.empty()) {
+      check->Error(node, "'correct_from' is empty",
+                   "list the metrics whose best value makes a case correct, e.g. "
+                   "[covers_gold, number_match, pattern_match]");
+      return;
+    }
+    suite_->correct_from.clear();
+    for (const SourceNode& item : node.items) {
+      std::string id;
+      if (!ScalarAsString(item, &id)) {
+        check->Error(item, "a metric id must be a name, got " + DescribeNode(item));
+        continue;
+      }
+      if (id == "correct") {
+        check->Error(item, "'correct' cannot be made from itself",
+                     "list the metrics correct is the best of, e.g. covers_gold");
+        continue;
+      }
+      if (!CheckMetricId(item, id, "correct_from", /*per_case=*/true, check)) continue;
+      if (Contains(suite_->correct_from, id)) {
+        check->Error(item, "'" + id + "' is listed twice in 'correct_from'");
+        continue;
+      }
+      suite_->correct_from.push_back(id);
     }
   }
 

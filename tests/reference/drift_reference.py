@@ -49,7 +49,7 @@ from statsmodels.stats.multitest import multipletests
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 from statistics_reference import resample_indices  # noqa: E402
 
-BINARY_KIND = {"exact_match", "correct", "pattern_match", "number_match", "pass_rate"}
+BINARY_KIND = {"exact_match", "correct", "pattern_match", "number_match", "covers_gold", "pass_rate"}
 failures = []
 checks = 0
 

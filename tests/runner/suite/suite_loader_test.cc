@@ -98,10 +98,11 @@ TEST_CASE("unknown key with nothing close: the hint lists the valid keys") {
   const Diagnostic& d = Find(r.errors, "unknown key 'colour'");
   CheckAt(d, suite, 4, 1);
   CHECK(d.message == "unknown key 'colour' at the top level of the suite");
-  // The keys of SPEC §4 plus min_overlap and max_error_rate, in the loader's order.
+  // The keys of SPEC §4 plus correct_from, min_overlap and max_error_rate, in the loader's
+  // order.
   CHECK(d.hint ==
         "valid keys are: plumb, name, corpus, normalize, lang, include, retrieval_k, case_pass, "
-        "min_overlap, max_error_rate, floors, ceilings, pipelines, cases");
+        "correct_from, min_overlap, max_error_rate, floors, ceilings, pipelines, cases");
 }
 
 TEST_CASE("wrong type: expected a list of strings, got a mapping") {
