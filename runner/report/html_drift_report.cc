@@ -625,19 +625,8 @@ std::string RenderDriftPage(const nlohmann::json& drift, const LoadedRun& base,
 
 bool WriteHtmlDriftReport(const nlohmann::json& drift, const LoadedRun& base, const LoadedRun& cand,
                           const std::string& path, std::string* error) {
-  std::string html;
-  try {
-    html = RenderDriftPage(drift, base, cand);
-  } catch (const nlohmann::json::exception& e) {
-    // Only a run.json or drift JSON of an unexpected shape gets here.
-    *error = std::string("cannot build the HTML drift report: unexpected record: ") + e.what();
-    return false;
-  }
-  if (!WriteFileAtomically(path, html, error)) {
-    *error = "cannot write the HTML drift report: " + *error;
-    return false;
-  }
-  return true;
+  return WriteHtmlPage(
+      "HTML drift report", [&] { return RenderDriftPage(drift, base, cand); }, path, error);
 }
 
 }  // namespace plumb

@@ -1,7 +1,10 @@
 #include "runner/report/html_page_assets.h"
 
+#include <nlohmann/json.hpp>
+
 #include "runner/base/sha256.h"
 #include "runner/report/html_escape.h"
+#include "runner/run/run_record.h"
 
 namespace plumb {
 
@@ -503,6 +506,23 @@ void AppendPageEnd(std::string* out) {
       "file makes no network requests.</p></div></footer>\n<script>");
   out->append(kReportScript);
   out->append("</script>\n</body>\n</html>\n");
+}
+
+bool WriteHtmlPage(std::string_view what, const std::function<std::string()>& render,
+                   const std::string& path, std::string* error) {
+  std::string html;
+  try {
+    html = render();
+  } catch (const nlohmann::json::exception& e) {
+    // Only a run.json or drift JSON of an unexpected shape gets here.
+    *error = "cannot build the " + std::string(what) + ": unexpected record: " + e.what();
+    return false;
+  }
+  if (!WriteFileAtomically(path, html, error)) {
+    *error = "cannot write the " + std::string(what) + ": " + *error;
+    return false;
+  }
+  return true;
 }
 
 }  // namespace plumb

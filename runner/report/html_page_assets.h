@@ -59,6 +59,12 @@ void AppendCaseGroup(std::string* out, std::string_view name, std::string_view t
 /// Appends the footer with SPEC §12's caution, the script and the closing tags.
 void AppendPageEnd(std::string* out);
 
+/// Renders a page with `render` and writes it to `path` (WriteFileAtomically: "-" is stdout).
+/// A record of an unexpected shape (nlohmann throws while rendering) or a failed write is false
+/// with a sentence naming `what` ("HTML report", "HTML drift report").
+bool WriteHtmlPage(std::string_view what, const std::function<std::string()>& render,
+                   const std::string& path, std::string* error);
+
 }  // namespace plumb
 
 #endif  // PLUMB_RUNNER_REPORT_HTML_PAGE_ASSETS_H_

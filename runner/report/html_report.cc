@@ -424,19 +424,8 @@ std::string RenderRunPage(const LoadedRun& run) {
 }  // namespace
 
 bool WriteHtmlRunReport(const LoadedRun& run, const std::string& path, std::string* error) {
-  std::string html;
-  try {
-    html = RenderRunPage(run);
-  } catch (const nlohmann::json::exception& e) {
-    // Only a run.json or drift JSON of an unexpected shape gets here.
-    *error = std::string("cannot build the HTML report: unexpected record: ") + e.what();
-    return false;
-  }
-  if (!WriteFileAtomically(path, html, error)) {
-    *error = "cannot write the HTML report: " + *error;
-    return false;
-  }
-  return true;
+  return WriteHtmlPage(
+      "HTML report", [&] { return RenderRunPage(run); }, path, error);
 }
 
 }  // namespace plumb
