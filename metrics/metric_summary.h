@@ -14,11 +14,23 @@ namespace plumb::metrics {
 
 /// Latency over the cases of a run, in milliseconds. Percentiles are definition 7
 /// (percentile.h). All zero when n == 0.
+///
+/// Some values may be lower bounds (right-censored): a call that timed out enters at its
+/// timeout, and took at least that long. Every statistic is then a lower bound of what the
+/// uncensored latencies would give; a percentile is exactly what they would give unless one of
+/// the order statistics its interpolation uses (with a non-zero weight) is a lower bound, and
+/// the `*_at_least` flags say where that is so. A lower bound sorts after an equal measured
+/// value (its true value is at least as large), so ties do not mark a percentile.
 struct LatencySummary {
-  int64_t n = 0;
+  int64_t n = 0;             // every value, lower bounds included
+  int64_t lower_bounds = 0;  // of n
   double p50 = 0, p90 = 0, p95 = 0, p99 = 0, mean = 0, max = 0;
+  bool p50_at_least = false, p90_at_least = false, p95_at_least = false, p99_at_least = false;
+  /// The mean and the max are lower bounds as soon as one value is.
+  bool mean_at_least() const { return lower_bounds > 0; }
 };
-LatencySummary SummarizeLatency(std::vector<double> latencies_ms);
+LatencySummary SummarizeLatency(std::vector<double> latencies_ms,
+                                std::vector<double> lower_bounds_ms = {});
 
 /// A metric's summary. `values` holds one finite value per case where the metric is defined.
 /// The interval is 95%: Wilson (interval.h) when `binary` and every value is exactly 0 or 1, with

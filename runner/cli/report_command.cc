@@ -82,6 +82,17 @@ RunAggregates AggregatesFromRecord(const nlohmann::json& record) {
   run.latency.p99 = Number(l, "p99");
   run.latency.mean = Number(l, "mean");
   run.latency.max = Number(l, "max");
+  // Runs written before timeouts entered the latency have neither key: no lower bounds.
+  run.latency.lower_bounds = Integer(l, "lower_bounds");
+  const nlohmann::json& at_least = At(l, "at_least");
+  if (at_least.is_array()) {
+    for (const nlohmann::json& key : at_least) {
+      run.latency.p50_at_least |= key == "p50";
+      run.latency.p90_at_least |= key == "p90";
+      run.latency.p95_at_least |= key == "p95";
+      run.latency.p99_at_least |= key == "p99";
+    }
+  }
   run.input_tokens = Integer(At(a, "usage"), "input_tokens");
   run.output_tokens = Integer(At(a, "usage"), "output_tokens");
   const nlohmann::json& unstable = At(a, "unstable_cases");

@@ -83,9 +83,9 @@ class MetricLookup {
 };
 
 /// The cases run.json lists, one row each, with their journal records folded in: per metric the
-/// sum and count over repeats, pass counts, latency over the repeats that did not error, and the
-/// lowest repeat's record. Records of cases the run did not select (a journal reused with
-/// another selection) are ignored.
+/// sum and count over repeats, pass counts, latency over the repeats that did not error or timed
+/// out (at their timeout, a lower bound), and the lowest repeat's record. Records of cases the run
+/// did not select (a journal reused with another selection) are ignored.
 struct RunCases {
   size_t metrics = 0;
   std::unordered_map<std::string, uint32_t> row_of;
@@ -95,6 +95,7 @@ struct RunCases {
   std::vector<int> repeats, passes;
   std::vector<double> latency_sum;
   std::vector<int> latency_count;
+  std::vector<int> latency_bounds;  // of latency_count: timeouts
   std::vector<const CaseRecord*> first;
 
   double Value(uint32_t row, size_t m) const {
@@ -128,6 +129,7 @@ RunCases SummarizeCases(const LoadedRun& run, const MetricIndex& index) {
   cases.passes.assign(rows, 0);
   cases.latency_sum.assign(rows, 0);
   cases.latency_count.assign(rows, 0);
+  cases.latency_bounds.assign(rows, 0);
   cases.first.assign(rows, nullptr);
   MetricLookup lookup(index);
   for (const CaseRecord& r : run.records) {
@@ -146,11 +148,12 @@ RunCases SummarizeCases(const LoadedRun& run, const MetricIndex& index) {
     count[pass_rate] += 1;
     cases.repeats[row] += 1;
     cases.passes[row] += r.scores.pass ? 1 : 0;
-    // Latency of a failed call measures the failure (often the timeout), as in the run's own
-    // latency summary.
-    if (r.error.empty()) {
+    // Latency of a failed call measures the failure, as in the run's own latency summary; a
+    // timeout counts, at its timeout, as a lower bound.
+    if (r.error.empty() || r.latency_lower_bound) {
       cases.latency_sum[row] += r.latency_ms;
       cases.latency_count[row] += 1;
+      cases.latency_bounds[row] += r.latency_lower_bound ? 1 : 0;
     }
     if (cases.first[row] == nullptr || r.repeat < cases.first[row]->repeat) cases.first[row] = &r;
   }
@@ -634,6 +637,9 @@ void RegisterLatency(const PairedCases& paired, const RunCases& base, const RunC
     subset.push_back(i);
     lb.push_back(b);
     lc.push_back(c);
+    if (base.latency_bounds[paired.base_row[i]] + cand.latency_bounds[paired.cand_row[i]] > 0) {
+      report->latency_lower_bounds += 1;
+    }
   }
   report->latency_n = static_cast<int64_t>(subset.size());
   if (subset.empty()) return;

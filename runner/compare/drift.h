@@ -12,8 +12,8 @@
 ///   in one run only, and cases whose gold changed, are listed apart and left out of every
 ///   statistic. Paired cases are ordered by id (bytewise), and that order is the bootstrap's
 ///   case index. With --repeat, a case's value of a metric is its mean over the repeats that
-///   define it, its latency the mean over repeats that did not error, and it passes when every
-///   repeat passed.
+///   define it, its latency the mean over repeats that did not error or timed out (a timeout
+///   counts at its timeout, a lower bound), and it passes when every repeat passed.
 /// - A metric is paired on a case when both runs define it there. It is tested as a 0/1 metric
 ///   (exact McNemar on the discordant pairs) when it is one of exact_match, correct,
 ///   pattern_match, number_match, pass_rate and every paired value is exactly 0 or 1; otherwise
@@ -173,6 +173,7 @@ struct DriftReport {
   std::vector<MetricDrift> metrics;  // in display order
   std::vector<TagDrift> tags;        // sorted by tag
   int64_t latency_n = 0;             // paired cases with a latency in both runs
+  int64_t latency_lower_bounds = 0;  // of latency_n: a timeout (a lower bound) in either run
   LatencyDrift latency_p50;
   LatencyDrift latency_p95;
   std::map<std::string, double> min_detectable_effect;  // NaN: n/a, see above

@@ -101,6 +101,7 @@ nlohmann::json DriftReportToJson(const DriftReport& r) {
       {"tags", tags},
       {"latency",
        {{"n", r.latency_n},
+        {"lower_bounds", r.latency_lower_bounds},
         {"p50", LatencyJson(r.latency_p50)},
         {"p95", LatencyJson(r.latency_p95)}}},
       {"min_detectable_effect", mde},

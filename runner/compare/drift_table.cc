@@ -142,6 +142,10 @@ std::string FormatDriftTable(const DriftReport& r, bool colour, bool exit_line) 
                        Num(r.latency_p95.base, "{:.4g}"), Num(r.latency_p95.cand, "{:.4g}"),
                        Num(r.latency_p95.ratio, "{:.3f}"),
                        IntervalText(r.latency_p95.interval, "{:.3f}"), r.latency_n);
+    if (r.latency_lower_bounds > 0) {
+      out += fmt::format("  {:<22} {} of the {} timed out in a run, counted at the timeout\n", "",
+                         r.latency_lower_bounds, r.latency_n);
+    }
   }
   std::string mde;
   for (const MetricDrift& m : r.metrics) {

@@ -48,8 +48,11 @@ struct CallResult {
   std::string stdout_excerpt;  // on error: the start of what the pipeline wrote
   std::string stderr_excerpt;  // the end of what the pipeline wrote to stderr, if any
   double latency_ms = 0;       // request start to full reply (the last attempt)
-  int attempts = 1;            // 2 when a crashed persistent worker was restarted and retried
-  int http_status = 0;         // HTTP adapter only
+  /// The call ran into the pipeline's timeout: `latency_ms` is the timeout, a lower bound of
+  /// the latency (the reply would have taken at least that long), and `error` says so.
+  bool timed_out = false;
+  int attempts = 1;     // 2 when a crashed persistent worker was restarted and retried
+  int http_status = 0;  // HTTP adapter only
 };
 
 class Adapter {

@@ -280,6 +280,7 @@ struct HttpAdapter::Attempted {
   std::optional<std::chrono::milliseconds> retry_after;
   std::string error;
   double latency_ms = 0;
+  bool timed_out = false;  // the server took the request and did not answer within the timeout
 };
 
 HttpAdapter::HttpAdapter(const PipelineConfig& config, const Options& options)
@@ -510,6 +511,7 @@ HttpAdapter::Attempted HttpAdapter::Attempt(Transfer& t, const std::string& url)
       } else {
         a.error = "timed out after " + FormatDuration(timeout_);
         a.service_failed = true;
+        a.timed_out = true;
       }
       return a;
     }
@@ -605,8 +607,14 @@ CallResult HttpAdapter::Call(const PipelineRequest& request, int slot) {
       if (attempt > 1) error += " (after " + std::to_string(attempt) + " attempts)";
       result.error = Redact(std::move(error));
       result.stdout_excerpt = HeadExcerpt(t.response, kExcerptBytes, secrets_);
-      // No reply arrived, so there is no latency to report (as for the subprocess adapter).
-      if (a.status == 0) result.latency_ms = 0;
+      // No reply arrived, so there is no latency to report (as for the subprocess adapter),
+      // except after a timeout: the reply would have taken at least that long.
+      if (a.timed_out) {
+        result.timed_out = true;
+        result.latency_ms = static_cast<double>(timeout_.count());
+      } else if (a.status == 0) {
+        result.latency_ms = 0;
+      }
       return result;
     }
     ++retries_waiting_;

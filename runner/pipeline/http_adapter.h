@@ -86,7 +86,8 @@ class HttpAdapter : public Adapter {
   int slots() const override { return static_cast<int>(slots_.size()); }
 
   /// Renders and sends `request`, retrying as configured; blocks until the reply or the final
-  /// failure. `latency_ms` runs from the start of the final attempt to the full reply body.
+  /// failure. `latency_ms` runs from the start of the final attempt to the full reply body; a
+  /// final attempt that timed out sets `timed_out` and gives the timeout (a lower bound).
   CallResult Call(const PipelineRequest& request, int slot) override;
 
   /// Aborts every transfer, wakes every waiting Call and stops the event loop.

@@ -327,7 +327,13 @@ CallResult SubprocessAdapter::Call(const PipelineRequest& request, int index) {
     slot.out_of_step = false;
   }
   // A call cut short by Shutdown fails for that reason, whatever the process was doing.
-  if (outcome != Outcome::kReply && interrupted_) result.error = "run interrupted";
+  if (outcome != Outcome::kReply && interrupted_) {
+    result.error = "run interrupted";
+  } else if (outcome == Outcome::kTimeout) {
+    // It took at least the timeout: the latency distribution keeps it, as a lower bound.
+    result.timed_out = true;
+    result.latency_ms = static_cast<double>(timeout_.count());
+  }
   FillExcerpts(slot, outcome != Outcome::kReply, &result);
   if (slot.out.capacity() > kKeptBufferBytes) slot.out.Release();
   return result;

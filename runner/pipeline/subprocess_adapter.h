@@ -74,8 +74,9 @@ class SubprocessAdapter : public Adapter {
   /// `stdout_excerpt` is the start of what stdout produced for this call and `stderr_excerpt` the
   /// end of the slot's stderr; on success `stderr_excerpt` holds the end of what stderr produced
   /// during the call, if anything. Both are at most kExcerptBytes and redacted of
-  /// config.secrets. `latency_ms` runs from the start of the request write to the full reply
-  /// (0 when the call failed: there was no reply).
+  /// config.secrets. `latency_ms` runs from the start of the request write to the full reply;
+  /// a call that timed out has `timed_out` set and the timeout as its latency (a lower bound);
+  /// any other failure has 0 (there was no reply).
   CallResult Call(const PipelineRequest& request, int slot) override;
 
   /// Interrupts running Calls, then closes the stdin of every process, gives them

@@ -347,7 +347,9 @@ void CaseCardWriter::AppendScores(std::string* out, const CaseRecord& record) co
   }
   out->append("</dl><p class=\"meta\">");
   out->append(record.error.empty() ? "latency " + FormatMilliseconds(record.latency_ms)
-                                   : "failed after " + FormatMilliseconds(record.latency_ms));
+              : record.latency_lower_bound
+                  ? "latency at least " + FormatMilliseconds(record.latency_ms) + " (timed out)"
+                  : "failed after " + FormatMilliseconds(record.latency_ms));
   out->append(" \xC2\xB7 attempts " + std::to_string(record.attempts));
   if (record.parsed.input_tokens || record.parsed.output_tokens) {
     out->append(" \xC2\xB7 tokens in " +

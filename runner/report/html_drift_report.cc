@@ -380,7 +380,7 @@ void AppendMetricTable(std::string* out, const nlohmann::json& drift) {
     out->append(": ");
     bool first = true;
     for (const auto& [key, value] : latency.items()) {
-      if (key == "n") continue;
+      if (key == "n" || (key == "lower_bounds" && value == 0)) continue;
       if (!first) out->append(" \xC2\xB7 ");
       first = false;
       AppendHtmlText(out, key);

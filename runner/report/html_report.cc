@@ -224,13 +224,23 @@ void AppendScoresTable(std::string* out, const nlohmann::json& record) {
   out->append("</tbody></table>");
   const nlohmann::json latency = aggregates.value("latency_ms", nlohmann::json::object());
   if (latency.value("n", int64_t{0}) > 0) {
-    out->append("<p class=\"note\">Latency over " + std::to_string(latency.value("n", int64_t{0})) +
-                " replies that did not error: ");
+    const int64_t lower_bounds = latency.value("lower_bounds", int64_t{0});
+    out->append("<p class=\"note\">Latency over " +
+                std::to_string(latency.value("n", int64_t{0}) - lower_bounds) +
+                " replies that did not error");
+    if (lower_bounds > 0) {
+      out->append(" and " + std::to_string(lower_bounds) +
+                  " timed out (counted at their timeout, as lower bounds)");
+    }
+    out->append(": ");
+    const nlohmann::json at_least = latency.value("at_least", nlohmann::json::array());
     bool first = true;
     for (const char* key : {"p50", "p90", "p95", "p99", "mean", "max"}) {
       if (!first) out->append(" \xC2\xB7 ");
       first = false;
-      out->append(std::string(key) + " " + FormatMilliseconds(latency.value(key, 0.0)));
+      const bool bound = std::find(at_least.begin(), at_least.end(), key) != at_least.end();
+      out->append(std::string(key) + (bound ? " at least " : " ") +
+                  FormatMilliseconds(latency.value(key, 0.0)));
     }
     out->append(".");
     const nlohmann::json usage = aggregates.value("usage", nlohmann::json::object());

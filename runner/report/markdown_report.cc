@@ -170,9 +170,20 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
   }
   const nlohmann::json& latency = JsonAt(aggregates, "latency_ms");
   if (JsonNumber(latency, "n") > 0) {
-    out += fmt::format("\nLatency: p50 {} ms, p95 {} ms (n {})\n",
-                       Fixed(JsonNumber(latency, "p50"), 1), Fixed(JsonNumber(latency, "p95"), 1),
-                       Count(latency, "n"));
+    // A percentile a timed-out call reaches is a lower bound.
+    auto at_least = [&](const char* key) {
+      const nlohmann::json& keys = JsonAt(latency, "at_least");
+      return keys.is_array() && std::find(keys.begin(), keys.end(), key) != keys.end() ? "at least "
+                                                                                       : "";
+    };
+    out += fmt::format("\nLatency: p50 {}{} ms, p95 {}{} ms (n {}", at_least("p50"),
+                       Fixed(JsonNumber(latency, "p50"), 1), at_least("p95"),
+                       Fixed(JsonNumber(latency, "p95"), 1), Count(latency, "n"));
+    if (JsonNumber(latency, "lower_bounds") > 0) {
+      out +=
+          fmt::format(", {} timed out, counted at their timeout", Count(latency, "lower_bounds"));
+    }
+    out += ")\n";
   }
   if (thresholds.is_array()) {
     std::string tag_floors;

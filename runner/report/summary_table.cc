@@ -44,10 +44,19 @@ std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
 
   const metrics::LatencySummary& l = run.latency;
   if (l.n > 0) {
-    out += fmt::format(
-        "\n  {:<20} p50 {:.2f}  p90 {:.2f}  p95 {:.2f}  p99 {:.2f}  mean {:.2f}  max {:.2f}  "
-        "(n {})\n",
-        "latency ms", l.p50, l.p90, l.p95, l.p99, l.mean, l.max, l.n);
+    // A statistic a timed-out call reaches is only a lower bound: "p95 at least 2000.00".
+    auto stat = [](const char* name, double value, bool at_least) {
+      return fmt::format("{} {}{:.2f}", name, at_least ? "at least " : "", value);
+    };
+    out += fmt::format("\n  {:<20} {}  {}  {}  {}  {}  {}  (n {})\n", "latency ms",
+                       stat("p50", l.p50, l.p50_at_least), stat("p90", l.p90, l.p90_at_least),
+                       stat("p95", l.p95, l.p95_at_least), stat("p99", l.p99, l.p99_at_least),
+                       stat("mean", l.mean, l.mean_at_least()),
+                       stat("max", l.max, l.mean_at_least()), l.n);
+    if (l.lower_bounds > 0) {
+      out += fmt::format("  {:<20} {} of {}, counted at their timeout as lower bounds\n",
+                         "timed out", l.lower_bounds, l.n);
+    }
   }
   for (const ThresholdOutcome& t : thresholds) {
     if (!t.tag.empty() || (t.metric != "latency_p50_ms" && t.metric != "latency_p95_ms")) continue;

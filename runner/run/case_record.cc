@@ -46,7 +46,9 @@ void BeginCaseRecord(std::string_view id, int repeat, JsonWriter* out) {
 
 void EndCaseRecord(const CaseRecord& r, JsonWriter* out) {
   JsonWriter& w = *out;
-  w.PlainKey("latency_ms").Double(r.latency_ms).PlainKey("attempts").Int(r.attempts);
+  w.PlainKey("latency_ms").Double(r.latency_ms);
+  if (r.latency_lower_bound) w.PlainKey("latency_lower_bound").Bool(true);
+  w.PlainKey("attempts").Int(r.attempts);
   // The service's own timing, when the pipeline's `reply:` block maps it.
   if (r.error.empty() && r.parsed.service_latency_ms) {
     w.PlainKey("service_latency_ms").Double(*r.parsed.service_latency_ms);
@@ -104,6 +106,7 @@ bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* 
                      .dump(-1, ' ', false, nlohmann::json::error_handler_t::replace);
     r->response = json.value("response", nlohmann::json());
     r->latency_ms = json.at("latency_ms").get<double>();
+    r->latency_lower_bound = json.value("latency_lower_bound", false);
     r->attempts = json.value("attempts", 1);
     const nlohmann::json& err = json.at("error");
     if (!err.is_null()) {

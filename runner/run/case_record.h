@@ -27,6 +27,7 @@ struct CaseRecord {
   nlohmann::json response;  // the parsed reply, or {"excerpt", "bytes"} when large or invalid
   Response parsed;          // empty when the call errored
   double latency_ms = 0;
+  bool latency_lower_bound = false;  // the call timed out: latency_ms is its timeout
   int attempts = 1;
   std::string error;  // empty when the reply was valid
   std::string stdout_excerpt;

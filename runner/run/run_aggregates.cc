@@ -160,7 +160,7 @@ const metrics::MetricSummary* RunAggregates::Find(const std::string& metric,
 RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& outcomes) {
   RunAggregates run;
   std::vector<CaseValues> per_case(suite.cases.size());
-  std::vector<double> latencies;
+  std::vector<double> latencies, lower_bounds;
   latencies.reserve(outcomes.size());
   for (const CaseOutcome& o : outcomes) {
     CaseValues& v = per_case[o.case_index];
@@ -171,12 +171,17 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
     v.abstentions += o.scores.abstained && !o.scores.errored ? 1 : 0;
     run.items += 1;
     run.errored += o.scores.errored ? 1 : 0;
-    // Latency of a failed call measures the failure (often the timeout), not the pipeline.
-    if (!o.scores.errored) latencies.push_back(o.latency_ms);
+    // Latency of a failed call measures the failure, not the pipeline; but a call that timed
+    // out took at least its timeout, and leaving it out would flatter a pipeline that hangs.
+    if (!o.scores.errored) {
+      latencies.push_back(o.latency_ms);
+    } else if (o.latency_lower_bound) {
+      lower_bounds.push_back(o.latency_ms);
+    }
     run.input_tokens += o.input_tokens;
     run.output_tokens += o.output_tokens;
   }
-  run.latency = metrics::SummarizeLatency(std::move(latencies));
+  run.latency = metrics::SummarizeLatency(std::move(latencies), std::move(lower_bounds));
 
   // groups[0] holds the whole run's cases, then one group per tag in order of first
   // appearance (tag_groups has them sorted); each is summarized on its own.
@@ -294,6 +299,18 @@ nlohmann::json SummaryToJson(const metrics::MetricSummary& s) {
           {"interval_method", s.wilson ? "wilson" : "bootstrap"}};
 }
 
+/// The latency statistics that are only lower bounds (a timeout reaches them), by key.
+nlohmann::json AtLeastKeys(const metrics::LatencySummary& l) {
+  nlohmann::json keys = nlohmann::json::array();
+  const std::pair<const char*, bool> flags[] = {
+      {"p50", l.p50_at_least}, {"p90", l.p90_at_least},     {"p95", l.p95_at_least},
+      {"p99", l.p99_at_least}, {"mean", l.mean_at_least()}, {"max", l.mean_at_least()}};
+  for (const auto& [key, at_least] : flags) {
+    if (at_least) keys.push_back(key);
+  }
+  return keys;
+}
+
 nlohmann::json MetricsToJson(const std::vector<MetricAggregate>& list) {
   nlohmann::json out = nlohmann::json::object();
   for (const MetricAggregate& m : list) out[m.metric] = SummaryToJson(m.summary);
@@ -316,6 +333,8 @@ nlohmann::json AggregatesToJson(const RunAggregates& run) {
           {"tags", tags},
           {"latency_ms",
            {{"n", l.n},
+            {"lower_bounds", l.lower_bounds},
+            {"at_least", AtLeastKeys(l)},
             {"p50", l.p50},
             {"p90", l.p90},
             {"p95", l.p95},

@@ -38,7 +38,7 @@ struct RunAggregates {
   int64_t passed = 0;                    // cases whose every repeat passed
   std::vector<MetricAggregate> metrics;  // in display order
   std::vector<TagAggregate> tags;        // sorted by tag
-  metrics::LatencySummary latency;       // over items that did not error
+  metrics::LatencySummary latency;       // items that did not error, and timeouts as lower bounds
   int64_t input_tokens = 0;
   int64_t output_tokens = 0;
   std::vector<std::string> unstable_cases;  // pass/fail differs between repeats

@@ -23,6 +23,7 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
   record.repeat = repeat;
   record.request = PipelineRequest::RequestLine(c.id, c.question, c.input, repeat);
   record.latency_ms = call.latency_ms;
+  record.latency_lower_bound = call.timed_out;
   record.attempts = call.attempts;
   // A pipeline may echo a secret it was given, as is or JSON-escaped; nothing it says reaches a
   // file unredacted. The reply is parsed as sent and its decoded strings are redacted (a mask
@@ -78,6 +79,7 @@ CaseOutcome OutcomeOf(const CaseRecord& record, size_t case_index) {
   outcome.repeat = record.repeat;
   outcome.scores = record.scores;
   outcome.latency_ms = record.latency_ms;
+  outcome.latency_lower_bound = record.latency_lower_bound;
   outcome.attempts = record.attempts;
   outcome.input_tokens = record.parsed.input_tokens.value_or(0);
   outcome.output_tokens = record.parsed.output_tokens.value_or(0);

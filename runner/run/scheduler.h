@@ -34,6 +34,7 @@ struct CaseOutcome {
   int repeat = 0;
   CaseScores scores;
   double latency_ms = 0;
+  bool latency_lower_bound = false;  // timed out: latency_ms is the timeout
   int attempts = 1;
   int64_t input_tokens = 0;
   int64_t output_tokens = 0;

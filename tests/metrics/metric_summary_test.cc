@@ -33,6 +33,52 @@ TEST_CASE("Latency summary of no cases is all zero", "[metric_summary]") {
   CHECK(s.max == 0);
 }
 
+TEST_CASE("A timed-out call enters at its timeout and marks the percentiles it reaches",
+          "[metric_summary]") {
+  // Measured 10, 20, ..., 90 ms and one call that timed out at 100 ms. numpy.percentile([10, 20,
+  // ..., 100], [50, 90, 95, 99]) gives 55, 91, 95.5 (95.49999999999999), 99.1, and the mean is
+  // 55: the lower bound counts at its value. Definition 7 (h = 9 p / 100) reads p50 between the
+  // 5th and 6th values, both measured, so p50 is exact; p90, p95 and p99 interpolate towards the
+  // 10th value, the lower bound, with a non-zero weight, so they are "at least".
+  const LatencySummary s = SummarizeLatency({90, 10, 80, 20, 70, 30, 60, 40, 50}, {100});
+  CHECK(s.n == 10);
+  CHECK(s.lower_bounds == 1);
+  CHECK(s.p50 == 55);
+  CHECK(s.p90 == Approx(91).epsilon(1e-15));
+  CHECK(s.p95 == Approx(95.5).epsilon(1e-15));
+  CHECK(s.p99 == Approx(99.1).epsilon(1e-15));
+  CHECK(s.mean == 55);
+  CHECK(s.max == 100);
+  CHECK_FALSE(s.p50_at_least);
+  CHECK(s.p90_at_least);
+  CHECK(s.p95_at_least);
+  CHECK(s.p99_at_least);
+  CHECK(s.mean_at_least());
+}
+
+TEST_CASE("A lower bound equal to a measured value sorts after it", "[metric_summary]") {
+  // Measured 10, 20, 100 and a timeout at 100: sorted 10, 20, 100, 100 (the bound last). p50
+  // (h = 1.5) uses 20 and the measured 100: exact, 60 (numpy). p90 (h = 2.7) reaches the bound.
+  // Percentiles landing exactly on a measured value (gamma 0) stay exact: of 1, 2, 3, 4 and a
+  // bound at 9, p50 is the 3rd value, 3.
+  const LatencySummary s = SummarizeLatency({100, 10, 20}, {100});
+  CHECK(s.p50 == 60);
+  CHECK_FALSE(s.p50_at_least);
+  CHECK(s.p90 == 100);
+  CHECK(s.p90_at_least);
+  const LatencySummary t = SummarizeLatency({1, 2, 3, 4}, {9});
+  CHECK(t.p50 == 3);
+  CHECK_FALSE(t.p50_at_least);
+  CHECK(t.p90_at_least);
+}
+
+TEST_CASE("Without lower bounds no statistic is marked", "[metric_summary]") {
+  const LatencySummary s = SummarizeLatency({40, 10, 30, 20});
+  CHECK(s.lower_bounds == 0);
+  CHECK_FALSE(s.p99_at_least);
+  CHECK_FALSE(s.mean_at_least());
+}
+
 TEST_CASE("A 0/1 metric gets the Wilson interval of its successes", "[metric_summary]") {
   // 8 of 10 correct: mean 0.8 and the Wilson interval worked in interval_test.cc,
   // [0.49016247153664183, 0.9433178485456247].

@@ -196,7 +196,8 @@ TEST_CASE("plumb score scores recorded replies with SQuAD EM and F1") {
   const nlohmann::json m = nlohmann::json::parse(r.out)["aggregates"]["metrics"];
   // The record's layout: indented, but each case entry on one line (README, Run directory).
   CHECK(r.out.find("\n  \"aggregates\": {\n    \"cases\": 3,\n") != std::string::npos);
-  CHECK(r.out.find("\n    \"latency_ms\": {\n      \"max\": ") != std::string::npos);
+  CHECK(r.out.find("\n    \"latency_ms\": {\n      \"at_least\": [],\n      \"lower_bounds\": 0,\n"
+                   "      \"max\": ") != std::string::npos);
   CHECK(r.out.find("\n    \"a\": {\"gold_hash\":\"") != std::string::npos);
   CHECK(r.out.find("\"answers\":[\"ten minutes\"],\"patterns\":[],\"tags\":[],"
                    "\"sources\":[],\"line\":4,\"index\":0},\n    \"b\": {") != std::string::npos);

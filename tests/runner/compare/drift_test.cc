@@ -34,6 +34,7 @@ struct Item {
   std::string gold_hash = "gold";
   std::string answer = "an answer";
   std::string error = "";
+  bool latency_lower_bound = false;
 };
 
 /// A finished run of suite `suite` whose journal holds `items` (run.json lists every id once,
@@ -59,6 +60,7 @@ LoadedRun MakeRun(const std::vector<Item>& items, const std::string& suite = "fi
     r.id = item.id;
     r.repeat = item.repeat;
     r.latency_ms = item.latency_ms;
+    r.latency_lower_bound = item.latency_lower_bound;
     r.error = item.error;
     if (item.error.empty()) r.parsed.answer = item.answer;
     r.scores.values = item.scores;
@@ -268,6 +270,8 @@ TEST_CASE("with repeats a case's value is its mean over repeats, and split outco
 }
 
 TEST_CASE("latency pairs only cases that did not error on either side") {
+  // A failure not marked as a timeout's lower bound (any other error, or a journal written
+  // before timeouts entered the latency) leaves the case out of the latency pairs.
   Item ok = Scored("a", 1, 1), failed = Scored("b", 0, 0), b2 = Scored("b", 1, 1);
   failed.error = "timed out after 30000 ms";
   failed.latency_ms = 30000;
@@ -277,6 +281,21 @@ TEST_CASE("latency pairs only cases that did not error on either side") {
   REQUIRE(r.lost.size() == 1);
   CHECK(r.lost[0].cand_error == "timed out after 30000 ms");
   CHECK_FALSE(r.lost[0].cand_answer.has_value());
+}
+
+TEST_CASE("a timeout pairs its latency at the timeout, as a lower bound") {
+  // Base: a at 100 ms, b at 100 ms. Candidate: a at 100 ms, b timed out at 30000 ms. Both pairs
+  // count; the candidate's p95 over {100, 30000} is 100 + 0.95 * 29900 = 28505 (definition 7),
+  // and one paired case has a lower bound.
+  Item ok = Scored("a", 1, 1), b = Scored("b", 1, 1), timed_out = Scored("b", 0, 0);
+  timed_out.error = "timed out after 30s";
+  timed_out.latency_ms = 30000;
+  timed_out.latency_lower_bound = true;
+  const DriftReport r = Drift(MakeRun({ok, b}), MakeRun({ok, timed_out}));
+  CHECK(r.latency_n == 2);
+  CHECK(r.latency_lower_bounds == 1);
+  CHECK(r.latency_p95.cand == Approx(28505).epsilon(1e-12));
+  CHECK(r.latency_p95.ratio == Approx(285.05).epsilon(1e-12));
 }
 
 TEST_CASE("the gate: gated regressions and broken candidate floors exit 1") {

@@ -289,6 +289,9 @@ TEST_CASE("a server that never answers costs the timeout once") {
   CHECK(r.error == "timed out after 300ms");
   CHECK(r.attempts == 1);
   CHECK(r.http_status == 0);
+  // The latency is the timeout, marked as a lower bound (the reply would have taken longer).
+  CHECK(r.timed_out);
+  CHECK(r.latency_ms == 300);
   CHECK(Arrivals(*server, "hang:c").size() == 1);
 }
 

@@ -197,6 +197,9 @@ TEST_CASE("a hung pipeline times out and its whole process group is killed", "[s
       const double seconds = SecondsSince(start);
       CHECK(result.error == "timed out after 300ms");
       CHECK(result.attempts == 1);  // timeouts are not retried
+      // It took at least the timeout: the latency is the timeout, marked as a lower bound.
+      CHECK(result.timed_out);
+      CHECK(result.latency_ms == 300);
       CHECK(seconds >= 0.3);
       if (ignore_term) CHECK(seconds >= 0.3 + 0.5);  // SIGTERM ignored: SIGKILL after the grace
       CHECK(seconds < 10);                           // far above 0.8 s: it did not hang
@@ -210,6 +213,7 @@ TEST_CASE("a hung pipeline times out and its whole process group is killed", "[s
       const CallResult next = adapter->Call(Ask("answer this"), 0);
       CHECK(next.error.empty());
       CHECK(next.body == Echo("answer this"));
+      CHECK_FALSE(next.timed_out);
     }
   }
 }
