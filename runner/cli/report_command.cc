@@ -4,7 +4,9 @@
 
 #include "runner/compare/drift.h"
 #include "runner/report/summary_table.h"
+#include "runner/run/error_reasons.h"
 #include "runner/run/exit_code.h"
+#include "runner/run/run_failures.h"
 #include "runner/run/run_record.h"
 
 namespace plumb {
@@ -151,6 +153,8 @@ int ReportCommand(const ReportOptions& options) {
   // The recorded verdict is the exit code: after `run --baseline` it includes the gate.
   const int recorded = RecordedExitCode(run.record);
   if (options.json) {
+    // A run recorded before causes were gets its breakdown computed from the journal.
+    if (!run.record.contains("failures")) run.record["failures"] = RunFailures(run);
     std::printf("%s\n", run.record.dump(2).c_str());
     return recorded;
   }
@@ -166,8 +170,15 @@ int ReportCommand(const ReportOptions& options) {
   // The note goes first, so the verdict stays the last line, as after the run itself.
   std::printf("recorded run %s (started %s); nothing was re-run\n\n", options.run_dir.c_str(),
               Text(r, "started_at").c_str());
-  std::fputs(FormatSummary(header, AggregatesFromRecord(r), ThresholdsFromRecord(r), verdict,
-                           UseColour(stdout))
+  RunAggregates aggregates = AggregatesFromRecord(r);
+  aggregates.causes = RunCauseBreakdown(run);
+  std::string reasons;
+  if (aggregates.errored > 0) {
+    reasons = FormatErrorReasons(CountErrorReasons(options.run_dir + "/cases.jsonl", 5),
+                                 aggregates.errored);
+  }
+  std::fputs(FormatSummary(header, aggregates, ThresholdsFromRecord(r), verdict, UseColour(stdout),
+                           /*exit_line=*/true, reasons)
                  .c_str(),
              stdout);
   return recorded;

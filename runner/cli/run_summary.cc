@@ -49,12 +49,14 @@ bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, boo
   if (!json) {
     SummaryHeader header{suite.name, context.pipeline_name, seconds, context.repeat};
     const bool colour = UseColour(stdout);
-    std::string text = FormatSummary(header, aggregates, thresholds, finished->verdict, colour,
-                                     /*exit_line=*/false);
+    // The error reasons go under the errored cause, near the top.
+    std::string reasons;
     if (aggregates.errored > 0 && !run_dir.empty()) {
-      text += "\n" + FormatErrorReasons(CountErrorReasons(run_dir + "/cases.jsonl", 5),
-                                        aggregates.errored);
+      reasons =
+          FormatErrorReasons(CountErrorReasons(run_dir + "/cases.jsonl", 5), aggregates.errored);
     }
+    std::string text = FormatSummary(header, aggregates, thresholds, finished->verdict, colour,
+                                     /*exit_line=*/false, reasons);
     if (!run_dir.empty() && !interrupted) text += "\nrun written to " + run_dir + "\n";
     if (exit_line) {
       text += FormatExitLine(finished->verdict, colour);

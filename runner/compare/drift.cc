@@ -6,6 +6,7 @@
 #include <cmath>
 #include <cstring>
 #include <limits>
+#include <map>
 #include <set>
 #include <unordered_map>
 
@@ -14,6 +15,7 @@
 #include "metrics/percentile.h"
 #include "metrics/seeded_random.h"
 #include "runner/run/exit_code.h"
+#include "runner/run/failure_reason.h"
 
 namespace plumb {
 namespace {
@@ -97,6 +99,8 @@ struct RunCases {
   std::vector<int> latency_count;
   std::vector<int> latency_bounds;  // of latency_count: timeouts
   std::vector<const CaseRecord*> first;
+  std::vector<const CaseRecord*> first_failed;  // null when every repeat passed
+  std::map<std::string, double> case_pass;
 
   double Value(uint32_t row, size_t m) const {
     const size_t k = row * metrics + m;
@@ -131,6 +135,8 @@ RunCases SummarizeCases(const LoadedRun& run, const MetricIndex& index) {
   cases.latency_count.assign(rows, 0);
   cases.latency_bounds.assign(rows, 0);
   cases.first.assign(rows, nullptr);
+  cases.first_failed.assign(rows, nullptr);
+  cases.case_pass = run.CasePass();
   MetricLookup lookup(index);
   for (const CaseRecord& r : run.records) {
     auto it = cases.row_of.find(r.id);
@@ -156,6 +162,8 @@ RunCases SummarizeCases(const LoadedRun& run, const MetricIndex& index) {
       cases.latency_bounds[row] += r.latency_lower_bound ? 1 : 0;
     }
     if (cases.first[row] == nullptr || r.repeat < cases.first[row]->repeat) cases.first[row] = &r;
+    const CaseRecord*& failed = cases.first_failed[row];
+    if (!r.scores.pass && (failed == nullptr || r.repeat < failed->repeat)) failed = &r;
   }
   return cases;
 }
@@ -778,6 +786,26 @@ void ListChangedCases(const PairedCases& paired, const RunCases& base, const Run
       if (!std::isnan(b) && !std::isnan(c)) change.deltas[paired.names[m]] = c - b;
     }
     if (missing) change.cand_error = "missing from the candidate run (counted as lost)";
+    // A case the candidate lacks is scored as an errored case (drift.h), so that is its cause.
+    const CaseRecord* base_failed = base.first_failed[paired.base_row[i]];
+    const CaseRecord* cand_failed = missing ? nullptr : cand.first_failed[paired.cand_row[i]];
+    if (base_failed != nullptr) {
+      change.base_cause = base_failed->scores.cause;
+      change.base_reason = FailureReason(*base_failed, base.case_pass);
+    }
+    if (missing) {
+      change.cand_cause = FailureCause::kErrored;
+      change.cand_reason = change.cand_error;
+    } else if (cand_failed != nullptr) {
+      change.cand_cause = cand_failed->scores.cause;
+      change.cand_reason = FailureReason(*cand_failed, cand.case_pass);
+    }
+    const nlohmann::json* gold = base.gold[paired.base_row[i]];
+    if (gold != nullptr && gold->is_object() && gold->contains("answers")) {
+      for (const nlohmann::json& answer : (*gold)["answers"]) {
+        if (answer.is_string()) change.gold.push_back(answer.get<std::string>());
+      }
+    }
     for (int run = 0; run < 2; ++run) {
       if (run == 1 && missing) continue;
       const CaseRecord* first =
@@ -1038,6 +1066,9 @@ bool ComputeDrift(const LoadedRun& base, const LoadedRun& cand, const DriftOptio
   }
   AdjustTags(names, options.min_effect, &report->tags);
   ListChangedCases(paired, base_cases, cand_cases, options.gate, report);
+  std::vector<FailureCause> lost_causes;
+  for (const CaseChange& c : report->lost) lost_causes.push_back(c.cand_cause);
+  report->lost_causes = BreakDownCauses(lost_causes);
 
   std::set<std::string> unstable;
   for (const RunCases* cases : {&base_cases, &cand_cases}) {

@@ -65,6 +65,8 @@
 #include <vector>
 
 #include "metrics/interval.h"
+#include "runner/run/cause_breakdown.h"
+#include "runner/run/failure_cause.h"
 #include "runner/run/run_reader.h"
 
 namespace plumb {
@@ -137,6 +139,13 @@ struct CaseChange {
   std::optional<std::string> cand_answer;
   std::string base_error;  // first repeat's error, empty when it did not error
   std::string cand_error;
+  /// Why the run that failed the case failed it (runner/run/failure_cause.h): cand_cause for a
+  /// lost case, base_cause for a gained one; kNone on the side that passed.
+  FailureCause base_cause = FailureCause::kNone;
+  FailureCause cand_cause = FailureCause::kNone;
+  std::string base_reason;  // FailureReason of the failing side (runner/run/failure_reason.h)
+  std::string cand_reason;
+  std::vector<std::string> gold;  // the base's gold answers; empty: the gold is to abstain
 };
 
 /// What identifies a run in the report.
@@ -180,9 +189,11 @@ struct DriftReport {
   /// The family correction, one sentence for the reports, e.g. "Holm over the 3 gated metrics
   /// correct, token_f1, citation_recall".
   std::string correction;
-  std::vector<std::string> family;    // the gated metrics Holm adjusted together
-  std::vector<CaseChange> lost;       // pass -> fail, largest drop of the gated metrics first
-  std::vector<CaseChange> gained;     // fail -> pass, largest gain first
+  std::vector<std::string> family;  // the gated metrics Holm adjusted together
+  std::vector<CaseChange> lost;     // pass -> fail, largest drop of the gated metrics first
+  std::vector<CaseChange> gained;   // fail -> pass, largest gain first
+  /// The lost cases counted by their candidate cause (shares and intervals of the lost count).
+  CauseBreakdown lost_causes;
   std::vector<std::string> unstable;  // pass/fail differs between repeats, in either run
   int base_repeat = 1;
   int cand_repeat = 1;

@@ -53,6 +53,11 @@ nlohmann::json OptionalText(const std::optional<std::string>& text) {
   return text ? nlohmann::json(*text) : nlohmann::json();
 }
 
+nlohmann::json CauseJson(FailureCause cause) {
+  return cause == FailureCause::kNone ? nlohmann::json()
+                                      : nlohmann::json(std::string(FailureCauseId(cause)));
+}
+
 nlohmann::json ChangesJson(const std::vector<CaseChange>& changes) {
   nlohmann::json out = nlohmann::json::array();
   for (const CaseChange& c : changes) {
@@ -64,7 +69,12 @@ nlohmann::json ChangesJson(const std::vector<CaseChange>& changes) {
          {"base_answer", OptionalText(c.base_answer)},
          {"cand_answer", OptionalText(c.cand_answer)},
          {"base_error", c.base_error.empty() ? nlohmann::json() : nlohmann::json(c.base_error)},
-         {"cand_error", c.cand_error.empty() ? nlohmann::json() : nlohmann::json(c.cand_error)}});
+         {"cand_error", c.cand_error.empty() ? nlohmann::json() : nlohmann::json(c.cand_error)},
+         {"base_cause", CauseJson(c.base_cause)},
+         {"cand_cause", CauseJson(c.cand_cause)},
+         {"base_reason", c.base_reason.empty() ? nlohmann::json() : nlohmann::json(c.base_reason)},
+         {"cand_reason", c.cand_reason.empty() ? nlohmann::json() : nlohmann::json(c.cand_reason)},
+         {"gold", c.gold}});
   }
   return out;
 }
@@ -106,6 +116,8 @@ nlohmann::json DriftReportToJson(const DriftReport& r) {
         {"p95", LatencyJson(r.latency_p95)}}},
       {"min_detectable_effect", mde},
       {"lost", ChangesJson(r.lost)},
+      // The lost cases by the candidate's cause; shares and intervals are of the lost count.
+      {"lost_by_cause", CauseBreakdownToJson(r.lost_causes)},
       {"gained", ChangesJson(r.gained)},
       {"unstable", r.unstable},
       {"repeat", {{"base", r.base_repeat}, {"cand", r.cand_repeat}}},

@@ -106,6 +106,11 @@ std::string FormatDriftTable(const DriftReport& r, bool colour, bool exit_line) 
     out += fmt::format("  left out: {} only in base, {} only in cand, {} with changed gold\n",
                        left_out_base, r.only_in_cand.size(), r.gold_changed.size());
   }
+  // Why the lost cases fail now, before the metric table: the first question about a drop.
+  if (!r.lost.empty()) {
+    out += fmt::format("  {}lost {}{}: {}\n", p.bad, r.lost.size(), p.reset,
+                       CauseCountsText(r.lost_causes));
+  }
   std::string changed;
   if (r.suite_changed) changed += "suite, ";
   if (r.corpus_changed) changed += "corpus, ";
@@ -184,8 +189,11 @@ std::string FormatDriftTable(const DriftReport& r, bool colour, bool exit_line) 
     out += fmt::format("\n  {} {} case(s){}:\n", list.size(), title,
                        list.size() > kShownCases ? fmt::format(", first {}", kShownCases) : "");
     for (size_t k = 0; k < std::min(kShownCases, list.size()); ++k) {
-      out += fmt::format("    {:<32} {}\n", Plain(list[k].id, 32),
-                         DeltasText(list[k], r.options.gate));
+      const CaseChange& c = list[k];
+      // A lost case shows why the candidate fails it; a gained one why the base failed it.
+      const FailureCause cause = c.cand_cause != FailureCause::kNone ? c.cand_cause : c.base_cause;
+      out += fmt::format("    {:<32} {:<22} {}\n", Plain(c.id, 32), FailureCauseLabel(cause),
+                         DeltasText(c, r.options.gate));
     }
   };
   cases("lost (pass -> fail)", r.lost);

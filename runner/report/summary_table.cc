@@ -30,14 +30,32 @@ void AppendMetricRows(std::string* out, const std::vector<MetricAggregate>& metr
 
 }  // namespace
 
+std::string FormatCauseRows(const CauseBreakdown& causes, const Palette& p) {
+  if (causes.failed == 0) return fmt::format("  all {} cases passed\n", causes.cases);
+  std::string out = fmt::format("  {}failed {} of {} cases{}: {}\n", p.bad, causes.failed,
+                                causes.cases, p.reset, CauseCountsText(causes));
+  out += fmt::format("  {}{:<26} {:>6} {:>7}   {}{}\n", p.dim, "cause", "cases", "share",
+                     "95% interval", p.reset);
+  for (const CauseCount& c : causes.causes) {
+    out += fmt::format("  {:<26} {:>6} {:>7.3f}   [{:.3f}, {:.3f}]\n", FailureCauseLabel(c.cause),
+                       c.count, c.share, c.interval.low, c.interval.high);
+  }
+  return out;
+}
+
 std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
                           const std::vector<ThresholdOutcome>& thresholds,
-                          const RunVerdict& verdict, bool colour, bool exit_line) {
+                          const RunVerdict& verdict, bool colour, bool exit_line,
+                          const std::string& error_reasons) {
   const Palette p = MakePalette(colour);
   std::string out;
   out += fmt::format("{}{} / {}{}  {} cases", p.bold, h.suite, h.pipeline, p.reset, run.cases);
   if (h.repeat > 1) out += fmt::format(" x {} repeats", h.repeat);
   out += fmt::format(", {} errored, {} passed, {:.1f}s\n\n", run.errored, run.passed, h.seconds);
+  // Why cases failed comes first: it is the first question about a failed run.
+  out += FormatCauseRows(run.causes, p);
+  if (!error_reasons.empty()) out += error_reasons;
+  out += "\n";
   out += fmt::format("  {}{:<20} {:>7}   {:<16} {:>6}   {}{}\n", p.dim, "metric", "mean",
                      "95% interval", "n", "floor / ceiling", p.reset);
   AppendMetricRows(&out, run.metrics, thresholds, "", "  ", p);

@@ -1,7 +1,9 @@
 #ifndef PLUMB_RUNNER_REPORT_SUMMARY_TABLE_H_
 #define PLUMB_RUNNER_REPORT_SUMMARY_TABLE_H_
 
-/// The terminal summary a person reads after `plumb run` / `plumb score`: one row per metric
+/// The terminal summary a person reads after `plumb run` / `plumb score`: first why cases
+/// failed (one row per cause: count, share of the cases and its 95% Wilson interval, then the
+/// most common error reasons when cases errored), then one row per metric
 /// (mean, 95% interval, n, its floor or ceiling and whether it held), latency percentiles, a
 /// compact per-tag table, and, last, the verdict line with the exit code and its reason. Colour
 /// only when writing to a terminal and NO_COLOR is unset (https://no-color.org convention).
@@ -24,9 +26,15 @@ struct SummaryHeader {
 };
 
 /// Without `exit_line` the table ends before the verdict line (the caller prints it, last).
+/// `error_reasons` (FormatErrorReasons) is printed under the cause rows.
 std::string FormatSummary(const SummaryHeader& header, const RunAggregates& aggregates,
                           const std::vector<ThresholdOutcome>& thresholds,
-                          const RunVerdict& verdict, bool colour, bool exit_line = true);
+                          const RunVerdict& verdict, bool colour, bool exit_line = true,
+                          const std::string& error_reasons = "");
+
+/// The cause rows alone: "failed 12 of 62 cases: 7 retrieval miss, ..." and a row per cause;
+/// "all N cases passed" when none failed.
+std::string FormatCauseRows(const CauseBreakdown& causes, const Palette& palette);
 
 }  // namespace plumb
 

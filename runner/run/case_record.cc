@@ -93,6 +93,10 @@ void EndCaseRecord(const CaseRecord& r, JsonWriter* out) {
       .Bool(r.scores.pass)
       .PlainKey("abstained_scored")
       .Bool(r.scores.abstained);
+  // Why a failed case failed (runner/run/failure_cause.h); absent on a case that passed.
+  if (r.scores.cause != FailureCause::kNone) {
+    w.PlainKey("cause").String(FailureCauseId(r.scores.cause));
+  }
   if (!r.scores.warnings.empty()) w.Member("warnings", r.scores.warnings);
   w.EndObject();
 }
@@ -132,6 +136,12 @@ bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* 
     r->scores.errored = !r->error.empty();
     r->scores.abstained = json.value("abstained_scored", false);
     r->scores.warnings = json.value("warnings", std::vector<std::string>());
+    // A journal written before causes were recorded has none: LoadRun classifies those.
+    const std::string cause = json.value("cause", std::string());
+    if (!cause.empty() && !ParseFailureCause(cause, &r->scores.cause)) {
+      *error = "unknown failure cause '" + cause + "' in a journal record";
+      return false;
+    }
   } catch (const nlohmann::json::exception& e) {
     *error = std::string("malformed journal record: ") + e.what();
     return false;

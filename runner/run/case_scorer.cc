@@ -142,6 +142,7 @@ void CaseScorer::Conclude(CaseScores* scores) const {
   if (scores->errored) {
     scores->values["correct"] = 0;
     scores->pass = false;
+    scores->cause = FailureCause::kErrored;
     return;
   }
   double correct = 0;
@@ -151,6 +152,7 @@ void CaseScorer::Conclude(CaseScores* scores) const {
   }
   scores->values["correct"] = correct;
   scores->pass = Passes(*scores);
+  scores->cause = ClassifyFailure(*scores, suite_.case_pass);
 }
 
 bool CaseScorer::Passes(const CaseScores& scores) const {
@@ -173,6 +175,7 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
   scores.abstention_case = c.answers.empty();
   if (response == nullptr) {
     ScoreErroredCase(c, !prepared.knowledge.empty(), &scores);
+    scores.cause = FailureCause::kErrored;
     return scores;
   }
 

@@ -39,7 +39,8 @@ class CaseScorer {
                    metrics::OffsetUnit offsets = metrics::OffsetUnit::kCodePoints) const;
 
   /// Sets `correct` (the max of the suite's `correct_from` metrics the case defines; 0 when it
-  /// defines none of them, and 0 for an errored case) and `pass` from the values in *scores.
+  /// defines none of them, and 0 for an errored case), `pass` and `cause` (ClassifyFailure)
+  /// from the values in *scores.
   /// Score() calls it; a grading pass that adds grade.NAME values calls it again.
   void Conclude(CaseScores* scores) const;
 

@@ -9,6 +9,7 @@
 #include <string>
 #include <vector>
 
+#include "runner/run/failure_cause.h"
 #include "runner/run/metric_values.h"
 
 namespace plumb {
@@ -20,6 +21,7 @@ struct CaseScores {
   bool errored = false;               // the call failed; answer metrics are 0
   bool pass = false;                  // every case_pass minimum held (never for an errored case)
   std::vector<std::string> warnings;  // e.g. a quote citation not found in its document
+  FailureCause cause = FailureCause::kNone;  // why the case failed (ClassifyFailure); kNone: passed
 };
 
 }  // namespace plumb

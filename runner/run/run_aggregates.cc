@@ -40,8 +40,20 @@ struct CaseValues {
   int repeats = 0;                               // 0: the case has no outcome
   int passes = 0;
   int errors = 0;
-  int abstentions = 0;  // repeats on which the reply abstained
+  int abstentions = 0;                       // repeats on which the reply abstained
+  FailureCause cause = FailureCause::kNone;  // the first failed repeat's
+  int cause_repeat = 0;
 };
+
+/// The cause of a failed outcome: as scored, or for outcomes read from a journal written
+/// before causes were recorded, classified now.
+FailureCause CauseOf(const Case& c, const CaseScores& scores,
+                     const std::map<std::string, double>& case_pass) {
+  if (scores.cause != FailureCause::kNone) return scores.cause;
+  CaseScores copy = scores;
+  copy.abstention_case = c.answers.empty();
+  return ClassifyFailure(copy, case_pass);
+}
 
 /// Sets v->means: each metric averaged over the repeats that define it.
 void AverageRepeats(CaseValues* v) {
@@ -169,6 +181,10 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
     v.passes += o.scores.pass ? 1 : 0;
     v.errors += o.scores.errored ? 1 : 0;
     v.abstentions += o.scores.abstained && !o.scores.errored ? 1 : 0;
+    if (!o.scores.pass && (v.cause == FailureCause::kNone || o.repeat < v.cause_repeat)) {
+      v.cause = CauseOf(suite.cases[o.case_index], o.scores, suite.case_pass);
+      v.cause_repeat = o.repeat;
+    }
     run.items += 1;
     run.errored += o.scores.errored ? 1 : 0;
     // Latency of a failed call measures the failure, not the pipeline; but a call that timed
@@ -188,6 +204,7 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
   struct Group {
     std::vector<const CaseValues*> cases;
     std::vector<bool> abstention;
+    std::vector<FailureCause> causes;
     std::vector<MetricAggregate> metrics;
   };
   std::vector<Group> groups(1);
@@ -202,6 +219,8 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
     run.cases += 1;
     groups[0].cases.push_back(&values);
     groups[0].abstention.push_back(c.answers.empty());
+    const FailureCause cause = values.passes == values.repeats ? FailureCause::kNone : values.cause;
+    groups[0].causes.push_back(cause);
     if (values.passes == values.repeats) run.passed += 1;
     // Passed on some repeats and failed on others.
     if (values.passes > 0 && values.passes < values.repeats) run.unstable_cases.push_back(c.id);
@@ -214,6 +233,7 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
       }
       groups[last_group].cases.push_back(&values);
       groups[last_group].abstention.push_back(c.answers.empty());
+      groups[last_group].causes.push_back(cause);
     }
   }
   // Each group's bootstrap costs about the same whatever its size, so the groups are shared
@@ -225,11 +245,13 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
     }
   });
   run.metrics = std::move(groups[0].metrics);
+  run.causes = BreakDownCauses(groups[0].causes);
   for (const auto& [tag, index] : tag_groups) {
     TagAggregate t;
     t.tag = std::string(tag);
     t.cases = static_cast<int64_t>(groups[index].cases.size());
     t.metrics = std::move(groups[index].metrics);
+    t.causes = BreakDownCauses(groups[index].causes);
     run.tags.push_back(std::move(t));
   }
   return run;
@@ -343,6 +365,14 @@ nlohmann::json AggregatesToJson(const RunAggregates& run) {
             {"max", l.max}}},
           {"usage", {{"input_tokens", run.input_tokens}, {"output_tokens", run.output_tokens}}},
           {"unstable_cases", run.unstable_cases}};
+}
+
+nlohmann::json FailuresToJson(const RunAggregates& run) {
+  nlohmann::json out = CauseBreakdownToJson(run.causes);
+  nlohmann::json tags = nlohmann::json::object();
+  for (const TagAggregate& t : run.tags) tags[t.tag] = CauseBreakdownToJson(t.causes);
+  out["tags"] = tags;
+  return out;
 }
 
 nlohmann::json ThresholdsToJson(const std::vector<ThresholdOutcome>& outcomes) {

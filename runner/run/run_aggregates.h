@@ -15,6 +15,7 @@
 
 #include "metrics/metric_summary.h"
 #include "metrics/percentile.h"
+#include "runner/run/cause_breakdown.h"
 #include "runner/run/scheduler.h"
 #include "runner/suite/suite.h"
 
@@ -29,6 +30,7 @@ struct TagAggregate {
   std::string tag;
   int64_t cases = 0;
   std::vector<MetricAggregate> metrics;
+  CauseBreakdown causes;
 };
 
 struct RunAggregates {
@@ -42,6 +44,9 @@ struct RunAggregates {
   int64_t input_tokens = 0;
   int64_t output_tokens = 0;
   std::vector<std::string> unstable_cases;  // pass/fail differs between repeats
+  /// Failed cases (not every repeat passed) by cause; a case's cause is its first failed
+  /// repeat's.
+  CauseBreakdown causes;
 
   /// The aggregate for `metric` at run level (`tag` empty) or for a tag; null when absent.
   const metrics::MetricSummary* Find(const std::string& metric, const std::string& tag = "") const;
@@ -71,6 +76,8 @@ std::vector<ThresholdOutcome> EvaluateThresholds(const Thresholds& thresholds,
                                                  const RunAggregates& aggregates);
 
 nlohmann::json AggregatesToJson(const RunAggregates& aggregates);
+/// run.json's "failures": the run's CauseBreakdown and, under "tags", each tag's.
+nlohmann::json FailuresToJson(const RunAggregates& aggregates);
 nlohmann::json ThresholdsToJson(const std::vector<ThresholdOutcome>& outcomes);
 
 }  // namespace plumb

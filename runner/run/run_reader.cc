@@ -1,17 +1,47 @@
 #include "runner/run/run_reader.h"
 
 #include <fstream>
+#include <map>
 #include <sstream>
 
+#include "runner/run/failure_cause.h"
 #include "runner/run/run_journal.h"
 
 namespace plumb {
+namespace {
+
+/// Gives each failed record of a journal written before causes were recorded its cause, from
+/// the case_pass and gold that run.json records.
+void ClassifyUnclassified(LoadedRun* run) {
+  const std::map<std::string, double> case_pass = run->CasePass();
+  for (CaseRecord& r : run->records) {
+    if (r.scores.pass || r.scores.cause != FailureCause::kNone) continue;
+    const nlohmann::json* gold = run->Gold(r.id);
+    r.scores.abstention_case = gold != nullptr && gold->is_object() && gold->contains("answers") &&
+                               (*gold)["answers"].is_array() && (*gold)["answers"].empty();
+    r.scores.cause = ClassifyFailure(r.scores, case_pass);
+  }
+}
+
+}  // namespace
 
 const nlohmann::json* LoadedRun::Gold(const std::string& id) const {
   auto cases = record.find("cases");
   if (cases == record.end()) return nullptr;
   auto it = cases->find(id);
   return it == cases->end() ? nullptr : &*it;
+}
+
+std::map<std::string, double> LoadedRun::CasePass() const {
+  auto suite = record.find("suite");
+  if (suite == record.end() || !suite->is_object()) return {{"correct", 1.0}};
+  auto listed = suite->find("case_pass");
+  if (listed == suite->end() || !listed->is_object()) return {{"correct", 1.0}};
+  std::map<std::string, double> out;
+  for (auto it = listed->begin(); it != listed->end(); ++it) {
+    if (it->is_number()) out[it.key()] = it->get<double>();
+  }
+  return out;
 }
 
 std::vector<const CaseRecord*> LoadedRun::RecordsOf(const std::string& id) const {
@@ -58,6 +88,7 @@ bool LoadRun(const std::string& dir, LoadedRun* run, std::string* error) {
     }
     run->records.push_back(std::move(record));
   }
+  ClassifyUnclassified(run);
   return true;
 }
 

@@ -23,6 +23,8 @@ struct LoadedRun {
 
   /// run.json's per-case gold ("question", "answers", "sources", "tags", ...), or null.
   const nlohmann::json* Gold(const std::string& id) const;
+  /// The suite's case_pass minimums as run.json records them ({correct: 1} when absent).
+  std::map<std::string, double> CasePass() const;
   /// Records of case `id`, by repeat; empty when the run has none.
   std::vector<const CaseRecord*> RecordsOf(const std::string& id) const;
 };

@@ -139,6 +139,8 @@ std::string RunRecordTail(const RunContext& ctx, const RunAggregates& aggregates
   JsonWriter w(2, 2);  // inside the record's object and its "cases" object
   if (!ctx.selected.empty()) w.MarkFilled();
   w.EndObject().MarkFilled();
+  // Why cases failed comes first: it is what a reader of a failed run asks first.
+  w.Key("failures").Value(FailuresToJson(aggregates));
   w.Key("aggregates").Value(AggregatesToJson(aggregates));
   w.Key("thresholds").Value(ThresholdsToJson(thresholds));
   w.Key("verdict")
