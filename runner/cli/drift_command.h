@@ -20,7 +20,7 @@ struct DriftCommandOptions {
   std::string base_dir;
   std::string cand_dir;
   DriftOptions drift;     // --gate, --min-effect, --seed, --resamples
-  OutputOptions outputs;  // --html, --markdown (and --junit from `run --baseline`)
+  OutputOptions outputs;  // --html, --junit, --markdown
   bool json = false;
   bool colour = false;
   bool exit_line = true;  // false under `run --baseline`, which prints one exit line itself

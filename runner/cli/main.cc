@@ -40,12 +40,10 @@ bool ParseLabels(const std::vector<std::string>& raw, std::map<std::string, std:
 }
 
 /// --html, --junit and --markdown, the report files of SPEC §10 (run_outputs.h).
-void AddOutputOptions(CLI::App* command, plumb::OutputOptions* outputs, bool junit) {
+void AddOutputOptions(CLI::App* command, plumb::OutputOptions* outputs) {
   command->add_option("--html", outputs->html, "Write the self-contained HTML report to FILE");
-  if (junit) {
-    command->add_option("--junit", outputs->junit,
-                        "Write JUnit XML (one testcase per case) to FILE");
-  }
+  command->add_option("--junit", outputs->junit,
+                      "Write JUnit XML (a testcase per case, floor and gated metric) to FILE");
   command->add_option("--markdown", outputs->markdown,
                       "Write a Markdown summary for a pull-request comment to FILE");
 }
@@ -102,7 +100,7 @@ int main(int argc, char** argv) {
   run_cmd->add_flag("--allow-missing", run.allow_missing,
                     "With --baseline: leave out baseline cases this run lacks instead of counting "
                     "them as lost (implied by --tag, --case, --limit and --shard)");
-  AddOutputOptions(run_cmd, &run.outputs, /*junit=*/true);
+  AddOutputOptions(run_cmd, &run.outputs);
 
   plumb::ScoreOptions score;
   std::vector<std::string> score_labels;
@@ -115,7 +113,7 @@ int main(int argc, char** argv) {
                         "Run directory (default: plumb-out/<suite>/predictions)");
   score_cmd->add_option("--label", score_labels, "Label the run, KEY=VALUE (repeatable)");
   score_cmd->add_flag("--json", score.json, "Print the run record as JSON on stdout");
-  AddOutputOptions(score_cmd, &score.outputs, /*junit=*/true);
+  AddOutputOptions(score_cmd, &score.outputs);
 
   plumb::DriftCommandOptions drift;
   std::string gate;
@@ -135,14 +133,14 @@ int main(int argc, char** argv) {
   drift_cmd->add_flag("--allow-missing", drift.drift.allow_missing,
                       "Leave out base cases the candidate lacks instead of counting them as lost");
   drift_cmd->add_flag("--json", drift.json, "Print the drift report as JSON on stdout");
-  AddOutputOptions(drift_cmd, &drift.outputs, /*junit=*/false);
+  AddOutputOptions(drift_cmd, &drift.outputs);
 
   plumb::ReportOptions report;
   CLI::App* report_cmd =
       app.add_subcommand("report", "Re-render a stored run's summary and report files");
   report_cmd->add_option("RUN_DIR", report.run_dir, "Run directory")->required();
   report_cmd->add_flag("--json", report.json, "Print the run record as JSON on stdout");
-  AddOutputOptions(report_cmd, &report.outputs, /*junit=*/true);
+  AddOutputOptions(report_cmd, &report.outputs);
 
   plumb::CheckOptions check;
   CLI::App* check_cmd =

@@ -49,7 +49,9 @@ bool WriteRunOutputs(const LoadedRun& run, const OutputOptions& options, std::st
 
 bool WriteDriftOutputs(const DriftReport& report, const LoadedRun& base, const LoadedRun& cand,
                        const OutputOptions& options, std::string* error) {
-  if (!options.junit.empty() && !WriteJUnitReport(cand, options.junit, error)) return false;
+  if (!options.junit.empty() && !WriteJUnitReport(cand, options.junit, error, &report)) {
+    return false;
+  }
   if (!options.markdown.empty() && !WriteDriftMarkdown(report, options.markdown, error)) {
     return false;
   }

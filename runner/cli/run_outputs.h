@@ -25,8 +25,9 @@ struct OutputOptions {
 /// be written: false with a sentence naming it.
 bool WriteRunOutputs(const LoadedRun& run, const OutputOptions& options, std::string* error);
 
-/// The drift's HTML report and Markdown summary; `--junit` describes the candidate run's cases
-/// (JUnit has no notion of a comparison). False with a sentence, as above.
+/// The drift's HTML report and Markdown summary; `--junit` describes the candidate run's cases,
+/// floors and gated metrics, its lost cases marked (junit_report.h). False with a sentence, as
+/// above.
 bool WriteDriftOutputs(const DriftReport& report, const LoadedRun& base, const LoadedRun& cand,
                        const OutputOptions& options, std::string* error);
 

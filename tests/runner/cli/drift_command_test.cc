@@ -379,7 +379,12 @@ TEST_CASE("plumb run --baseline computes the drift and gates on it") {
   CHECK(record["drift"]["gate"]["exit_code"] == 1);
   CHECK(MetricRow(record["drift"]["metrics"], "correct")["p_value"] == 2.0 / 4096);
   CHECK(ReadFile(dir + "/comment.md").find("**FAIL** (exit 1)") != std::string::npos);
-  CHECK(ReadFile(dir + "/cases.xml").find("failures=\"12\"") != std::string::npos);
+  // JUnit: 12 cases, marked lost, and the 3 gated metrics: correct and token_f1 regressed,
+  // citation_recall (no gold spans here) is skipped.
+  const std::string junit = ReadFile(dir + "/cases.xml");
+  CHECK(junit.find("tests=\"15\" failures=\"14\" errors=\"0\" skipped=\"1\"") != std::string::npos);
+  CHECK(junit.find("name=\"no regression in correct\" time=\"0.000\">\n      <failure "
+                   "type=\"plumb.regressed\"") != std::string::npos);
   // The gate is recorded where CI reads it: run.json's verdict is the process's exit code (the
   // run alone broke no floor), its "baseline" says why, drift.json holds the comparison, and
   // `plumb report` of the run exits as the run did.
@@ -449,7 +454,8 @@ TEST_CASE("plumb report re-renders a stored run without its pipeline") {
   CHECK(table(r.out) == table(scored.out));
   CHECK(ReadFile(dir + "/r.md").rfind("### plumb: `drift-fixture` / `predictions` — exit 0\n", 0) ==
         0);
-  CHECK(ReadFile(dir + "/r.xml").find("tests=\"400\" failures=\"50\" errors=\"0\"") !=
+  // 400 cases and the 2 floors, which held.
+  CHECK(ReadFile(dir + "/r.xml").find("tests=\"402\" failures=\"50\" errors=\"0\"") !=
         std::string::npos);
   const Result json = Plumb({"report", run, "--json"}, dir);
   CHECK(nlohmann::json::parse(json.out)["suite"]["name"] == "drift-fixture");

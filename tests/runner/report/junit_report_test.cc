@@ -3,6 +3,8 @@
 // errors and ids carry markup, quotes, control characters and non-characters.
 #include "runner/report/junit_report.h"
 
+#include <sys/stat.h>
+
 #include <catch2/catch.hpp>
 #include <cstdio>
 #include <string>
@@ -86,8 +88,9 @@ TEST_CASE("a run with hostile answers and errors gives well-formed JUnit, one te
   REQUIRE(scored.code == 3);  // 1 of 4 errored: above max_error_rate 0.05 (SPEC §8)
   CheckWellFormed(dir + "/junit.xml");
   CHECK(XPath(dir + "/junit.xml", "count(//testcase)") == "4");
-  CHECK(XPath(dir + "/junit.xml", "string(/testsuites/testsuite/@name)") == "hostile");
-  CHECK(XPath(dir + "/junit.xml", "count(//testcase[@classname=\"hostile\"])") == "4");
+  // The pipeline is in the names (plumb score's pipeline is "predictions").
+  CHECK(XPath(dir + "/junit.xml", "string(/testsuites/testsuite/@name)") == "hostile.predictions");
+  CHECK(XPath(dir + "/junit.xml", "count(//testcase[@classname=\"hostile.predictions\"])") == "4");
   CHECK(XPath(dir + "/junit.xml", "count(//testcase[@name=\"plain\"]/*)") == "0");
   CHECK(XPath(dir + "/junit.xml", "count(//failure)") == "2");
   CHECK(XPath(dir + "/junit.xml", "count(//error)") == "1");
@@ -96,6 +99,10 @@ TEST_CASE("a run with hostile answers and errors gives well-formed JUnit, one te
   // The failure message carries the scores; the text carries the answer, back as written.
   CHECK(XPath(dir + "/junit.xml", "string(//testcase[@name=\"markup\"]/failure/@message)")
             .find("correct 0") != std::string::npos);
+  // ... after its cause.
+  CHECK(XPath(dir + "/junit.xml", "string(//testcase[@name=\"markup\"]/failure/@message)")
+            .rfind("reading miss (wrong answer (token_f1 0); no retrieved list reported); scores: ",
+                   0) == 0);
   CHECK(XPath(dir + "/junit.xml", "string(//testcase[@name=\"markup\"]/failure)")
             .find("answer: \"</failure></testcase><x a=\"1\">&amp; ]]>\"") != std::string::npos);
   CHECK(XPath(dir + "/junit.xml", "string(//testcase[@name=\"missing\"]/error/@message)")
@@ -126,4 +133,111 @@ TEST_CASE("ids and labels that no suite would accept are still escaped") {
   CHECK(XPath(dir + "/odd.xml", "string(//testcase/@name)") == "id<1>&\"");
   CHECK(XPath(dir + "/odd.xml", "string(//property[starts-with(@name, \"label.git\")]/@value)") ==
         "<rev>");
+}
+
+namespace {
+
+// A run that loses six cases on `correct` against a base that answers all ten, with floors.
+// docs/boarding.md: "Boarding closes ten minutes before departure. Loans renew once."
+void WriteComparedRuns(const std::string& dir) {
+  ::mkdir((dir + "/docs").c_str(), 0755);
+  WriteFile(dir + "/docs/boarding.md",
+            "Boarding closes ten minutes before departure. Loans renew once.");
+  std::string cases = "cases:\n";
+  std::string base, cand;
+  for (int i = 0; i < 10; ++i) {
+    const std::string id = "c" + std::to_string(i);
+    cases += "  - {id: " + id + ", question: q" + std::to_string(i) + ", answers: [once], tags: [" +
+             (i < 3 ? "hard" : "easy") + "], sources: [{doc: boarding.md, start: 47, end: 63}]}\n";
+    base += "{\"id\": \"" + id +
+            "\", \"answer\": \"once\", \"citations\": [{\"doc\": \"boarding.md\"}]}\n";
+    // c0-c5 answer wrong with the gold span retrieved (reading misses); c6-c9 as the base.
+    cand += i < 6 ? "{\"id\": \"" + id +
+                        "\", \"answer\": \"twice\", \"retrieved\": [{\"doc\": \"boarding.md\"}]}\n"
+                  : "{\"id\": \"" + id +
+                        "\", \"answer\": \"once\", \"citations\": [{\"doc\": \"boarding.md\"}]}\n";
+  }
+  WriteFile(dir + "/s.yaml",
+            "plumb: 1\nname: gate\ncorpus: docs\n"
+            "floors: {correct: 0.9, citation_recall: 0.1, tags: {hard: {correct: 0.5}}}\n" +
+                cases);
+  WriteFile(dir + "/base.jsonl", base);
+  WriteFile(dir + "/cand.jsonl", cand);
+  REQUIRE(
+      Plumb({"score", dir + "/s.yaml", dir + "/base.jsonl", "--out", dir + "/base"}, dir).code ==
+      0);
+  REQUIRE(
+      Plumb({"score", dir + "/s.yaml", dir + "/cand.jsonl", "--out", dir + "/cand"}, dir).code ==
+      1);
+}
+
+}  // namespace
+
+TEST_CASE("drift JUnit has a testcase per floor and gated metric and marks the lost cases") {
+  const std::string dir = MakeTempDir();
+  WriteComparedRuns(dir);
+  const Result drift = Plumb(
+      {"drift", dir + "/base", dir + "/cand", "--gate", "correct", "--junit", dir + "/gate.xml"},
+      dir);
+  INFO(drift.out << drift.err);
+  CHECK(drift.code == 1);
+  const std::string f = dir + "/gate.xml";
+  CheckWellFormed(f);
+  // 10 cases, 3 floors, 1 gated metric.
+  CHECK(XPath(f, "count(//testcase)") == "14");
+  CHECK(XPath(f, "count(//testcase[@classname=\"gate.predictions\"])") == "10");
+  CHECK(XPath(f, "count(//testcase[@classname=\"gate.predictions.floors\"])") == "3");
+  CHECK(XPath(f, "count(//testcase[@classname=\"gate.predictions.gate\"])") == "1");
+  // Six lost cases, marked; c6-c9 pass.
+  CHECK(XPath(f, "count(//failure[@type=\"plumb.lost\"])") == "6");
+  CHECK(XPath(f, "string(//testcase[@name=\"c0\"]/failure/@message)")
+            .rfind("lost (passed in the base run): reading miss (wrong answer (token_f1 0); a "
+                   "gold span was retrieved at rank 1); scores: ",
+                   0) == 0);
+  CHECK(XPath(f, "count(//testcase[@name=\"c7\"]/*)") == "0");
+  // The floors: correct is 4/10. statsmodels proportion_confint(4, 10, method='wilson') =
+  // (0.16818, 0.68733).
+  CHECK(XPath(f, "string(//testcase[@name=\"floor correct >= 0.9\"]/failure/@message)") ==
+        "floor broken: correct 0.4 < 0.9; 95% Wilson interval [0.1682, 0.6873], n 10");
+  CHECK(XPath(f, "string(//testcase[@name=\"tag hard: floor correct >= 0.5\"]/failure/@type)") ==
+        "plumb.floor_broken");
+  CHECK(XPath(f, "count(//testcase[@name=\"floor citation_recall >= 0.1\"]/*)") == "0");
+  // The gated metric: 6 of 10 lost, none gained; exact McNemar p = 2 * 0.5^6 = 0.03125, and a
+  // family of one needs no correction.
+  const std::string gate =
+      XPath(f, "string(//testcase[@name=\"no regression in correct\"]/failure/@message)");
+  CHECK(gate.rfind("regressed: correct base 1.0000, candidate 0.4000, delta -0.6000, 95% "
+                   "paired-bootstrap interval [",
+                   0) == 0);
+  CHECK(gate.find("p 0.03125 (adjusted 0.03125), n 10") != std::string::npos);
+  CHECK(XPath(f, "string(//testcase[@name=\"no regression in correct\"]/failure)")
+            .find("regressed means: the 95% paired-bootstrap interval of the delta lies below 0") !=
+        std::string::npos);
+  CHECK(XPath(f, "string(//property[@name=\"exit_code\"]/@value)") == "1");
+  CHECK(XPath(f, "string(/testsuites/testsuite/@failures)") == "9");  // 6 lost, 2 floors, 1 gate
+
+  // The XML parses with Python's parser too, and `--junit -` writes the same to stdout.
+  int code = -1;
+  Shell("/usr/bin/python3 -c 'import sys, xml.etree.ElementTree as E; E.parse(sys.argv[1])' " + f,
+        &code);
+  CHECK(code == 0);
+  const Result out =
+      Plumb({"drift", dir + "/base", dir + "/cand", "--gate", "correct", "--junit", "-"}, dir);
+  CHECK(out.out == ReadFile(f));
+}
+
+TEST_CASE("a gated metric with too few cases is skipped, naming how many more it needs") {
+  const std::string dir = MakeTempDir();
+  WriteComparedRuns(dir);
+  // citation_precision is defined on the cases that cite: c6-c9 in both runs, 4 pairs (the
+  // fewest with a verdict at 0.05 is 6, drift.h).
+  Plumb({"drift", dir + "/base", dir + "/cand", "--gate", "citation_precision", "--junit",
+         dir + "/gate.xml"},
+        dir);
+  CheckWellFormed(dir + "/gate.xml");
+  CHECK(
+      XPath(dir + "/gate.xml",
+            "string(//testcase[@name=\"no regression in citation_precision\"]/skipped/@message)") ==
+      "too few cases: 4 paired, 2 more needed for a verdict");
+  CHECK(XPath(dir + "/gate.xml", "string(/testsuites/testsuite/@skipped)") == "1");
 }
