@@ -192,7 +192,7 @@ std::string FormatDriftTable(const DriftReport& r, bool colour, bool exit_line) 
       const CaseChange& c = list[k];
       // A lost case shows why the candidate fails it; a gained one why the base failed it.
       const FailureCause cause = c.cand_cause != FailureCause::kNone ? c.cand_cause : c.base_cause;
-      out += fmt::format("    {:<32} {:<22} {}\n", Plain(c.id, 32), FailureCauseLabel(cause),
+      out += fmt::format("    {:<32} {:<26} {}\n", Plain(c.id, 32), FailureCauseLabel(cause),
                          DeltasText(c, r.options.gate));
     }
   };

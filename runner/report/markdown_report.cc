@@ -3,10 +3,13 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <cctype>
 #include <cmath>
 #include <map>
 
 #include "metrics/utf8.h"
+#include "runner/run/failure_reason.h"
+#include "runner/run/run_failures.h"
 #include "runner/run/run_record.h"
 
 namespace plumb {
@@ -81,6 +84,87 @@ std::string AnswerText(const std::optional<std::string>& answer, const std::stri
   return MarkdownText(*answer, 80);
 }
 
+/// "`ten minutes` / `10 minutes`", or "*abstain*" for an abstention case's empty gold.
+std::string GoldAnswers(const std::vector<std::string>& answers) {
+  if (answers.empty()) return "*abstain*";
+  std::string out;
+  for (const std::string& a : answers) out += (out.empty() ? "" : " / ") + MarkdownText(a, 40);
+  return out;
+}
+
+std::vector<std::string> GoldOf(const nlohmann::json* gold) {
+  std::vector<std::string> out;
+  if (gold == nullptr || !gold->is_object() || !gold->contains("answers")) return out;
+  for (const nlohmann::json& a : (*gold)["answers"]) {
+    if (a.is_string()) out.push_back(a.get<std::string>());
+  }
+  return out;
+}
+
+/// At most `limit` of `items` (each with its cause, in the order they should be read), chosen
+/// across causes: the first of each cause, then the second of each, and so on, the causes taken
+/// most common first; returned grouped by cause in that order. So ten shown cases of a run with
+/// 60 reading misses and 3 retrieval misses show the retrieval misses too.
+template <typename T>
+std::vector<T> AcrossCauses(const std::vector<T>& items, FailureCause (*cause_of)(const T&),
+                            size_t limit) {
+  std::map<FailureCause, std::vector<T>> groups;
+  for (const T& item : items) groups[cause_of(item)].push_back(item);
+  std::vector<const std::vector<T>*> order;
+  for (const auto& entry : groups) order.push_back(&entry.second);
+  std::stable_sort(order.begin(), order.end(),
+                   [](const auto* a, const auto* b) { return a->size() > b->size(); });
+  std::vector<size_t> taken(order.size(), 0);
+  size_t total = 0;
+  for (size_t round = 0; total < limit; ++round) {
+    bool any = false;
+    for (size_t g = 0; g < order.size() && total < limit; ++g) {
+      if (round >= order[g]->size()) continue;
+      taken[g] = round + 1;
+      ++total;
+      any = true;
+    }
+    if (!any) break;
+  }
+  std::vector<T> out;
+  for (size_t g = 0; g < order.size(); ++g) {
+    out.insert(out.end(), order[g]->begin(),
+               order[g]->begin() + static_cast<std::ptrdiff_t>(taken[g]));
+  }
+  return out;
+}
+
+/// The cause breakdown as a table: cause, cases, share of all cases, Wilson 95% interval.
+std::string CauseTable(const CauseBreakdown& b) {
+  if (b.failed == 0) return fmt::format("All {} cases passed.\n", b.cases);
+  std::string out =
+      fmt::format("**Why {} of {} cases failed:** {}\n\n", b.failed, b.cases, CauseCountsText(b));
+  out += "| cause | cases | share | 95% interval |\n|:--|--:|--:|:--|\n";
+  for (const CauseCount& c : b.causes) {
+    out += fmt::format("| {} | {} | {:.3f} | {} |\n", FailureCauseLabel(c.cause), c.count, c.share,
+                       IntervalText(c.interval, false));
+  }
+  return out;
+}
+
+/// The marker a CI step looks for to update its one comment instead of adding another: the
+/// same for a run's and a drift's summary of one suite and (candidate) pipeline. Names keep
+/// [A-Za-z0-9._:/-] with no "--", anything else becomes "_", so the comment cannot be closed
+/// early.
+std::string MarkerLine(const std::string& suite, const std::string& pipeline) {
+  auto clean = [](const std::string& name) {
+    std::string out;
+    for (char c : name) {
+      const bool keep = std::isalnum(static_cast<unsigned char>(c)) || c == '.' || c == '_' ||
+                        c == ':' || c == '/' || c == '-';
+      if (c == '-' && !out.empty() && out.back() == '-') continue;
+      out += keep ? c : '_';
+    }
+    return out.substr(0, 80);
+  };
+  return fmt::format("<!-- plumb:report suite={} pipeline={} -->\n", clean(suite), clean(pipeline));
+}
+
 }  // namespace
 
 std::string MarkdownText(std::string_view text, size_t max_code_points) {
@@ -131,6 +215,7 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
   }
   if (!labels.empty()) out += " · labels: " + LabelsText(labels);
   out += "\n\n";
+  out += CauseTable(RunCauseBreakdown(run)) + "\n";
 
   // Floors and ceilings by metric, for the table's last column.
   std::map<std::string, std::string> floors;
@@ -198,7 +283,8 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
     if (!tag_floors.empty()) out += "\n" + tag_floors;
   }
 
-  // Failed cases: errored first, then by token F1, lowest first.
+  // Failed cases: chosen across causes, and within a cause errored first, then by token F1,
+  // lowest first.
   struct Failed {
     std::string id;
     const CaseRecord* record;
@@ -222,20 +308,25 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
     return a.id < b.id;
   });
   if (!failed.empty()) {
+    const std::map<std::string, double> case_pass = run.CasePass();
+    const std::vector<Failed> shown = AcrossCauses<Failed>(
+        failed, [](const Failed& f) { return f.record->scores.cause; }, kTopCases);
     out += fmt::format("\n<details><summary>Failed cases: {}{}</summary>\n\n", failed.size(),
-                       failed.size() > kTopCases ? fmt::format(" (first {})", kTopCases) : "");
-    out += "| case | correct | token_f1 | answer |\n|:--|--:|--:|:--|\n";
-    for (size_t k = 0; k < std::min(kTopCases, failed.size()); ++k) {
-      const CaseRecord& c = *failed[k].record;
-      auto score = [&](const char* metric) {
-        auto it = c.scores.values.find(metric);
-        return it == c.scores.values.end() ? std::string() : Fixed(it->second, 3);
-      };
-      out += fmt::format("| {} | {} | {} | {} |\n", Code(failed[k].id), score("correct"),
-                         score("token_f1"), AnswerText(c.parsed.answer, c.error));
+                       failed.size() > shown.size()
+                           ? fmt::format(" ({} shown, across causes)", shown.size())
+                           : "");
+    out += "| case | cause | gold | answer | reason |\n|:--|:--|:--|:--|:--|\n";
+    for (const Failed& f : shown) {
+      const CaseRecord& c = *f.record;
+      out +=
+          fmt::format("| {} | {} | {} | {} | {} |\n", Code(f.id), FailureCauseLabel(c.scores.cause),
+                      GoldAnswers(GoldOf(run.Gold(f.id))), AnswerText(c.parsed.answer, c.error),
+                      MarkdownText(FailureReason(c, case_pass), 100));
     }
     out += "\n</details>\n";
   }
+  out += "\n" + MarkerLine(JsonString(JsonAt(r, "suite"), "name"),
+                           JsonString(JsonAt(r, "pipeline"), "name"));
   return out;
 }
 
@@ -262,6 +353,38 @@ std::string FormatDriftMarkdown(const DriftReport& r) {
         "(left out)\n",
         r.paired.size(), r.only_in_base.size(), r.only_in_cand.size(), r.gold_changed.size());
   }
+  // Lost cases first: what a reviewer of a regression reads first.
+  auto case_table = [&](const char* title, const std::vector<CaseChange>& cases, bool lost) {
+    if (cases.empty()) return;
+    const std::vector<CaseChange> shown = AcrossCauses<CaseChange>(
+        cases,
+        lost ? +[](const CaseChange& c) { return c.cand_cause; }
+             : +[](const CaseChange& c) { return c.base_cause; },
+        kTopCases);
+    out += fmt::format(
+        "\n#### {} ({}{})\n\n", title, cases.size(),
+        cases.size() > shown.size() ? fmt::format("; {} shown, across causes", shown.size()) : "");
+    out += fmt::format(
+        "| case | {} | Δ correct | gold | base answer | candidate answer | reason |\n"
+        "|:--|:--|--:|:--|:--|:--|:--|\n",
+        lost ? "cause" : "base's cause");
+    for (const CaseChange& c : shown) {
+      auto it = c.deltas.find("correct");
+      out += fmt::format("| {} | {} | {} | {} | {} | {} | {} |\n", Code(c.id),
+                         FailureCauseLabel(lost ? c.cand_cause : c.base_cause),
+                         it == c.deltas.end() ? std::string() : Signed(it->second),
+                         GoldAnswers(c.gold), AnswerText(c.base_answer, c.base_error),
+                         AnswerText(c.cand_answer, c.cand_error),
+                         MarkdownText(lost ? c.cand_reason : c.base_reason, 100));
+    }
+  };
+  if (!r.lost.empty()) {
+    const std::string counts = CauseCountsText(r.lost_causes);
+    out += fmt::format("\n**Lost {}{}**{}\n", r.lost.size(), counts.empty() ? "." : ":",
+                       counts.empty() ? "" : " " + counts);
+    case_table("Lost cases: pass → fail", r.lost, true);
+  }
+
   std::vector<std::string> changed;
   if (r.suite_changed) changed.push_back("suite");
   if (r.corpus_changed) changed.push_back("corpus");
@@ -331,30 +454,12 @@ std::string FormatDriftMarkdown(const DriftReport& r) {
     out += fmt::format("\nNo tag changed ({} tags, Holm-adjusted).\n", r.tags.size());
   }
 
-  auto case_table = [&](const char* title, const std::vector<CaseChange>& cases) {
-    if (cases.empty()) return;
-    out += fmt::format("\n#### {} ({}{})\n\n", title, cases.size(),
-                       cases.size() > kTopCases ? fmt::format("; top {}", kTopCases) : "");
-    out +=
-        "| case | Δ correct | Δ token_f1 | base answer | candidate answer |\n"
-        "|:--|--:|--:|:--|:--|\n";
-    for (size_t k = 0; k < std::min(kTopCases, cases.size()); ++k) {
-      const CaseChange& c = cases[k];
-      auto delta = [&](const char* metric) {
-        auto it = c.deltas.find(metric);
-        return it == c.deltas.end() ? std::string() : Signed(it->second);
-      };
-      out += fmt::format("| {} | {} | {} | {} | {} |\n", Code(c.id), delta("correct"),
-                         delta("token_f1"), AnswerText(c.base_answer, c.base_error),
-                         AnswerText(c.cand_answer, c.cand_error));
-    }
-  };
-  case_table("Lost cases: pass → fail", r.lost);
-  case_table("Gained cases: fail → pass", r.gained);
+  case_table("Gained cases: fail → pass", r.gained, false);
   if (!r.unstable.empty()) {
     out += fmt::format("\n{} case(s) unstable across repeats, first: {}\n", r.unstable.size(),
                        Code(r.unstable.front()));
   }
+  out += "\n" + MarkerLine(r.base.suite_name, r.cand.pipeline);
   return out;
 }
 

@@ -2,9 +2,14 @@
 #define PLUMB_RUNNER_REPORT_MARKDOWN_REPORT_H_
 
 /// GitHub-flavoured Markdown summaries fit for a pull-request comment (SPEC §10): the verdict
-/// and exit code first, a compact metric table with 95% intervals, then the cases a reviewer
-/// should read (a run's failed cases; a drift's lost cases, top ten). Written by `--markdown
-/// FILE` through run_outputs.h.
+/// and exit code first, then why cases failed (a run's cause breakdown with intervals; a
+/// drift's lost cases by cause and the lost cases themselves, before its metric table), a
+/// compact metric table with 95% intervals, then the cases a reviewer should read. At most ten
+/// cases are shown, chosen across causes (the first of each cause, then the second, ...), with
+/// their gold answers and the reason under their cause. The last line is a hidden marker,
+/// "<!-- plumb:report suite=S pipeline=P -->", the same for a run's and a drift's summary of
+/// one pipeline, so a CI step can find and update its one comment. Written by `--markdown FILE`
+/// through run_outputs.h.
 ///
 /// Everything that comes from a suite, a label or a pipeline is untrusted: it is escaped so it
 /// renders as the literal text (no markup, HTML, table breaks or @-mentions), put on one line,

@@ -303,8 +303,10 @@ TEST_CASE("the terminal summary ends with the exit code and its reason") {
   CHECK(markdown.rfind("### plumb drift: `drift-fixture` — exit 1\n", 0) == 0);
   // The first lost case (all twenty lose 1 on correct and token_f1; ties go by id): sailing 2
   // leaves at 05:00 + 2 * 35 min = 06:10 (make_runs.py departure()); the candidate says
-  // 05:00 + (70 + 510 + 5) min = 14:45 (wrong_time()).
-  CHECK(markdown.find("| `sailing-002` | -1.0000 | -1.0000 | 06:10 | 14:45 |") !=
+  // 05:00 + (70 + 510 + 5) min = 14:45 (wrong_time()). Its row gives the cause, the change in
+  // correct, the gold, both answers and the reason.
+  CHECK(markdown.find("| `sailing-002` | reading miss | -1.0000 | 06:10 | 06:10 | 14:45 | wrong "
+                      "answer \\(token\\_f1 0\\); a gold span was retrieved at rank 1 |") !=
         std::string::npos);
 }
 

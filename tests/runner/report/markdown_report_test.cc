@@ -6,6 +6,7 @@
 #include "runner/report/markdown_report.h"
 
 #include <catch2/catch.hpp>
+#include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
 
@@ -96,8 +97,13 @@ TEST_CASE("the run summary starts with the verdict and keeps its tables intact")
   // proportion_confint(350, 400, method="wilson") = (0.83898, 0.90388).
   CHECK(md.find("| `correct` | 0.875 | [0.839, 0.904] | 400 | floor 0.8 held |") !=
         std::string::npos);
-  // 50 failed cases, the first ten shown.
-  CHECK(md.find("<summary>Failed cases: 50 (first 10)</summary>") != std::string::npos);
+  // 50 failed cases, ten shown.
+  CHECK(md.find("<summary>Failed cases: 50 (10 shown, across causes)</summary>") !=
+        std::string::npos);
+  CHECK(md.find("**Why 50 of 400 cases failed:** ") != std::string::npos);
+  CHECK(md.find("| case | cause | gold | answer | reason |") != std::string::npos);
+  // The hidden marker a CI step finds its comment by, last.
+  CHECK(lines.back() == "<!-- plumb:report suite=drift-fixture pipeline=predictions -->");
   CheckTablesKeepTheirColumns(md);
 }
 
@@ -105,7 +111,7 @@ TEST_CASE("the drift summary keeps its tables intact whatever the answers hold")
   plumb::DriftReport report;
   report.base.suite_name = "ferry|handbook";
   report.base.pipeline = "main";
-  report.cand.pipeline = "pr";
+  report.cand.pipeline = "pr --> <script>";
   report.cand.labels = {{"git", "abc|def"}};
   report.paired = {"a", "b"};
   plumb::MetricDrift correct;
@@ -124,7 +130,11 @@ TEST_CASE("the drift summary keeps its tables intact whatever the answers hold")
   lost.deltas = {{"correct", -1}, {"token_f1", -0.5}};
   lost.base_answer = "ten | minutes\n| forged | row |";
   lost.cand_error = "crashed <b>@oncall</b>";
+  lost.cand_cause = plumb::FailureCause::kErrored;
+  lost.cand_reason = "crashed <b>@oncall</b> | cell";
+  lost.gold = {"ten | minutes"};
   report.lost.push_back(lost);
+  report.lost_causes = plumb::BreakDownCauses({plumb::FailureCause::kErrored});
   report.gate.exit_code = 0;
   report.gate.reason = "no gated metric regressed (correct steady)";
   const std::string md = plumb::FormatDriftMarkdown(report);
@@ -136,5 +146,61 @@ TEST_CASE("the drift summary keeps its tables intact whatever the answers hold")
   CHECK(md.find("ten \\| minutes \\| forged \\| row \\|") != std::string::npos);
   CHECK(md.find("@\xE2\x81\xA0oncall") != std::string::npos);
   CHECK(md.find("<b>") == std::string::npos);
+  // Lost cases first, before the metric table, with their cause, gold and reason.
+  CHECK(md.find("**Lost 1:** 1 errored") < md.find("| metric |"));
+  CHECK(md.find("| `a` | errored | -1.0000 | ten \\| minutes | ten \\| minutes \\| forged") !=
+        std::string::npos);
+  CHECK(md.find("crashed \\<b\\>@\xE2\x81\xA0oncall\\</b\\> \\| cell |") != std::string::npos);
+  // The marker cannot be closed early by a name: "-->" and "<" do not survive.
+  CHECK(lines.back() == "<!-- plumb:report suite=ferry_handbook pipeline=pr_-___script_ -->");
+  CheckTablesKeepTheirColumns(md);
+}
+
+TEST_CASE("the shown failed cases are chosen across causes") {
+  // 12 reading misses, 2 retrieval misses and 1 errored case: ten rows take the first of each
+  // cause, then the second, then reading misses: 7, 2 and 1.
+  plumb::LoadedRun run;
+  run.record = {{"plumb_run", 1},
+                {"suite", {{"name", "mix"}, {"case_pass", {{"correct", 1}}}}},
+                {"pipeline", {{"name", "p"}}},
+                {"verdict", {{"exit_code", 1}, {"reason", "floors"}}},
+                {"cases", nlohmann::json::object()}};
+  auto add = [&](const std::string& id, plumb::FailureCause cause) {
+    run.record["cases"][id] = {{"answers", {"gold " + id}}, {"tags", nlohmann::json::array()}};
+    plumb::CaseRecord r;
+    r.id = id;
+    r.scores.values = {{"correct", 0}, {"token_f1", 0}};
+    r.scores.cause = cause;
+    if (cause == plumb::FailureCause::kErrored) {
+      r.error = "timed out";
+      r.scores.errored = true;
+    } else {
+      r.parsed.answer = "wrong";
+    }
+    run.records.push_back(r);
+  };
+  for (int i = 0; i < 12; ++i)
+    add("read" + std::to_string(10 + i), plumb::FailureCause::kReadingMiss);
+  add("retr1", plumb::FailureCause::kRetrievalMiss);
+  add("retr2", plumb::FailureCause::kRetrievalMiss);
+  add("err1", plumb::FailureCause::kErrored);
+  const std::string md = plumb::FormatRunMarkdown(run);
+  int reading = 0, retrieval = 0, errored = 0;
+  for (const std::string& line : Lines(md)) {
+    if (line.rfind("| `", 0) != 0) continue;  // the case rows
+    reading += line.find("| reading miss |") != std::string::npos;
+    retrieval += line.find("| retrieval miss |") != std::string::npos;
+    errored += line.find("| errored |") != std::string::npos;
+  }
+  CHECK(reading == 7);
+  CHECK(retrieval == 2);
+  CHECK(errored == 1);
+  CHECK(md.find("<summary>Failed cases: 15 (10 shown, across causes)</summary>") !=
+        std::string::npos);
+  CHECK(md.find("| `err1` | errored | gold err1 | *error:* timed out | timed out |") !=
+        std::string::npos);
+  // The breakdown, computed from the records (this run.json has no "failures"): 12/15 and its
+  // Wilson interval, statsmodels proportion_confint(12, 15, method='wilson') = (0.54811, 0.92953).
+  CHECK(md.find("| reading miss | 12 | 0.800 | [0.548, 0.930] |") != std::string::npos);
   CheckTablesKeepTheirColumns(md);
 }
