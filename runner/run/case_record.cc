@@ -136,12 +136,11 @@ bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* 
     r->scores.errored = !r->error.empty();
     r->scores.abstained = json.value("abstained_scored", false);
     r->scores.warnings = json.value("warnings", std::vector<std::string>());
-    // A journal written before causes were recorded has none: LoadRun classifies those.
+    // A journal written before causes were recorded has none, and one from a later plumb may
+    // name a cause this one does not know: both are left kNone, and LoadRun and AggregateRun
+    // classify them from the scores.
     const std::string cause = json.value("cause", std::string());
-    if (!cause.empty() && !ParseFailureCause(cause, &r->scores.cause)) {
-      *error = "unknown failure cause '" + cause + "' in a journal record";
-      return false;
-    }
+    if (!ParseFailureCause(cause, &r->scores.cause)) r->scores.cause = FailureCause::kNone;
   } catch (const nlohmann::json::exception& e) {
     *error = std::string("malformed journal record: ") + e.what();
     return false;
