@@ -8,6 +8,7 @@
 #include "runner/report/html_escape.h"
 #include "runner/report/html_report_parts.h"
 #include "runner/report/source_excerpt.h"
+#include "runner/report/text_language.h"
 #include "runner/report/token_diff.h"
 
 namespace plumb {
@@ -184,13 +185,21 @@ std::vector<CaseCardWriter::PlacedRef> CaseCardWriter::Place(
   return out;
 }
 
+std::string CaseCardWriter::QuestionLang(const nlohmann::json& gold) const {
+  return LangToMark(JsonString(gold, "question"), lang_);
+}
+
 void CaseCardWriter::AppendGold(std::string* out, const nlohmann::json& gold) const {
   const std::vector<std::string> answers = JsonStrings(gold, "answers");
   out->append("<h4>Gold answers</h4>");
   if (answers.empty()) {
     out->append("<p class=\"answer none\">none: the pipeline should abstain</p>");
   } else {
-    out->append("<ol class=\"gold\">");
+    std::string joined;
+    for (const std::string& a : answers) joined += a + "\n";
+    const std::string question = QuestionLang(gold);
+    out->append("<ol class=\"gold\"" +
+                LangAttribute(LangToMark(joined, question.empty() ? "en" : question)) + ">");
     for (const std::string& a : answers) {
       out->append("<li>");
       AppendBoundedText(out, a);
@@ -249,7 +258,9 @@ void CaseCardWriter::AppendAnswer(std::string* out, const CaseRecord& record,
   }
   if (record.parsed.answer && !record.parsed.abstained) {
     answer = &*record.parsed.answer;
-    out->append("<p class=\"answer\">");
+    const std::string question = QuestionLang(gold);
+    out->append("<p class=\"answer\"" +
+                LangAttribute(LangToMark(*answer, question.empty() ? "en" : question)) + ">");
     AppendBoundedText(out, *answer);
     out->append("</p>");
   } else {
@@ -491,7 +502,11 @@ void CaseCardWriter::AppendCitations(std::string* out, const CaseRecord& record,
     if (text != nullptr) {
       const SourceExcerpt excerpt =
           BuildSourceExcerpt(*text, *DocumentIndex(doc), gold_marks, cited_marks);
-      AppendSourceExcerptHtml(out, excerpt);
+      auto lang = document_langs_.find(doc);
+      if (lang == document_langs_.end()) {
+        lang = document_langs_.emplace(doc, LangToMark(*text, lang_)).first;
+      }
+      AppendSourceExcerptHtml(out, excerpt, lang->second);
       continue;
     }
     // No document: each gold span's recorded text stands in for it, with the cited parts that
@@ -515,7 +530,7 @@ void CaseCardWriter::AppendCitations(std::string* out, const CaseRecord& record,
       const SourceExcerpt excerpt = BuildSourceExcerpt(recorded, index, g_marks, c_marks);
       out->append("<p class=\"meta\">gold span text as recorded in the run, " +
                   SpanWords(base, span["end"].get<int64_t>()) + ":</p>");
-      AppendSourceExcerptHtml(out, excerpt);
+      AppendSourceExcerptHtml(out, excerpt, LangToMark(recorded, lang_));
       any = true;
     }
     if (!any) {

@@ -64,6 +64,10 @@ class CaseCardWriter {
   /// between two runs, where the full reply would only repeat what the reviewer need not read.
   void AppendReplyBrief(std::string* out, const CaseRecord& record, const nlohmann::json& gold);
 
+  /// The language to mark on the case's question (text_language.h), "" for English; its gold
+  /// answers and the reply fall back to it when their own text does not tell.
+  std::string QuestionLang(const nlohmann::json& gold) const;
+
   /// The short line of key scores a folded card shows: case_pass metrics, token_f1 and
   /// citation_recall when defined, and the latency.
   std::string KeyScores(const CaseRecord& record) const;
@@ -88,6 +92,7 @@ class CaseCardWriter {
   std::unique_ptr<Corpus> corpus_;
   std::string corpus_note_;
   std::map<std::string, std::unique_ptr<metrics::CodePointIndex>> indexes_;
+  std::map<std::string, std::string> document_langs_;  // doc -> language to mark
   std::map<std::string, std::vector<const CaseRecord*>> records_by_id_;
 };
 

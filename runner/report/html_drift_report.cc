@@ -15,6 +15,10 @@
 #include "runner/report/html_report.h"
 #include "runner/report/html_report_parts.h"
 #include "runner/report/source_excerpt.h"
+#include "runner/report/svg_delta_chart.h"
+#include "runner/report/svg_latency_chart.h"
+#include "runner/report/text_language.h"
+#include "runner/run/cause_breakdown.h"
 #include "runner/run/run_record.h"
 
 namespace plumb {
@@ -128,13 +132,6 @@ std::vector<PairedCase> PairCases(const nlohmann::json& drift, const LoadedRun& 
   return out;
 }
 
-std::string SignedScore(double v) {
-  std::string s = FormatScore(v);
-  if (v > 0) s = "+" + s;
-  if (v < 0 && s[0] == '-') s = "\xE2\x88\x92" + s.substr(1);
-  return s;
-}
-
 std::string OrDash(const std::optional<double>& v) {
   return v ? FormatScore(*v) : std::string("\xE2\x80\x94");
 }
@@ -143,7 +140,7 @@ void AppendDelta(std::string* out, double delta) {
   out->append(delta < 0   ? "<span class=\"delta neg\">"
               : delta > 0 ? "<span class=\"delta pos\">"
                           : "<span class=\"delta\">");
-  out->append(SignedScore(delta));
+  out->append(FormatSignedScore(delta));
   out->append("</span>");
 }
 
@@ -189,30 +186,139 @@ std::string ChangedWords(const nlohmann::json& changed) {
   return changed.is_null() ? "not recorded" : Display(changed);
 }
 
-void AppendMasthead(std::string* out, const nlohmann::json& drift, const LoadedRun& cand,
-                    const std::vector<PairedCase>& cases) {
+// A run's floors and ceilings that did not hold, keyed by kind, tag and metric, with the words
+// that name each ("tag safety correct 0.240 < 0.600").
+std::vector<std::pair<std::string, std::string>> BrokenLimits(const LoadedRun& run) {
+  std::vector<std::pair<std::string, std::string>> out;
+  for (const nlohmann::json& t : run.record.value("thresholds", nlohmann::json::array())) {
+    if (!t.is_object() || t.value("held", true)) continue;
+    const bool ceiling = JsonString(t, "kind") == "ceiling";
+    const std::string tag = JsonString(t, "tag");
+    const std::string scope = (tag.empty() ? "" : "tag " + tag + " ") + JsonString(t, "metric");
+    const std::optional<double> value = JsonNumber(t, "value");
+    out.emplace_back((ceiling ? "c|" : "f|") + tag + "|" + JsonString(t, "metric"),
+                     scope + " " +
+                         (value ? FormatScore(*value) + (ceiling ? " > " : " < ") +
+                                      FormatScore(t.value("limit", 0.0))
+                                : std::string("not measured")));
+  }
+  return out;
+}
+
+// "floor", "ceilings", "floors and ceilings" for the keys of BrokenLimits.
+std::string LimitWord(const std::vector<std::string>& keys) {
+  size_t ceilings = 0;
+  for (const std::string& k : keys) ceilings += k[0] == 'c' ? 1 : 0;
+  const size_t floors = keys.size() - ceilings;
+  const char* s = keys.size() == 1 ? "" : "s";
+  if (ceilings == 0) return std::string("floor") + s;
+  if (floors == 0) return std::string("ceiling") + s;
+  return "floors and ceilings";
+}
+
+// The candidate's broken floors and ceilings set against the base's: the same ones, new ones,
+// or none. Empty `chip` when the candidate broke none.
+struct LimitsLine {
+  std::string chip;
+  std::string words;
+};
+
+LimitsLine CompareLimits(const LoadedRun& base, const LoadedRun& cand) {
+  const auto b = BrokenLimits(base), c = BrokenLimits(cand);
+  std::set<std::string> base_keys;
+  for (const auto& [key, words] : b) base_keys.insert(key);
+  std::vector<std::string> same, fresh;
+  std::string same_words, fresh_words;
+  for (const auto& [key, words] : c) {
+    const bool in_base = base_keys.count(key) > 0;
+    (in_base ? same : fresh).push_back(key);
+    std::string& list = in_base ? same_words : fresh_words;
+    list += (list.empty() ? "" : ", ") + words;
+  }
+  const bool any_limit = !cand.record.value("thresholds", nlohmann::json::array()).empty();
+  if (c.empty()) {
+    if (!any_limit) return {"", "the candidate sets no floors or ceilings."};
+    return {"", std::string("the candidate holds every floor and ceiling") +
+                    (b.empty() ? std::string(", as the base did.")
+                               : "; the base broke " + std::to_string(b.size()) + ".")};
+  }
+  if (fresh.empty() && same.size() == base_keys.size()) {
+    return {"Same " + LimitWord(same) + " broken as base",
+            "the candidate breaks the same " + std::to_string(same.size()) + " " + LimitWord(same) +
+                " as the base: " + same_words + "."};
+  }
+  std::string words;
+  if (!fresh.empty()) {
+    words = "the candidate breaks " + std::to_string(fresh.size()) + " " + LimitWord(fresh) +
+            " the base held: " + fresh_words;
+  }
+  if (!same.empty()) {
+    words += (words.empty() ? "the candidate breaks " : "; and ") + std::to_string(same.size()) +
+             " " + LimitWord(same) + " the base broke too: " + same_words;
+  }
+  std::set<std::string> cand_keys;
+  for (const auto& [key, text] : c) cand_keys.insert(key);
+  std::vector<std::string> base_only;
+  std::string base_only_words;
+  for (const auto& [key, text] : b) {
+    if (cand_keys.count(key) > 0) continue;
+    base_only.push_back(key);
+    base_only_words += (base_only_words.empty() ? "" : ", ") + text;
+  }
+  if (!base_only.empty()) {
+    words += "; the base also broke " + std::to_string(base_only.size()) + " " +
+             LimitWord(base_only) + " the candidate holds: " + base_only_words;
+  }
+  return {fresh.empty() ? "Fewer broken than base" : "New " + LimitWord(fresh) + " broken",
+          words + "."};
+}
+
+void AppendMasthead(std::string* out, const nlohmann::json& drift, const LoadedRun& base,
+                    const LoadedRun& cand, const std::vector<PairedCase>& cases) {
   const nlohmann::json gate = drift.value("gate", nlohmann::json::object());
   const int code = static_cast<int>(JsonNumber(gate, "exit_code").value_or(0));
-  int regressed = 0, improved = 0;
+  std::vector<std::string> regressed, improved;
   for (const nlohmann::json& m : drift.value("metrics", nlohmann::json::array())) {
-    regressed += JsonString(m, "verdict") == "regressed" ? 1 : 0;
-    improved += JsonString(m, "verdict") == "improved" ? 1 : 0;
+    if (JsonString(m, "verdict") == "regressed") regressed.push_back(JsonString(m, "metric"));
+    if (JsonString(m, "verdict") == "improved") improved.push_back(JsonString(m, "metric"));
   }
-  // The gate fails for a regressed gated metric or for the candidate's broken floors or
-  // ceilings; say which.
-  const bool gate_regressed = !JsonStrings(gate, "regressed").empty();
-  const bool floors_broken = !JsonStrings(gate, "broken_floors").empty();
-  std::string word = code == 0        ? (regressed > 0  ? "No gated regression"
-                                         : improved > 0 ? "Improved"
-                                                        : "Steady")
-                     : gate_regressed ? "Regressed"
-                     : floors_broken  ? "Floor or ceiling broken"
-                                      : "Gate failed";
+  auto list = [](const std::vector<std::string>& names) {
+    std::string s;
+    for (const std::string& n : names) s += (s.empty() ? "" : ", ") + n;
+    return s;
+  };
+  // Two questions, answered apart (issue 20 item 4): did the candidate get worse than the base,
+  // and does it hold its floors and ceilings (which the base may have broken just the same)?
+  const std::vector<std::string> gate_regressed = JsonStrings(gate, "regressed");
+  const LimitsLine limits = CompareLimits(base, cand);
+  const std::string word = !gate_regressed.empty()            ? "Regressed"
+                           : !regressed.empty()               ? "No gated regression"
+                           : code != 0 && limits.chip.empty() ? "Gate failed"
+                           : !improved.empty()                ? "Improved"
+                                                              : "Steady";
+  std::string comparison;
+  if (!gate_regressed.empty()) {
+    comparison = "gated " + list(gate_regressed) + " regressed";
+  } else if (!regressed.empty()) {
+    comparison = "no gated metric regressed; " + std::to_string(regressed.size()) +
+                 " ungated regressed (" + list(regressed) + ")";
+  } else {
+    comparison = "no regression";
+  }
+  comparison += improved.empty() ? "; nothing improved."
+                                 : "; " + std::to_string(improved.size()) + " improved (" +
+                                       list(improved) + ").";
   out->append(code == 0 ? "<header class=\"mast held\">" : "<header class=\"mast broken\">");
   out->append("<div class=\"wrap\"><div class=\"brand\">plumb <span>drift report</span></div><h1>");
-  out->append("<span class=\"verdict\">");
+  const bool worse = !gate_regressed.empty() || word == "Gate failed";
+  out->append(worse ? "<span class=\"verdict bad\">" : "<span class=\"verdict good\">");
   AppendHtmlText(out, word);
   out->append("</span>");
+  if (!limits.chip.empty()) {
+    out->append("<span class=\"verdict limits bad\">");
+    AppendHtmlText(out, limits.chip);
+    out->append("</span>");
+  }
   std::string suite_name = JsonString(drift, "suite");
   if (suite_name.empty()) {
     suite_name = JsonString(cand.record.value("suite", nlohmann::json::object()), "name");
@@ -225,13 +331,12 @@ void AppendMasthead(std::string* out, const nlohmann::json& drift, const LoadedR
   out->append(" \xE2\x86\x92 ");
   AppendHtmlText(out, JsonString(cand_side, "pipeline"));
   out->append("</h1><p class=\"reason\">");
-  std::string reason = JsonString(gate, "reason");
-  if (reason.empty()) {
-    reason = std::to_string(regressed) + " metrics regressed, " + std::to_string(improved) +
-             " improved.";
-  }
-  AppendHtmlText(out, reason);
-  out->append("</p><dl class=\"facts\">");
+  AppendHtmlText(out, JsonString(gate, "reason"));
+  out->append("</p><ul class=\"lines\"><li><strong>Against the base:</strong> ");
+  AppendHtmlText(out, comparison);
+  out->append("</li><li><strong>Floors and ceilings:</strong> ");
+  AppendHtmlText(out, limits.words);
+  out->append("</li></ul><dl class=\"facts\">");
   AppendRunFacts(out, "base", base_side);
   AppendRunFacts(out, "candidate", cand_side);
   int64_t counts[4] = {0, 0, 0, 0};
@@ -314,8 +419,8 @@ void AppendMetricRows(std::string* out, const std::vector<nlohmann::json>& metri
     }
     out->append("</td><td class=\"num\">");
     if (has_interval) {
-      out->append(SignedScore(interval[0].get<double>()) + " \xE2\x80\xA6 " +
-                  SignedScore(interval[1].get<double>()) + "</td><td>");
+      out->append(FormatSignedScore(interval[0].get<double>()) + " \xE2\x80\xA6 " +
+                  FormatSignedScore(interval[1].get<double>()) + "</td><td>");
       AppendDeltaIntervalBar(out, delta, interval[0].get<double>(), interval[1].get<double>(),
                              range);
     } else {
@@ -408,7 +513,7 @@ void AppendMetricTable(std::string* out, const nlohmann::json& drift) {
 
 // Per-tag rows, in either shape the drift JSON may give them: a list of {"tag", "metrics": [...]}
 // or an object keyed by tag whose value is such a list (or {"metrics": [...]}).
-void AppendTagTable(std::string* out, const nlohmann::json& drift) {
+std::vector<std::pair<std::string, nlohmann::json>> TagRows(const nlohmann::json& drift) {
   const nlohmann::json tags = drift.value("tags", nlohmann::json());
   std::vector<std::pair<std::string, nlohmann::json>> rows;
   auto metrics_of = [](const nlohmann::json& v) {
@@ -423,6 +528,49 @@ void AppendTagTable(std::string* out, const nlohmann::json& drift) {
   } else if (tags.is_object()) {
     for (const auto& [tag, v] : tags.items()) rows.push_back({tag, metrics_of(v)});
   }
+  return rows;
+}
+
+DeltaRow DeltaRowOf(const std::string& label, const nlohmann::json& m) {
+  DeltaRow row;
+  row.label = label;
+  row.delta = JsonNumber(m, "delta");
+  const nlohmann::json interval = m.value("interval", nlohmann::json());
+  if (interval.is_array() && interval.size() == 2 && interval[0].is_number() &&
+      interval[1].is_number()) {
+    row.low = interval[0].get<double>();
+    row.high = interval[1].get<double>();
+  }
+  row.verdict = JsonString(m, "verdict");
+  return row;
+}
+
+// One chart per gated metric: all cases, then each tag, with the min-effect band.
+void AppendTagDeltaCharts(std::string* out, const nlohmann::json& drift,
+                          const std::vector<std::pair<std::string, nlohmann::json>>& rows) {
+  const std::set<std::string> gated = GatedMetrics(drift);
+  if (gated.empty()) return;
+  const double min_effect =
+      JsonNumber(drift.value("settings", nlohmann::json::object()), "min_effect").value_or(0);
+  out->append("<div class=\"charts\">");
+  int index = 0;
+  for (const nlohmann::json& m : drift.value("metrics", nlohmann::json::array())) {
+    const std::string metric = JsonString(m, "metric");
+    if (gated.count(metric) == 0) continue;
+    std::vector<DeltaRow> chart_rows = {DeltaRowOf("all cases", m)};
+    for (const auto& [tag, metrics] : rows) {
+      if (!metrics.is_array()) continue;
+      for (const nlohmann::json& t : metrics) {
+        if (JsonString(t, "metric") == metric) chart_rows.push_back(DeltaRowOf(tag, t));
+      }
+    }
+    AppendDeltaChart(out, "deltas-" + std::to_string(++index), metric, chart_rows, min_effect);
+  }
+  out->append("</div>");
+}
+
+void AppendTagTable(std::string* out, const nlohmann::json& drift) {
+  const std::vector<std::pair<std::string, nlohmann::json>> rows = TagRows(drift);
   if (rows.empty()) return;
   // Many tags times many metrics make a long table: rows whose verdict is not steady come first
   // and always show; the full table is folded.
@@ -453,8 +601,11 @@ void AppendTagTable(std::string* out, const nlohmann::json& drift) {
     out->append("</tbody></table></div>");
   };
   out->append(
-      "<section id=\"tags\"><h2>By tag</h2><p class=\"note\">p-values are Holm-adjusted across "
-      "tags. A tag name filters the cases.</p>");
+      "<section id=\"tags\"><h2>By tag</h2><p class=\"note\">The charts show each gated "
+      "metric's delta per tag with its 95% interval; the shaded band is |delta| &lt; min_effect, "
+      "inside which no change counts. A mark pointing down is a regression, up an improvement. "
+      "In the tables, p-values are Holm-adjusted across tags. A tag name filters the cases.</p>");
+  AppendTagDeltaCharts(out, drift, rows);
   if (moved.empty()) {
     out->append("<p class=\"note\">Every tag is steady on every metric.</p>");
   } else {
@@ -499,6 +650,10 @@ void AppendDriftCard(std::string* out, const PairedCase& c, const nlohmann::json
   AppendHtmlAttribute(out, c.id);
   out->append("\" data-status=\"");
   out->append(status);
+  if (c.cand != nullptr && !c.cand->scores.pass && c.cand->scores.cause != FailureCause::kNone) {
+    out->append("\" data-cause=\"");
+    out->append(FailureCauseId(c.cand->scores.cause));
+  }
   out->append("\" data-tags=\"");
   AppendHtmlAttribute(out, TagsAttribute(JsonStrings(gold, "tags")));
   out->append("\" data-scores=\"");
@@ -508,15 +663,22 @@ void AppendDriftCard(std::string* out, const PairedCase& c, const nlohmann::json
   out->append("<summary><span class=\"badge\">");
   static const char* kBadges[] = {"LOST", "GAINED", "STILL FAILING", "STILL PASSING"};
   out->append(kBadges[static_cast<int>(c.status)]);
-  out->append("</span><code class=\"cid\">");
+  out->append("</span>");
+  // Why a lost or still-failing case fails in the candidate.
+  if (c.cand != nullptr && !c.cand->scores.pass && c.cand->scores.cause != FailureCause::kNone) {
+    out->append("<span class=\"cause\">");
+    out->append(FailureCauseLabel(c.cand->scores.cause));
+    out->append("</span>");
+  }
+  out->append("<code class=\"cid\">");
   AppendHtmlText(out, c.id);
-  out->append("</code><span class=\"sq\">");
+  out->append("</code><span class=\"sq\"" + LangAttribute(base_cards->QuestionLang(gold)) + ">");
   AppendClippedText(out, JsonString(gold, "question"), kShownQuestionCodePoints);
   out->append("</span><span class=\"key\">");
   std::string key;
   for (const auto& [metric, delta] : c.deltas) {
     if (delta == 0) continue;
-    key += (key.empty() ? "" : " \xC2\xB7 ") + metric + " " + SignedScore(delta);
+    key += (key.empty() ? "" : " \xC2\xB7 ") + metric + " " + FormatSignedScore(delta);
   }
   AppendHtmlText(out, key.empty() ? std::string("no score changed") : key);
   out->append("</span></summary><div class=\"cbody\">");
@@ -527,6 +689,26 @@ void AppendDriftCard(std::string* out, const PairedCase& c, const nlohmann::json
   AppendSide(out, "cand", "Candidate", drift.value("cand", nlohmann::json::object()), c.cand, gold,
              cand_cards, !changed);
   out->append("</div></div></details>\n");
+}
+
+// "by cause in the candidate: 3 retrieval miss, 1 reading miss", each cause a link that shows
+// those lost cases; empty when the drift JSON has no breakdown.
+std::string LostByCause(const nlohmann::json& drift) {
+  CauseBreakdown breakdown;
+  auto it = drift.find("lost_by_cause");
+  if (it == drift.end() || !CauseBreakdownFromJson(*it, &breakdown) || breakdown.causes.empty()) {
+    return "";
+  }
+  std::vector<CauseCount> causes = breakdown.causes;
+  std::stable_sort(causes.begin(), causes.end(),
+                   [](const CauseCount& a, const CauseCount& b) { return a.count > b.count; });
+  std::string out = " <span class=\"n\">by cause in the candidate:";
+  for (size_t i = 0; i < causes.size(); ++i) {
+    out += std::string(i ? ", " : " ") + std::to_string(causes[i].count) +
+           " <a href=\"#status=lost&amp;cause=" + std::string(FailureCauseId(causes[i].cause)) +
+           "\">" + std::string(FailureCauseLabel(causes[i].cause)) + "</a>";
+  }
+  return out + "</span>";
 }
 
 void AppendIdList(std::string* out, const nlohmann::json& drift, const char* key, const char* title,
@@ -560,7 +742,7 @@ std::string RenderDriftPage(const nlohmann::json& drift, const LoadedRun& base,
   std::string html;
   html.reserve(4096 + cases.size() * 4096);
   AppendPageStart(&html, "plumb drift \xC2\xB7 " + JsonString(suite, "name"), "drift");
-  AppendMasthead(&html, drift, cand, cases);
+  AppendMasthead(&html, drift, base, cand, cases);
   html.append("<main class=\"wrap\">");
   for (const CaseCardWriter* cards : {&base_cards, &cand_cards}) {
     if (cards->corpus_note().empty()) continue;
@@ -569,7 +751,6 @@ std::string RenderDriftPage(const nlohmann::json& drift, const LoadedRun& base,
     html.append("</p>");
   }
   AppendMetricTable(&html, drift);
-  AppendTagTable(&html, drift);
 
   std::set<std::string> tags;
   std::map<std::string, nlohmann::json> metric_seen;
@@ -602,11 +783,14 @@ std::string RenderDriftPage(const nlohmann::json& drift, const LoadedRun& base,
       {DriftStatus::kPassing, "Still passing", "No case passes in both runs."},
   };
   for (const Group& g : groups) {
-    AppendCaseGroup(&html, DriftStatusName(g.status), g.title, counts[g.status], "", g.empty, [&] {
-      for (const PairedCase& c : cases) {
-        if (c.status == g.status) AppendDriftCard(&html, c, drift, &base_cards, &cand_cards);
-      }
-    });
+    const std::string aside = g.status == DriftStatus::kLost ? LostByCause(drift) : "";
+    AppendCaseGroup(&html, DriftStatusName(g.status), g.title, counts[g.status], aside, g.empty,
+                    [&] {
+                      for (const PairedCase& c : cases) {
+                        if (c.status == g.status)
+                          AppendDriftCard(&html, c, drift, &base_cards, &cand_cards);
+                      }
+                    });
   }
   AppendIdList(
       &html, drift, "unstable", "Unstable",
@@ -616,7 +800,18 @@ std::string RenderDriftPage(const nlohmann::json& drift, const LoadedRun& base,
                "statistics.");
   AppendIdList(&html, drift, "only_in_base", "Only in base", "Not in the candidate run.");
   AppendIdList(&html, drift, "only_in_cand", "Only in candidate", "Not in the base run.");
-  html.append("</section></main>");
+  html.append("</section>");
+  html.append("<section id=\"latency\"><h2>Latency</h2>");
+  AppendLatencyChart(
+      &html, "latency-chart",
+      {RunLatencies("base " + JsonString(drift.value("base", nlohmann::json::object()), "pipeline"),
+                    base),
+       RunLatencies(
+           "candidate " + JsonString(drift.value("cand", nlohmann::json::object()), "pipeline"),
+           cand)});
+  html.append("</section>");
+  AppendTagTable(&html, drift);
+  html.append("</main>");
   AppendPageEnd(&html);
   return html;
 }

@@ -59,10 +59,73 @@ svg.iv .span{fill:var(--cite)}
 svg.iv .mean{fill:var(--ink)}
 svg.iv .floor{fill:var(--broken)}
 svg.iv .zero{fill:var(--muted)}
-.tagtable td{white-space:nowrap}
-.tagtable .iv{display:block;color:var(--muted);font-size:11px}
+.grid{width:100%;table-layout:fixed;font-size:13px}
+.grid col.tg{width:11em}
+.grid col.cn{width:4.2em}
+.grid th,.grid td{padding:3px 4px}
+.grid tbody th{font-weight:400;text-transform:none;letter-spacing:0;font-size:13px;overflow-wrap:anywhere;white-space:normal}
+.grid th.m{vertical-align:bottom;height:13.5em;text-transform:none;letter-spacing:0}
+.grid th.m span{writing-mode:vertical-rl;transform:rotate(180deg);white-space:nowrap;display:inline-block;max-height:13.5em;overflow:hidden;text-overflow:ellipsis}
+.grid td{text-align:center;font-variant-numeric:tabular-nums;white-space:nowrap;position:relative}
+.grid td.num{text-align:right}
+.grid td.na,.grid td.cc.none{color:var(--muted)}
+.grid th.c{color:var(--broken)}
+.grid td.cc{background:#f8ece8}
+.grid td.cc.none{background:transparent}
+.grid td.v0{background:#fbf9f3}
+.grid td.v1{background:#efe8d8}
+.grid td.v2{background:#e2d7bd}
+.grid td.v3{background:#d3c29c}
+.grid td.v4{background:#c2ab78}
+.grid td:focus{outline:2px solid var(--cite);outline-offset:-2px}
+.grid .fl{font-weight:700;margin-left:1px}
+.grid .fl.held{color:var(--held)}
+.grid .fl.broken{color:var(--broken)}
+.tip{position:absolute;width:1px;height:1px;overflow:hidden;clip:rect(0 0 0 0);white-space:nowrap}
+.grid td:hover .tip,.grid td:focus .tip{clip:auto;width:16em;height:auto;overflow:visible;white-space:normal;text-align:left;z-index:3;right:0;top:100%;background:var(--ink);color:var(--card);padding:3px 7px;border-radius:3px;font-size:12px}
+.grid td:nth-child(-n+10) .tip{right:auto;left:0}
+.grid tr:nth-last-child(-n+3) .tip{top:auto;bottom:100%}
+.grid thead th{vertical-align:bottom}
+figure.chart{margin:8px 0 0;max-width:760px}
+figure.chart svg.latency,figure.chart svg.deltas{width:100%;height:auto;background:var(--card);border:1px solid var(--rule);border-radius:3px}
+figure.chart figcaption{font-size:13px;color:var(--muted);display:flex;flex-direction:column;gap:2px;margin-top:4px}
+svg .gl{stroke:#e4ddcd;stroke-width:1}
+svg .tick{stroke:var(--muted);stroke-width:1}
+svg .frame{fill:none;stroke:var(--rule)}
+svg text{font-size:11px;fill:var(--muted);font-family:system-ui,"DejaVu Sans",sans-serif}
+svg .xl,svg .xt{text-anchor:middle}
+svg .yl,svg .lab{text-anchor:end}
+svg .yt{text-anchor:middle}
+svg .xt,svg .yt{font-size:12px;fill:var(--ink)}
+svg .cdf{fill:none;stroke-width:2}
+svg .cdf.s0{stroke:var(--ink)}
+svg .cdf.s1{stroke:var(--brass);stroke-dasharray:6 4}
+.swatch{vertical-align:middle;margin-right:6px}
+.charts{display:flex;flex-wrap:wrap;gap:12px 18px}
+.charts figure.chart{flex:0 1 372px;min-width:0;margin:0}
+svg .band{fill:#ece5d3}
+svg .zero{stroke:var(--ink);stroke-width:1.5}
+svg .ci{stroke:var(--cite);stroke-width:2.5;stroke-linecap:round}
+svg .mk{fill:var(--ink)}
+svg .row.down .mk{fill:var(--broken)}
+svg .row.up .mk{fill:var(--held)}
+svg .lab{font-size:11px;fill:var(--ink)}
+h1 .verdict.limits{font-size:16px;vertical-align:3px}
+h1 .verdict.good{color:var(--held)}
+h1 .verdict.bad{color:var(--broken)}
+.lines{margin:0 0 8px;padding:0;list-style:none;font-size:15px;overflow-wrap:anywhere}
+.lines strong{font-weight:600;margin-right:4px}
+table.causes a{color:var(--ink);font-weight:600}
+table.causes tr.sub td{border-bottom:1px solid var(--rule);padding-top:0}
+.case .cause{font-size:12px;font-weight:600;color:var(--broken)}
+.case .cause::before{content:"\2192  "}
+.reasons{margin:4px 0 0;padding-left:22px;font-size:14px;overflow-wrap:anywhere}
+.reasons a{color:var(--errored);font-weight:700;margin-right:4px}
+h4.because{font-size:14px;text-transform:none;letter-spacing:0;color:var(--errored);margin:12px 0 6px;overflow-wrap:anywhere}
+h4.because strong{margin-right:6px}
+.reason{overflow-wrap:anywhere}
 .note{color:var(--muted);font-size:14px}
-.top{display:grid;grid-template-columns:auto minmax(0,1fr);gap:0 36px;align-items:start}
+.top{display:grid;grid-template-columns:minmax(0,auto) minmax(0,1fr);gap:0 36px;align-items:start}
 .top section{min-width:0}
 .warnbox{border:1px solid var(--broken);background:#fbefec;padding:6px 10px;border-radius:3px;font-size:14px}
 .filters{position:sticky;top:0;z-index:2;background:var(--paper);padding:8px 0;border-bottom:1px solid var(--rule);display:flex;flex-wrap:wrap;gap:8px 14px;align-items:center}
@@ -193,7 +256,7 @@ const std::string_view kReportScript = R"JS(
   var qIn = form.elements.q, sortSel = form.elements.sort;
   var shownEl = document.getElementById('shown');
   var groups = Array.prototype.slice.call(document.querySelectorAll('.group'));
-  var state = { status: allStatuses.slice(), tag: '', metric: '', below: '', q: '', sort: '' };
+  var state = { status: allStatuses.slice(), tag: '', metric: '', below: '', q: '', sort: '', cause: '' };
   var sortedBy = '|';  // the page arrives in its default order
 
   function decodeList(el, name) {
@@ -218,7 +281,7 @@ const std::string_view kReportScript = R"JS(
 
   function readHash() {
     var h = location.hash.slice(1);
-    var s = { status: allStatuses.slice(), tag: '', metric: '', below: '', q: '', sort: '' };
+    var s = { status: allStatuses.slice(), tag: '', metric: '', below: '', q: '', sort: '', cause: '' };
     if (h.indexOf('=') < 0) return s;
     var p = new URLSearchParams(h);
     if (p.has('status')) {
@@ -226,13 +289,13 @@ const std::string_view kReportScript = R"JS(
         return allStatuses.indexOf(x) >= 0;
       });
     }
-    ['tag', 'metric', 'below', 'q', 'sort'].forEach(function (k) { s[k] = p.get(k) || ''; });
+    ['tag', 'metric', 'below', 'q', 'sort', 'cause'].forEach(function (k) { s[k] = p.get(k) || ''; });
     return s;
   }
   function writeHash() {
     var p = new URLSearchParams();
     if (state.status.length !== allStatuses.length) p.set('status', state.status.join(','));
-    ['tag', 'metric', 'below', 'q', 'sort'].forEach(function (k) { if (state[k]) p.set(k, state[k]); });
+    ['tag', 'metric', 'below', 'q', 'sort', 'cause'].forEach(function (k) { if (state[k]) p.set(k, state[k]); });
     var s = p.toString();
     var url = s ? '#' + s : location.pathname + location.search;
     if (('#' + s) === location.hash || (!s && !location.hash)) return;
@@ -272,9 +335,7 @@ const std::string_view kReportScript = R"JS(
     var key = state.sort + '|' + (state.sort === 'metric' ? state.metric : '');
     if (key === sortedBy) return;
     sortedBy = key;
-    groups.forEach(function (g) {
-      var list = g.querySelector('.cards');
-      if (!list) return;
+    Array.prototype.forEach.call(document.querySelectorAll('.cards'), function (list) {
       info.filter(function (c) { return c.el.parentNode === list; }).sort(compare)
         .forEach(function (c) { list.appendChild(c.el); });
     });
@@ -288,6 +349,7 @@ const std::string_view kReportScript = R"JS(
     info.forEach(function (c) {
       var ok = true;
       if (state.tag && tagsOf(c).indexOf(state.tag) < 0) ok = false;
+      if (ok && state.cause && c.el.getAttribute('data-cause') !== state.cause) ok = false;
       if (ok && byMetric) {
         var v = scoresOf(c)[state.metric];
         if (typeof v !== 'number' || !(v < below)) ok = false;
@@ -308,10 +370,22 @@ const std::string_view kReportScript = R"JS(
       if (out) out.textContent = n + ' shown';
     });
     shownEl.textContent = 'Showing ' + shown + ' of ' + info.length +
-        (info.length === 1 ? ' case.' : ' cases.');
+        (info.length === 1 ? ' case.' : ' cases.') + causeWords();
     sortCards();
   }
 
+  // The cause filter has no control of its own: it comes from a cause link (#cause=ID), and
+  // the shown line names it until "clear filters".
+  function causeWords() {
+    if (!state.cause) return '';
+    var links = document.querySelectorAll('a[href*="cause="]'), label = state.cause;
+    var tail = 'cause=' + state.cause;
+    for (var i = 0; i < links.length; i++) {
+      var href = links[i].getAttribute('href');
+      if (href.slice(href.length - tail.length) === tail) label = links[i].textContent;
+    }
+    return ' Cause: ' + label + '.';
+  }
   function fromForm() {
     state.tag = tagSel.value;
     state.metric = metricSel.value;
@@ -342,7 +416,7 @@ const std::string_view kReportScript = R"JS(
   document.getElementById('unfold').addEventListener('click', function () { fold(true); });
   document.getElementById('fold').addEventListener('click', function () { fold(false); });
   document.getElementById('reset').addEventListener('click', function () {
-    state = { status: allStatuses.slice(), tag: '', metric: '', below: '', q: '', sort: '' };
+    state = { status: allStatuses.slice(), tag: '', metric: '', below: '', q: '', sort: '', cause: '' };
     showState();
     apply();
     writeHash();
@@ -493,6 +567,14 @@ void AppendCaseGroup(std::string* out, std::string_view name, std::string_view t
   out->append("<div class=\"cards\">");
   cards();
   out->append("</div></div>");
+}
+
+void AppendCardListBreak(std::string* out, std::string_view id, std::string_view heading) {
+  out->append("</div><h4 class=\"because\" id=\"");
+  out->append(id);
+  out->append("\">");
+  out->append(heading);
+  out->append("</h4><div class=\"cards\">");
 }
 
 void AppendPageEnd(std::string* out) {

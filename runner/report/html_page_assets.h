@@ -56,6 +56,11 @@ void AppendCaseGroup(std::string* out, std::string_view name, std::string_view t
                      std::string_view aside, std::string_view empty,
                      const std::function<void()>& cards);
 
+/// Inside a group's `cards` callback: ends the current list of cards and starts another under an
+/// <h4> whose content is `heading` (trusted HTML; escape untrusted parts first) and whose id is
+/// `id` (plain ASCII), so a group can hold its cards in several labelled lists.
+void AppendCardListBreak(std::string* out, std::string_view id, std::string_view heading);
+
 /// Appends the footer with SPEC §12's caution, the script and the closing tags.
 void AppendPageEnd(std::string* out);
 

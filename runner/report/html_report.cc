@@ -1,17 +1,23 @@
 #include "runner/report/html_report.h"
 
 #include <algorithm>
+#include <cstdio>
 #include <map>
 #include <optional>
 #include <set>
 
+#include "runner/report/error_reason_groups.h"
 #include "runner/report/html_bounded_text.h"
 #include "runner/report/html_case_card.h"
 #include "runner/report/html_escape.h"
 #include "runner/report/html_interval_bar.h"
 #include "runner/report/html_page_assets.h"
 #include "runner/report/html_report_parts.h"
+#include "runner/report/html_tag_grid.h"
 #include "runner/report/source_excerpt.h"
+#include "runner/report/svg_latency_chart.h"
+#include "runner/report/text_language.h"
+#include "runner/run/run_failures.h"
 #include "runner/run/run_record.h"
 
 namespace plumb {
@@ -259,71 +265,7 @@ void AppendScoresTable(std::string* out, const nlohmann::json& record) {
   out->append("</section>");
 }
 
-void AppendTagTable(std::string* out, const nlohmann::json& record) {
-  const nlohmann::json aggregates = record.value("aggregates", nlohmann::json::object());
-  const nlohmann::json tags = aggregates.value("tags", nlohmann::json::object());
-  if (!tags.is_object() || tags.empty()) return;
-  // Columns: the metrics any tag defines, in the run table's order.
-  nlohmann::json seen = nlohmann::json::object();
-  for (const auto& [tag, t] : tags.items()) {
-    const nlohmann::json metrics = t.value("metrics", nlohmann::json::object());
-    for (const auto& [metric, m] : metrics.items()) seen[metric] = m;
-  }
-  const std::vector<std::string> columns = MetricOrder(seen);
-  struct Limit {
-    double value = 0;
-    bool held = false;
-    bool ceiling = false;
-  };
-  std::map<std::pair<std::string, std::string>, Limit> floors;
-  for (const nlohmann::json& t : record.value("thresholds", nlohmann::json::array())) {
-    if (!t.value("tag", nlohmann::json()).is_string()) continue;
-    floors[{JsonString(t, "tag"), JsonString(t, "metric")}] = {
-        t.value("limit", 0.0), t.value("held", false), JsonString(t, "kind") == "ceiling"};
-  }
-  out->append(
-      "<section id=\"tags\"><h2>By tag</h2><p class=\"note\">Mean, and 95% interval below it. "
-      "A tag name filters the cases.</p><div class=\"scroll\"><table class=\"tagtable\"><thead>"
-      "<tr><th>tag</th><th>cases</th>");
-  for (const std::string& metric : columns) {
-    out->append("<th>");
-    AppendHtmlText(out, metric);
-    out->append("</th>");
-  }
-  out->append("</tr></thead><tbody>");
-  for (const auto& [tag, t] : tags.items()) {
-    out->append("<tr><td>");
-    AppendTagLink(out, tag);
-    out->append("</td><td class=\"num\">" + std::to_string(t.value("cases", int64_t{0})) + "</td>");
-    const nlohmann::json metrics = t.value("metrics", nlohmann::json::object());
-    for (const std::string& metric : columns) {
-      out->append("<td class=\"num\">");
-      auto it = metrics.find(metric);
-      if (it != metrics.end()) {
-        const nlohmann::json interval = it->value("interval", nlohmann::json::array());
-        out->append(FormatScore(it->value("mean", 0.0)));
-        auto floor = floors.find({tag, metric});
-        if (floor != floors.end()) {
-          out->append(floor->second.held ? " <span class=\"res held\">"
-                                         : " <span class=\"res broken\">");
-          out->append(floor->second.ceiling ? "ceiling " : "floor ");
-          out->append(FormatScore(floor->second.value) + "</span>");
-        }
-        if (interval.size() == 2) {
-          out->append("<span class=\"iv\">" + FormatScore(interval[0].get<double>()) +
-                      "\xE2\x80\x93" + FormatScore(interval[1].get<double>()) + "</span>");
-        }
-      } else {
-        out->append("<span class=\"note\">\xE2\x80\x94</span>");
-      }
-      out->append("</td>");
-    }
-    out->append("</tr>");
-  }
-  out->append("</tbody></table></div></section>");
-}
-
-void AppendCaseCard(std::string* out, const CaseEntry& c, CaseCardWriter* cards) {
+void AppendCaseCard(std::string* out, const CaseEntry& c, CaseCardWriter* cards, bool open) {
   static const nlohmann::json kNoGold = nlohmann::json::object();
   const nlohmann::json& gold = c.gold != nullptr ? *c.gold : kNoGold;
   const char* status = CaseStatusName(c.status);
@@ -333,6 +275,13 @@ void AppendCaseCard(std::string* out, const CaseEntry& c, CaseCardWriter* cards)
   AppendHtmlAttribute(out, c.id);
   out->append("\" data-status=\"");
   out->append(status);
+  const FailureCause cause = c.shown != nullptr && c.status != CaseStatus::kPassed
+                                 ? c.shown->scores.cause
+                                 : FailureCause::kNone;
+  if (cause != FailureCause::kNone) {
+    out->append("\" data-cause=\"");
+    out->append(FailureCauseId(cause));
+  }
   out->append("\" data-tags=\"");
   AppendHtmlAttribute(out, TagsAttribute(JsonStrings(gold, "tags")));
   out->append("\" data-scores=\"");
@@ -341,14 +290,20 @@ void AppendCaseCard(std::string* out, const CaseEntry& c, CaseCardWriter* cards)
   if (c.shown != nullptr) {
     out->append(" data-latency=\"" + FormatNumber(c.shown->latency_ms) + "\"");
   }
-  out->append(c.status == CaseStatus::kPassed ? ">" : " open>");
+  out->append(open ? " open>" : ">");
   out->append("<summary><span class=\"badge\">");
   out->append(c.status == CaseStatus::kPassed    ? "PASSED"
               : c.status == CaseStatus::kErrored ? "ERRORED"
                                                  : "FAILED");
-  out->append("</span><code class=\"cid\">");
+  out->append("</span>");
+  if (cause != FailureCause::kNone && cause != FailureCause::kErrored) {
+    out->append("<span class=\"cause\">");
+    out->append(FailureCauseLabel(cause));
+    out->append("</span>");
+  }
+  out->append("<code class=\"cid\">");
   AppendHtmlText(out, c.id);
-  out->append("</code><span class=\"sq\">");
+  out->append("</code><span class=\"sq\"" + LangAttribute(cards->QuestionLang(gold)) + ">");
   AppendClippedText(out, JsonString(gold, "question"), kShownQuestionCodePoints);
   out->append("</span><span class=\"key\">");
   if (c.shown != nullptr) AppendHtmlText(out, cards->KeyScores(*c.shown));
@@ -366,11 +321,94 @@ void AppendCaseCard(std::string* out, const CaseEntry& c, CaseCardWriter* cards)
 
 namespace {
 
+void AppendLatency(std::string* out, const LoadedRun& run) {
+  out->append("<section id=\"latency\"><h2>Latency</h2>");
+  const nlohmann::json pipeline = run.record.value("pipeline", nlohmann::json::object());
+  AppendLatencyChart(out, "latency-chart", {RunLatencies(JsonString(pipeline, "name"), run)});
+  out->append("</section>");
+}
+
+std::string Percent(double share) {
+  char buffer[32];
+  std::snprintf(buffer, sizeof buffer, "%.1f%%", 100 * share);
+  return buffer;
+}
+
+// Why the failed cases failed, at the top of the page: each cause (runner/run/failure_cause.h)
+// with its count and share of all cases with a 95% interval, as a link that filters the cards
+// (#cause=ID); under "errored", the most common error reasons, each a link to its cards.
+void AppendCauses(std::string* out, const CauseBreakdown& breakdown,
+                  const std::vector<ErrorReasonGroup>& reasons) {
+  out->append("<section id=\"causes\"><h2>Why cases failed</h2>");
+  if (breakdown.causes.empty()) {
+    out->append("<p class=\"note\">No case failed or errored.</p></section>");
+    return;
+  }
+  out->append(
+      "<table class=\"causes\"><thead><tr><th>cause</th><th class=\"num\">cases</th><th>share "
+      "of all " +
+      std::to_string(breakdown.cases) + " (95% interval)</th></tr></thead><tbody>");
+  for (const CauseCount& c : breakdown.causes) {
+    out->append("<tr><td><a href=\"#cause=");
+    out->append(FailureCauseId(c.cause));
+    out->append("\">");
+    out->append(FailureCauseLabel(c.cause));
+    out->append("</a></td><td class=\"num\"><strong>" + std::to_string(c.count) +
+                "</strong></td><td class=\"num\">" + Percent(c.share) + " (" +
+                Percent(c.interval.low) + "\xE2\x80\x93" + Percent(c.interval.high) +
+                ")</td></tr>");
+    if (c.cause != FailureCause::kErrored || reasons.empty()) continue;
+    out->append("<tr class=\"sub\"><td colspan=\"3\"><ol class=\"reasons\">");
+    const size_t shown = std::min<size_t>(reasons.size(), 3);
+    for (size_t i = 0; i < shown; ++i) {
+      out->append("<li><a href=\"#errors-" + std::to_string(i + 1) + "\"><strong>" +
+                  std::to_string(reasons[i].members.size()) + "</strong></a> ");
+      AppendClippedText(out, reasons[i].reason, kShownQuestionCodePoints);
+      if (reasons[i].variants > 1) {
+        out->append(" <span class=\"note\">(and " + std::to_string(reasons[i].variants - 1) +
+                    " like it)</span>");
+      }
+      out->append("</li>");
+    }
+    if (reasons.size() > shown) {
+      out->append("<li class=\"note\">" + std::to_string(reasons.size() - shown) +
+                  " more reasons, listed with the errored cases</li>");
+    }
+    out->append("</ol></td></tr>");
+  }
+  out->append(
+      "</tbody></table><p class=\"note\">Each failed case has one cause, the first that applies "
+      "in this order. A cause shows its cards.</p></section>");
+}
+
+// Cards open on arrival: the first kOpenCards failed or errored ones; the rest are folded.
+constexpr int kOpenCards = 10;
+
 std::string RenderRunPage(const LoadedRun& run) {
   CaseCardWriter cards(run);
   const std::vector<CaseEntry> cases = CollectCases(run);
   const nlohmann::json suite = run.record.value("suite", nlohmann::json::object());
   const nlohmann::json pipeline = run.record.value("pipeline", nlohmann::json::object());
+
+  std::set<std::string> tags;
+  std::map<std::string, nlohmann::json> metric_seen;
+  std::map<CaseStatus, int64_t> counts;
+  std::vector<const CaseEntry*> errored;
+  std::vector<std::string> errors;
+  for (const CaseEntry& c : cases) {
+    counts[c.status] += 1;
+    if (c.gold != nullptr) {
+      for (const std::string& tag : JsonStrings(*c.gold, "tags")) tags.insert(tag);
+    }
+    if (c.shown != nullptr) {
+      for (const auto& [metric, value] : c.shown->scores.values) metric_seen[metric] = value;
+    }
+    if (c.status == CaseStatus::kErrored) {
+      errored.push_back(&c);
+      errors.push_back(c.shown != nullptr ? c.shown->error : std::string());
+    }
+  }
+  const std::vector<ErrorReasonGroup> reasons = GroupErrorReasons(errors);
 
   std::string html;
   html.reserve(4096 + cases.size() * 4096);
@@ -382,22 +420,9 @@ std::string RenderRunPage(const LoadedRun& run) {
   html.append("<main class=\"wrap\">");
   html.append("<div class=\"top\">");
   AppendFloors(&html, run.record);
-  AppendScoresTable(&html, run.record);
+  AppendCauses(&html, RunCauseBreakdown(run), reasons);
   html.append("</div>");
-  AppendTagTable(&html, run.record);
 
-  std::set<std::string> tags;
-  std::map<std::string, nlohmann::json> metric_seen;
-  std::map<CaseStatus, int64_t> counts;
-  for (const CaseEntry& c : cases) {
-    counts[c.status] += 1;
-    if (c.gold != nullptr) {
-      for (const std::string& tag : JsonStrings(*c.gold, "tags")) tags.insert(tag);
-    }
-    if (c.shown != nullptr) {
-      for (const auto& [metric, value] : c.shown->scores.values) metric_seen[metric] = value;
-    }
-  }
   html.append("<section id=\"cases\"><h2>Cases</h2>");
   html.append(MarkLegendHtml());
   AppendFilterForm(&html,
@@ -406,27 +431,61 @@ std::string RenderRunPage(const LoadedRun& run) {
                     {"passed", "passed", counts[CaseStatus::kPassed]}},
                    {tags.begin(), tags.end()}, MetricOrder(nlohmann::json(metric_seen)), "score of",
                    static_cast<int64_t>(cases.size()));
-  struct Group {
-    CaseStatus status;
-    const char* title;
-    const char* empty;
+  int open_left = kOpenCards;
+  auto folded_note = [&](int64_t count) -> std::string {
+    const int64_t open = std::min<int64_t>(count, std::max(open_left, 0));
+    if (open == count) return "";
+    return "<span class=\"n\">" + (open > 0 ? "first " + std::to_string(open) + " open, " : "") +
+           std::to_string(count - open) + " folded</span>";
   };
-  const Group groups[] = {
-      {CaseStatus::kFailed, "Failed", "No case failed on its answer."},
-      {CaseStatus::kErrored, "Errored", "No call failed."},
-      {CaseStatus::kPassed, "Passed", "No case passed."},
-  };
-  for (const Group& g : groups) {
-    const bool folded = g.status == CaseStatus::kPassed && counts[g.status] > 0;
-    AppendCaseGroup(&html, CaseStatusName(g.status), g.title, counts[g.status],
-                    folded ? "<span class=\"n\">folded: open a case to read it</span>" : "",
-                    g.empty, [&] {
+  auto failed_group = [&] {
+    AppendCaseGroup(&html, "failed", "Failed", counts[CaseStatus::kFailed],
+                    folded_note(counts[CaseStatus::kFailed]), "No case failed on its answer.", [&] {
                       for (const CaseEntry& c : cases) {
-                        if (c.status == g.status) AppendCaseCard(&html, c, &cards);
+                        if (c.status != CaseStatus::kFailed) continue;
+                        AppendCaseCard(&html, c, &cards, open_left-- > 0);
                       }
                     });
+  };
+  // Errored cards under one heading per reason, the most common reason first.
+  auto errored_group = [&] {
+    AppendCaseGroup(&html, "errored", "Errored", counts[CaseStatus::kErrored],
+                    folded_note(counts[CaseStatus::kErrored]), "No call failed.", [&] {
+                      for (size_t g = 0; g < reasons.size(); ++g) {
+                        std::string heading =
+                            "<strong>" + std::to_string(reasons[g].members.size()) + "</strong> ";
+                        AppendClippedText(&heading, reasons[g].reason, kShownQuestionCodePoints);
+                        AppendCardListBreak(&html, "errors-" + std::to_string(g + 1), heading);
+                        for (size_t i : reasons[g].members) {
+                          AppendCaseCard(&html, *errored[i], &cards, open_left-- > 0);
+                        }
+                      }
+                    });
+  };
+  // When the run failed for its errors, they lead.
+  const bool errors_first =
+      run.record.value("verdict", nlohmann::json::object()).value("exit_code", 0) == 3;
+  if (errors_first) {
+    errored_group();
+    failed_group();
+  } else {
+    failed_group();
+    errored_group();
   }
-  html.append("</section></main>");
+  AppendCaseGroup(&html, "passed", "Passed", counts[CaseStatus::kPassed],
+                  counts[CaseStatus::kPassed] > 0
+                      ? "<span class=\"n\">folded: open a case to read it</span>"
+                      : "",
+                  "No case passed.", [&] {
+                    for (const CaseEntry& c : cases) {
+                      if (c.status == CaseStatus::kPassed) AppendCaseCard(&html, c, &cards, false);
+                    }
+                  });
+  html.append("</section>");
+  AppendScoresTable(&html, run.record);
+  AppendLatency(&html, run);
+  AppendTagGrid(&html, run.record, RunFailures(run));
+  html.append("</main>");
   AppendPageEnd(&html);
   return html;
 }

@@ -13,6 +13,13 @@ std::string FormatScore(double value) {
   return buffer;
 }
 
+std::string FormatSignedScore(double value) {
+  std::string s = FormatScore(value);
+  if (value > 0) s = "+" + s;
+  if (value < 0 && s[0] == '-') s = "\xE2\x88\x92" + s.substr(1);
+  return s;
+}
+
 std::string FormatNumber(double value) {
   char buffer[32];
   std::snprintf(buffer, sizeof buffer, "%.10g", value);

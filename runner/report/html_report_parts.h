@@ -17,6 +17,9 @@ namespace plumb {
 
 /// Scores: three decimals ("0.308", "1.000").
 std::string FormatScore(double value);
+/// A difference of scores: three decimals with its sign, a true minus sign for negatives
+/// ("+0.250", "\u22120.500", "0.000").
+std::string FormatSignedScore(double value);
 /// Other numbers (gold values, tolerances): shortest form, "10", "0.25", "1e+06".
 std::string FormatNumber(double value);
 /// Latencies: "0.42 ms", "812 ms", "31.0 s".

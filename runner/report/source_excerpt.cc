@@ -3,6 +3,7 @@
 #include <algorithm>
 
 #include "runner/report/html_escape.h"
+#include "runner/report/text_language.h"
 
 namespace plumb {
 namespace {
@@ -122,8 +123,9 @@ void AppendGap(std::string* out, int64_t omitted) {
 
 }  // namespace
 
-void AppendSourceExcerptHtml(std::string* out, const SourceExcerpt& excerpt) {
-  out->append("<div class=\"src\">");
+void AppendSourceExcerptHtml(std::string* out, const SourceExcerpt& excerpt,
+                             const std::string& lang) {
+  out->append("<div class=\"src\"" + LangAttribute(lang) + ">");
   for (const ExcerptPiece& piece : excerpt.pieces) {
     AppendGap(out, piece.omitted_before);
     for (const std::string& label : piece.labels) {

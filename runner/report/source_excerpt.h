@@ -56,8 +56,10 @@ SourceExcerpt BuildSourceExcerpt(std::string_view text, const metrics::CodePoint
 /// <mark class="m-gold"> (underlined), a cited piece outside gold a <mark class="m-cite">
 /// (outlined), a piece both gold and cited a <mark class="m-both"> (underlined, outlined and
 /// shaded); labels come as <span class="lbl"> before the piece, and omitted text as
-/// "[… N characters …]". The page explains the marks once, in words (MarkLegendHtml).
-void AppendSourceExcerptHtml(std::string* out, const SourceExcerpt& excerpt);
+/// "[… N characters …]". The page explains the marks once, in words (MarkLegendHtml). A
+/// non-empty `lang` (a BCP 47 tag, text_language.h) is put on the div.
+void AppendSourceExcerptHtml(std::string* out, const SourceExcerpt& excerpt,
+                             const std::string& lang = std::string());
 
 /// One paragraph that says in words what each mark and label of excerpts and diffs means.
 const char* MarkLegendHtml();

@@ -295,3 +295,175 @@ TEST_CASE("html report: a 1 MB answer makes a bounded case card", "[html_report]
   CHECK(card.size() < answer.size() + 64 * 1024);
   std::filesystem::remove_all(dir);
 }
+
+// Issue 20 item 2: the page leads with the failures. Twelve cases answered wrongly and three
+// errored, their journal errors set by hand to two reasons (two texts that differ only in a
+// number, and a timeout): the first ten failed cards arrive open and the rest folded, the
+// errored cards sit under one heading per reason with the larger group first, the cause
+// section at the top counts both, and the scores and the tag grid follow the cards.
+TEST_CASE("html report: first ten failed cards open, errored cards grouped by reason",
+          "[html_report]") {
+  const std::string dir = plumb_test::MakeTempDir();
+  std::string suite = "plumb: 1\nname: lead\nmax_error_rate: 1\ncases:\n";
+  std::string predictions;
+  for (int i = 1; i <= 12; ++i) {
+    const std::string id = (i < 10 ? "f0" : "f") + std::to_string(i);
+    suite += "  - {id: " + id + ", question: \"Q" + std::to_string(i) +
+             "?\", answers: [\"yes\"], tags: [t" + std::to_string(i % 2) + "]}\n";
+    predictions += "{\"id\": \"" + id + "\", \"answer\": \"no\"}\n";
+  }
+  for (const char* id : {"e1", "e2", "e3"}) {
+    suite += std::string("  - {id: ") + id + ", question: \"Q?\", answers: [\"yes\"]}\n";
+  }
+  WriteFile(dir + "/suite.yaml", suite);
+  WriteFile(dir + "/predictions.jsonl", predictions);
+  const plumb_test::Result r = plumb_test::Plumb(
+      {"score", dir + "/suite.yaml", dir + "/predictions.jsonl", "--out", dir + "/run"}, dir);
+  INFO(r.err);
+  REQUIRE(r.code == 0);
+  // Each errored case's journal line says "no prediction for this case in PATH"; give them the
+  // reasons a pipeline would.
+  std::string journal = ReadFile(dir + "/run/cases.jsonl");
+  const std::string missing = "no prediction for this case in " + dir + "/predictions.jsonl";
+  const char* reasons[] = {"retrieved[0]: missing string field 'document'", "timed out after 30 s",
+                           "retrieved[3]: missing string field 'document'"};
+  for (const char* reason : reasons) {
+    const size_t at = journal.find(missing);
+    REQUIRE(at != std::string::npos);
+    journal.replace(at, missing.size(), reason);
+  }
+  WriteFile(dir + "/run/cases.jsonl", journal);
+  plumb::LoadedRun run;
+  std::string error;
+  REQUIRE(plumb::LoadRun(dir + "/run", &run, &error));
+  REQUIRE(plumb::WriteHtmlRunReport(run, dir + "/report.html", &error));
+  const std::string html = ReadFile(dir + "/report.html");
+
+  for (const char* id : {"f01", "f05", "f10"}) {
+    CHECK(Card(html, id).find(" open>") != std::string::npos);
+  }
+  for (const char* id : {"f11", "f12", "e1", "e2", "e3"}) {
+    CHECK(Card(html, id).find(" open>") == std::string::npos);
+  }
+  CHECK(html.find("first 10 open, 2 folded") != std::string::npos);
+  CHECK(html.find("<span class=\"n\">3 folded</span>") != std::string::npos);
+  // Errored: the two "retrieved[N]" errors make one reason, named by its first text.
+  const size_t group1 = html.find(
+      "<h4 class=\"because\" id=\"errors-1\"><strong>2</strong> retrieved[0]: missing string "
+      "field 'document'</h4>");
+  const size_t group2 =
+      html.find("<h4 class=\"because\" id=\"errors-2\"><strong>1</strong> timed out after 30 s");
+  REQUIRE(group1 != std::string::npos);
+  REQUIRE(group2 != std::string::npos);
+  CHECK(group1 < html.find("id=\"case-e1\""));
+  CHECK(html.find("id=\"case-e1\"") < html.find("id=\"case-e3\""));
+  CHECK(html.find("id=\"case-e3\"") < group2);
+  CHECK(group2 < html.find("id=\"case-e2\""));
+  // The cause section, before the cards: errored (with its reasons) and reading miss (a wrong
+  // answer, no gold spans), in classification order, with shares of all 15 cases and their
+  // Wilson intervals (12 of 15: 54.8%-93.0%; 3 of 15: 7.0%-45.2%, statsmodels
+  // proportion_confint(method='wilson')).
+  const size_t causes = html.find("<section id=\"causes\">");
+  REQUIRE(causes != std::string::npos);
+  CHECK(causes < html.find("<section id=\"cases\">"));
+  CHECK(html.find("<tr><td><a href=\"#cause=errored\">errored</a></td><td "
+                  "class=\"num\"><strong>3</strong></td><td class=\"num\">20.0% "
+                  "(7.0%\xE2\x80\x93"
+                  "45.2%)</td></tr><tr class=\"sub\"><td colspan=\"3\"><ol "
+                  "class=\"reasons\"><li><a href=\"#errors-1\"><strong>2</strong></a> "
+                  "retrieved[0]: missing string field 'document' <span class=\"note\">(and 1 "
+                  "like it)</span></li><li><a href=\"#errors-2\"><strong>1</strong></a> timed "
+                  "out after 30 s</li></ol></td></tr><tr><td><a "
+                  "href=\"#cause=reading_miss\">reading miss</a></td><td "
+                  "class=\"num\"><strong>12</strong></td><td class=\"num\">80.0% "
+                  "(54.8%\xE2\x80\x93"
+                  "93.0%)</td></tr>",
+                  causes) != std::string::npos);
+  // Each failed card names its cause and carries it for the #cause= filter.
+  CHECK(Card(html, "f11").find("data-cause=\"reading_miss\"") != std::string::npos);
+  CHECK(Card(html, "f11").find("<span class=\"cause\">reading miss</span>") != std::string::npos);
+  CHECK(Card(html, "e2").find("data-cause=\"errored\"") != std::string::npos);
+  // Scores and the tag grid come after the cards. t0 holds f02, f04, ... f12: correct 0 of 6.
+  CHECK(html.find("<section id=\"cases\">") < html.find("<section id=\"scores\">"));
+  CHECK(html.find("<section id=\"scores\">") < html.find("<section id=\"tags\">"));
+  const size_t t0 = html.find("<tr><th scope=\"row\"><a href=\"#tag=t0\">t0</a></th>");
+  REQUIRE(t0 != std::string::npos);
+  // Its cause columns (errored 0; reading miss 6 of 6, Wilson 61.0%-100.0%), then correct.
+  CHECK(html.find("<td class=\"num\">6</td><td class=\"cc none\">0</td><td tabindex=\"0\" "
+                  "class=\"cc\"><strong>6</strong><span class=\"tip\">t0 \xC2\xB7 reading miss: "
+                  "6 of 6 cases, 100.0% (95% interval 61.0%\xE2\x80\x93"
+                  "100.0%)</span></td><td "
+                  "tabindex=\"0\" class=\"v0\">0.00<span class=\"tip\">t0 \xC2\xB7 correct: mean "
+                  "0.000, 95% interval 0.000\xE2\x80\x93"
+                  "0.390, n 6</span></td>",
+                  t0) == html.find("<td class=\"num\">6</td>", t0));
+  std::filesystem::remove_all(dir);
+}
+
+// Issue 20 item 4: the drift page says apart whether the candidate got worse than the base and
+// whether it holds its floors, which the base may have broken just the same. Two runs of one
+// suite with floors correct >= 0.5 and token_f1 >= 0.9: "ab" answers a right and b wrong
+// (correct 0.5 holds, token_f1 0.5 breaks), "none" answers both wrong (both break).
+TEST_CASE("html report: the drift page separates the comparison from the floors", "[html_report]") {
+  const std::string dir = plumb_test::MakeTempDir();
+  WriteFile(dir + "/suite.yaml",
+            "plumb: 1\nname: floors\nmax_error_rate: 1\nfloors: {correct: 0.5, token_f1: 0.9}\n"
+            "cases:\n  - {id: a, question: \"A?\", answers: [\"yes\"]}\n"
+            "  - {id: b, question: \"B?\", answers: [\"yes\"]}\n");
+  WriteFile(dir + "/ab.jsonl",
+            "{\"id\": \"a\", \"answer\": \"yes\"}\n{\"id\": \"b\", "
+            "\"answer\": \"no\"}\n");
+  WriteFile(dir + "/none.jsonl",
+            "{\"id\": \"a\", \"answer\": \"no\"}\n{\"id\": \"b\", "
+            "\"answer\": \"no\"}\n");
+  for (const char* name : {"ab", "none"}) {
+    const plumb_test::Result r = plumb_test::Plumb(
+        {"score", dir + "/suite.yaml", dir + "/" + name + ".jsonl", "--out", dir + "/" + name},
+        dir);
+    INFO(r.err);
+    REQUIRE(r.code == 1);
+  }
+  plumb::LoadedRun ab, none;
+  std::string error;
+  REQUIRE(plumb::LoadRun(dir + "/ab", &ab, &error));
+  REQUIRE(plumb::LoadRun(dir + "/none", &none, &error));
+  auto page = [&](const nlohmann::json& drift, const plumb::LoadedRun& base,
+                  const plumb::LoadedRun& cand) {
+    REQUIRE(plumb::WriteHtmlDriftReport(drift, base, cand, dir + "/drift.html", &error));
+    return ReadFile(dir + "/drift.html");
+  };
+  nlohmann::json drift = {{"metrics",
+                           {{{"metric", "token_f1"}, {"delta", 0.25}, {"verdict", "improved"}},
+                            {{"metric", "exact_match"}, {"delta", 0.25}, {"verdict", "improved"}},
+                            {{"metric", "correct"}, {"delta", 0.0}, {"verdict", "steady"}}}},
+                          {"gate", {{"exit_code", 1}, {"regressed", nlohmann::json::array()}}}};
+
+  // Nothing regressed, two metrics improved, and the floor broken is the one the base broke.
+  std::string html = page(drift, ab, ab);
+  CHECK(html.find("<span class=\"verdict good\">Improved</span><span class=\"verdict limits "
+                  "bad\">Same floor broken as base</span>") != std::string::npos);
+  CHECK(html.find("<strong>Against the base:</strong> no regression; 2 improved (token_f1, "
+                  "exact_match).</li>") != std::string::npos);
+  CHECK(html.find("<strong>Floors and ceilings:</strong> the candidate breaks the same 1 floor "
+                  "as the base: token_f1 0.500 &lt; 0.900.</li>") != std::string::npos);
+
+  // A floor the base held breaks in the candidate.
+  html = page(drift, ab, none);
+  CHECK(html.find("<span class=\"verdict limits bad\">New floor broken</span>") !=
+        std::string::npos);
+  CHECK(html.find("the candidate breaks 1 floor the base held: correct 0.000 &lt; 0.500; and 1 "
+                  "floor the base broke too: token_f1 0.000 &lt; 0.900.") != std::string::npos);
+
+  // The other way round: the candidate breaks fewer; and a gated regression is named.
+  drift["gate"]["regressed"] = {"correct"};
+  drift["metrics"][2]["verdict"] = "regressed";
+  html = page(drift, none, ab);
+  CHECK(html.find("<span class=\"verdict bad\">Regressed</span><span class=\"verdict limits "
+                  "bad\">Fewer broken than base</span>") != std::string::npos);
+  CHECK(html.find("gated correct regressed; 2 improved (token_f1, exact_match).") !=
+        std::string::npos);
+  CHECK(html.find("the candidate breaks 1 floor the base broke too: token_f1 0.500 &lt; 0.900; "
+                  "the base also broke 1 floor the candidate holds: correct 0.000 &lt; 0.500.") !=
+        std::string::npos);
+  std::filesystem::remove_all(dir);
+}
