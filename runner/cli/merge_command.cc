@@ -266,6 +266,12 @@ int MergeCommand(const MergeOptions& options) {
     if (context.started_at.empty() || started < context.started_at) context.started_at = started;
     if (finished > context.finished_at) context.finished_at = finished;
     context.resumed = context.resumed || shard.record.value("resumed", false);
+    // Every shard's workers warmed up: the merged run keeps them all.
+    const nlohmann::json aggregates = shard.record.value("aggregates", nlohmann::json::object());
+    if (!aggregates.is_object()) continue;
+    for (WorkerWarmup& w : WarmupsFromJson(aggregates.value("warmup", nlohmann::json()))) {
+      context.warmups.push_back(std::move(w));
+    }
   }
   std::vector<CaseOutcome> outcomes;
   outcomes.reserve(items.size());

@@ -97,6 +97,7 @@ RunAggregates AggregatesFromRecord(const nlohmann::json& record) {
   }
   run.input_tokens = Integer(At(a, "usage"), "input_tokens");
   run.output_tokens = Integer(At(a, "usage"), "output_tokens");
+  run.warmups = WarmupsFromJson(At(a, "warmup"));
   const nlohmann::json& unstable = At(a, "unstable_cases");
   if (unstable.is_array()) {
     for (const nlohmann::json& id : unstable) {

@@ -232,6 +232,7 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
     std::fprintf(stderr, "plumb: %s\n", scheduled.fatal_error.c_str());
     return kExitUsage;
   }
+  context.warmups = scheduled.warmups;
   std::vector<CaseOutcome> outcomes = std::move(resume.outcomes);
   for (CaseOutcome& o : scheduled.outcomes) outcomes.push_back(std::move(o));
 

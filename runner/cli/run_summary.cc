@@ -36,7 +36,8 @@ bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, boo
       return file == nullptr || file->Write(piece);
     });
   });
-  const RunAggregates aggregates = AggregateRun(suite, outcomes);
+  RunAggregates aggregates = AggregateRun(suite, outcomes);
+  aggregates.warmups = context.warmups;
   const std::vector<ThresholdOutcome> thresholds = EvaluateThresholds(suite.thresholds, aggregates);
   finished->verdict = DecideRunVerdict(aggregates, thresholds, suite.max_error_rate, interrupted);
   case_writer.join();

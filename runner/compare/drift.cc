@@ -14,8 +14,10 @@
 #include "metrics/paired_tests.h"
 #include "metrics/percentile.h"
 #include "metrics/seeded_random.h"
+#include "metrics/unpaired_bootstrap.h"
 #include "runner/run/exit_code.h"
 #include "runner/run/failure_reason.h"
+#include "runner/run/run_aggregates.h"
 
 namespace plumb {
 namespace {
@@ -665,6 +667,34 @@ void RegisterLatency(const PairedCases& paired, const RunCases& base, const RunC
   bootstrap->SetLatency(subset, lb, lc);
 }
 
+/// The warm-up ratio of the two runs' workers (see WarmupDrift).
+WarmupDrift CompareWarmups(const LoadedRun& base, const LoadedRun& cand,
+                           const DriftOptions& options) {
+  WarmupDrift w;
+  const std::vector<WorkerWarmup> b =
+      WarmupsFromJson(ObjectAt(ObjectAt(base.record, "aggregates"), "warmup"));
+  const std::vector<WorkerWarmup> c =
+      WarmupsFromJson(ObjectAt(ObjectAt(cand.record, "aggregates"), "warmup"));
+  if (b.empty() || c.empty()) return w;
+  std::vector<double> bms, cms;
+  for (const WorkerWarmup& x : b) bms.push_back(x.ms);
+  for (const WorkerWarmup& x : c) cms.push_back(x.ms);
+  const metrics::RatioResult ratio = metrics::UnpairedBootstrapMeanRatio(
+      bms, cms, options.resamples, options.seed, kDriftConfidence);
+  if (!std::isfinite(ratio.ratio)) return w;
+  const WarmupSummary bs = SummarizeWarmups(b), cs = SummarizeWarmups(c);
+  w.available = true;
+  w.base_signal = bs.signal;
+  w.cand_signal = cs.signal;
+  w.base_n = bs.n;
+  w.cand_n = cs.n;
+  w.base_mean_ms = bs.mean_ms;
+  w.cand_mean_ms = cs.mean_ms;
+  w.ratio = ratio.ratio;
+  w.interval = ratio.interval;
+  return w;
+}
+
 /// A metric's drift once the bootstrap has run: means, delta, interval, test, verdict.
 MetricDrift FinishMetric(const PendingMetric& p, const PairedCases& paired,
                          const std::vector<bool>& binary, const SharedBootstrap& bootstrap,
@@ -1040,6 +1070,7 @@ bool ComputeDrift(const LoadedRun& base, const LoadedRun& cand, const DriftOptio
   bootstrap.Run();
   report->latency_p50.interval = bootstrap.LatencyInterval(0);
   report->latency_p95.interval = bootstrap.LatencyInterval(1);
+  report->warmup = CompareWarmups(base, cand, options);
 
   std::vector<double> differences;
   std::vector<std::vector<double>> run_differences;

@@ -131,6 +131,18 @@ struct LatencyDrift {
   metrics::Interval interval;
 };
 
+/// The workers' mean warm-up (run.json's aggregates.warmup) in both runs and the candidate's
+/// ratio to the base, with metrics::UnpairedBootstrapMeanRatio's interval (a run's workers are
+/// not paired with the other's). `available` is false unless both runs recorded warm-ups.
+struct WarmupDrift {
+  bool available = false;
+  std::string base_signal, cand_signal;  // "ready_line", "ready_url", "first_call"
+  int64_t base_n = 0, cand_n = 0;        // workers (restarts included)
+  double base_mean_ms = 0, cand_mean_ms = 0;
+  double ratio = 0;
+  metrics::Interval interval;
+};
+
 /// One paired case whose pass/fail outcome changed.
 struct CaseChange {
   std::string id;
@@ -185,6 +197,7 @@ struct DriftReport {
   int64_t latency_lower_bounds = 0;  // of latency_n: a timeout (a lower bound) in either run
   LatencyDrift latency_p50;
   LatencyDrift latency_p95;
+  WarmupDrift warmup;
   std::map<std::string, double> min_detectable_effect;  // NaN: n/a, see above
   /// The family correction, one sentence for the reports, e.g. "Holm over the 3 gated metrics
   /// correct, token_f1, citation_recall".

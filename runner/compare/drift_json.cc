@@ -49,6 +49,15 @@ nlohmann::json LatencyJson(const LatencyDrift& l) {
           {"interval", IntervalJson(l.interval)}};
 }
 
+nlohmann::json WarmupJson(const WarmupDrift& w) {
+  if (!w.available) return nullptr;
+  return {
+      {"base", {{"signal", w.base_signal}, {"n", w.base_n}, {"mean_ms", Number(w.base_mean_ms)}}},
+      {"cand", {{"signal", w.cand_signal}, {"n", w.cand_n}, {"mean_ms", Number(w.cand_mean_ms)}}},
+      {"ratio", Number(w.ratio)},
+      {"interval", IntervalJson(w.interval)}};
+}
+
 nlohmann::json OptionalText(const std::optional<std::string>& text) {
   return text ? nlohmann::json(*text) : nlohmann::json();
 }
@@ -114,6 +123,7 @@ nlohmann::json DriftReportToJson(const DriftReport& r) {
         {"lower_bounds", r.latency_lower_bounds},
         {"p50", LatencyJson(r.latency_p50)},
         {"p95", LatencyJson(r.latency_p95)}}},
+      {"warmup", WarmupJson(r.warmup)},
       {"min_detectable_effect", mde},
       {"lost", ChangesJson(r.lost)},
       // The lost cases by the candidate's cause; shares and intervals are of the lost count.

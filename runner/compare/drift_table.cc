@@ -152,6 +152,13 @@ std::string FormatDriftTable(const DriftReport& r, bool colour, bool exit_line) 
                          r.latency_lower_bounds, r.latency_n);
     }
   }
+  if (r.warmup.available) {
+    const WarmupDrift& w = r.warmup;
+    out += fmt::format("  {:<22} mean {} -> {} ms  x{} {}  (workers {} {} / {} {})\n", "warm-up",
+                       Num(w.base_mean_ms, "{:.4g}"), Num(w.cand_mean_ms, "{:.4g}"),
+                       Num(w.ratio, "{:.3f}"), IntervalText(w.interval, "{:.3f}"), w.base_n,
+                       w.base_signal, w.cand_n, w.cand_signal);
+  }
   std::string mde;
   for (const MetricDrift& m : r.metrics) {
     auto it = r.min_detectable_effect.find(m.metric);

@@ -11,6 +11,7 @@
 #include <cstdint>
 #include <nlohmann/json.hpp>
 #include <string>
+#include <vector>
 
 namespace plumb {
 
@@ -51,8 +52,24 @@ struct CallResult {
   /// The call ran into the pipeline's timeout: `latency_ms` is the timeout, a lower bound of
   /// the latency (the reply would have taken at least that long), and `error` says so.
   bool timed_out = false;
+  /// The reply came from a persistent worker started for this call, with no ready signal:
+  /// `latency_ms` includes the worker's start-up, so it is its first_call_ms, not a case latency.
+  bool first_call = false;
   int attempts = 1;     // 2 when a crashed persistent worker was restarted and retried
   int http_status = 0;  // HTTP adapter only
+};
+
+/// How long one worker took to become ready (issue 21): a persistent process from its start to
+/// its ready line (`ready: line`), an HTTP service from the first call to its ready_url's first
+/// 2xx, or, without a ready signal, a persistent process's first call from the request to the
+/// reply, start-up included (first_call_ms).
+struct WorkerWarmup {
+  int worker = 0;        // the slot; 0 for an HTTP service (one for all slots)
+  bool restart = false;  // the worker replaced one that crashed, timed out or fell out of step
+  std::string signal;    // "ready_line", "ready_url" or "first_call"
+  double ms = 0;         // warmup_ms, or first_call_ms when signal is "first_call"
+  /// The ready line's other members ("tokens_preloaded": ...), redacted; an object.
+  nlohmann::json ready = nlohmann::json::object();
 };
 
 class Adapter {
@@ -70,6 +87,9 @@ class Adapter {
   /// Calls waiting to retry right now (backoff or Retry-After), for the progress line.
   /// Thread-safe; adapters that never retry keep the default.
   virtual int retries_in_flight() const { return 0; }
+  /// Every worker start-up so far, by slot and then in order (issue 21). Call after the last
+  /// Call; adapters without workers to warm keep the default.
+  virtual std::vector<WorkerWarmup> Warmups() const { return {}; }
   /// Stops every process / connection; pending Calls return promptly with an error.
   /// Called once, after the last Call or from a signal-watching thread on interrupt.
   virtual void Shutdown() = 0;

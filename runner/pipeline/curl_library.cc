@@ -66,6 +66,7 @@ bool OpenCurlLibrary(const char* soname, CurlLibrary* out, std::string* error) {
          Resolve(handle, n, "curl_easy_setopt", &c.easy_setopt, error) &&
          Resolve(handle, n, "curl_easy_getinfo", &c.easy_getinfo, error) &&
          Resolve(handle, n, "curl_easy_strerror", &c.easy_strerror, error) &&
+         Resolve(handle, n, "curl_easy_perform", &c.easy_perform, error) &&
          Resolve(handle, n, "curl_multi_init", &c.multi_init, error) &&
          Resolve(handle, n, "curl_multi_cleanup", &c.multi_cleanup, error) &&
          Resolve(handle, n, "curl_multi_setopt", &c.multi_setopt, error) &&

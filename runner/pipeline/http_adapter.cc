@@ -328,6 +328,8 @@ bool HttpAdapter::Init(const PipelineConfig& config, int slots, std::string* err
     return false;
   }
   timeout_ = std::chrono::milliseconds(config.timeout_ms);
+  if (config.ready_url) ready_url_ = config.ready_url->value;
+  startup_timeout_ = std::chrono::milliseconds(config.startup_timeout_ms);
   max_response_bytes_ = static_cast<size_t>(config.max_response_bytes);
   insecure_ = config.insecure;
   secrets_ = config.secrets;
@@ -442,6 +444,80 @@ std::string HttpAdapter::Redact(std::string text) const {
 bool HttpAdapter::SleepUnlessInterrupted(std::chrono::milliseconds delay) {
   std::unique_lock<std::mutex> lock(sleep_mutex_);
   return !sleep_cv_.wait_for(lock, delay, [this] { return interrupted_.load(); });
+}
+
+namespace {
+
+size_t DiscardBody(char*, size_t size, size_t count, void*) { return size * count; }
+
+}  // namespace
+
+bool HttpAdapter::AwaitReady(std::string* error) {
+  std::lock_guard<std::mutex> lock(ready_mutex_);
+  if (ready_) return true;
+  if (!ready_error_.empty()) {
+    *error = ready_error_;
+    return false;
+  }
+  const Clock::time_point start = Clock::now();
+  const Clock::time_point deadline = start + startup_timeout_;
+  CURL* e = Curl().easy_init();
+  if (e == nullptr) {
+    *error = "could not create a transfer to poll the ready_url";
+    return false;
+  }
+  Curl().easy_setopt(e, CURLOPT_URL, ready_url_.c_str());
+  Curl().easy_setopt(e, CURLOPT_NOSIGNAL, 1L);
+  Curl().easy_setopt(e, CURLOPT_HTTPGET, 1L);
+  Curl().easy_setopt(e, CURLOPT_PROTOCOLS_STR, "http,https");
+  Curl().easy_setopt(e, CURLOPT_WRITEFUNCTION, &DiscardBody);
+  Curl().easy_setopt(e, CURLOPT_HTTPHEADER, headers_);
+  Curl().easy_setopt(e, CURLOPT_SSL_VERIFYPEER, insecure_ ? 0L : 1L);
+  Curl().easy_setopt(e, CURLOPT_SSL_VERIFYHOST, insecure_ ? 0L : 2L);
+  Curl().easy_setopt(e, CURLOPT_USERAGENT, "plumb/" PLUMB_VERSION);
+  std::string last;  // what the last poll got
+  bool ok = false;
+  while (!interrupted_) {
+    const auto left =
+        std::chrono::duration_cast<std::chrono::milliseconds>(deadline - Clock::now());
+    if (left.count() <= 0) break;
+    const long poll_ms = long(std::min<int64_t>(2000, left.count()));
+    Curl().easy_setopt(e, CURLOPT_TIMEOUT_MS, poll_ms);
+    Curl().easy_setopt(e, CURLOPT_CONNECTTIMEOUT_MS, poll_ms);
+    const CURLcode code = Curl().easy_perform(e);
+    long status = 0;
+    if (code == CURLE_OK) Curl().easy_getinfo(e, CURLINFO_RESPONSE_CODE, &status);
+    if (code == CURLE_OK && status >= 200 && status < 300) {
+      ok = true;
+      break;
+    }
+    last = code == CURLE_OK ? "HTTP " + std::to_string(status) : Curl().easy_strerror(code);
+    if (!SleepUnlessInterrupted(std::chrono::milliseconds(100))) break;
+  }
+  Curl().easy_cleanup(e);
+  if (ok) {
+    WorkerWarmup warmup;
+    warmup.signal = "ready_url";
+    warmup.ms = std::chrono::duration<double, std::milli>(Clock::now() - start).count();
+    warmups_.push_back(std::move(warmup));
+    ready_ = true;
+    return true;
+  }
+  if (interrupted_) {
+    *error = "run interrupted";
+    return false;
+  }
+  ready_error_ = Redact("the ready_url did not answer 2xx within the startup_timeout of " +
+                        FormatDuration(startup_timeout_) +
+                        " (last: " + (last.empty() ? std::string("no answer") : last) +
+                        "); check the service, or raise startup_timeout");
+  *error = ready_error_;
+  return false;
+}
+
+std::vector<WorkerWarmup> HttpAdapter::Warmups() const {
+  std::lock_guard<std::mutex> lock(ready_mutex_);
+  return warmups_;
 }
 
 HttpAdapter::Attempted HttpAdapter::Attempt(Transfer& t, const std::string& url) {
@@ -562,6 +638,15 @@ CallResult HttpAdapter::Call(const PipelineRequest& request, int slot) {
     return result;
   };
   if (interrupted_) return interrupted();
+  if (!ready_url_.empty()) {
+    std::string not_ready;
+    if (!AwaitReady(&not_ready)) {
+      if (interrupted_) return interrupted();
+      result.attempts = 1;
+      result.error = not_ready;
+      return result;
+    }
+  }
   Transfer& t = *slots_[static_cast<size_t>(slot)];
 
   std::string url;

@@ -90,6 +90,12 @@ class HttpAdapter : public Adapter {
   /// final attempt that timed out sets `timed_out` and gives the timeout (a lower bound).
   CallResult Call(const PipelineRequest& request, int slot) override;
 
+  /// With `ready_url`, the first Call polls it with GET (every 100 ms, each poll at most 2 s)
+  /// until it answers 2xx, up to startup_timeout; the other slots' Calls wait for it. The
+  /// time from that first Call to the 2xx is the service's warm-up (worker 0, "ready_url").
+  /// A service that never answers 2xx fails every Call with the reason.
+  std::vector<WorkerWarmup> Warmups() const override;
+
   /// Aborts every transfer, wakes every waiting Call and stops the event loop.
   void Shutdown() override;
 
@@ -108,6 +114,7 @@ class HttpAdapter : public Adapter {
   bool Init(const PipelineConfig& config, int slots, std::string* error);
   Attempted Attempt(Transfer& transfer, const std::string& url);
   bool SleepUnlessInterrupted(std::chrono::milliseconds delay);
+  bool AwaitReady(std::string* error);
   std::string Redact(std::string text) const;
 
   std::string name_;
@@ -116,6 +123,12 @@ class HttpAdapter : public Adapter {
   std::vector<RequestPart> url_pieces_;
   std::optional<RequestPart> request_block_;
   std::chrono::milliseconds timeout_{0};
+  std::string ready_url_;  // empty: no ready signal
+  std::chrono::milliseconds startup_timeout_{0};
+  mutable std::mutex ready_mutex_;  // held while the ready_url is polled; guards the three below
+  bool ready_ = false;
+  std::string ready_error_;  // the service did not become ready: every call fails with this
+  std::vector<WorkerWarmup> warmups_;
   size_t max_response_bytes_ = 0;
   bool insecure_ = false;
   std::vector<std::string> secrets_;

@@ -13,6 +13,7 @@
 #include <cmath>
 #include <cstdio>
 #include <map>
+#include <utility>
 
 #include "runner/base/human_units.h"
 #include "runner/pipeline/excerpt.h"
@@ -189,6 +190,15 @@ struct SubprocessAdapter::Slot {
   // The worker printed more after its reply line: it is out of step with the requests, so it
   // is replaced before the next request.
   bool out_of_step = false;
+  int index = 0;                      // the slot's number, for its warm-up records
+  int starts = 0;                     // workers started on this slot
+  std::vector<WorkerWarmup> warmups;  // their start-ups, in order
+  // Without a ready signal, the worker was started and has not replied yet: its first reply
+  // includes its start-up (a first call).
+  bool fresh = false;
+  // A worker that would not become ready (no ready line within startup_timeout, or a first
+  // line that is not one) is not started again: every later call fails at once with this.
+  std::string not_ready;
 
   void ReadStderrOnce() {
     if (!child || !stderr_open) return;
@@ -246,6 +256,8 @@ std::unique_ptr<SubprocessAdapter> SubprocessAdapter::Create(const PipelineConfi
   adapter->timeout_ = std::chrono::milliseconds(config.timeout_ms);
   adapter->max_response_bytes_ = static_cast<size_t>(config.max_response_bytes);
   adapter->secrets_ = config.secrets;
+  adapter->ready_line_ = config.ready_line && config.mode == SubprocessMode::kPersistent;
+  adapter->startup_timeout_ = std::chrono::milliseconds(config.startup_timeout_ms);
 
   SpawnSpec& spawn = adapter->spawn_;
   for (const ExpandedString& arg : config.command) spawn.argv.push_back(arg.value);
@@ -276,7 +288,10 @@ std::unique_ptr<SubprocessAdapter> SubprocessAdapter::Create(const PipelineConfi
     return nullptr;
   }
   signal(SIGPIPE, SIG_IGN);  // see the header: a dead reader must cost a case, not plumb
-  for (int i = 0; i < slots; ++i) adapter->slots_.push_back(std::make_unique<Slot>());
+  for (int i = 0; i < slots; ++i) {
+    adapter->slots_.push_back(std::make_unique<Slot>());
+    adapter->slots_.back()->index = i;
+  }
   return adapter;
 }
 
@@ -354,6 +369,11 @@ void SubprocessAdapter::FillExcerpts(Slot& slot, bool failed, CallResult* result
 
 bool SubprocessAdapter::EnsureStarted(Slot& slot, CallResult* result) {
   if (slot.child) return true;
+  if (!slot.not_ready.empty()) {
+    result->error = slot.not_ready;
+    return false;
+  }
+  const Clock::time_point start = Clock::now();
   std::string error;
   slot.child = ChildProcess::Spawn(spawn_, &error);
   if (!slot.child) {
@@ -361,7 +381,106 @@ bool SubprocessAdapter::EnsureStarted(Slot& slot, CallResult* result) {
     return false;
   }
   slot.stderr_open = true;
+  const bool restart = slot.starts++ > 0;
+  if (ready_line_) return AwaitReadyLine(slot, start, restart, result);
+  slot.fresh = mode_ == SubprocessMode::kPersistent;
   return true;
+}
+
+bool SubprocessAdapter::AwaitReadyLine(Slot& slot, Clock::time_point start, bool restart,
+                                       CallResult* result) {
+  ChildProcess& child = *slot.child;
+  const Clock::time_point deadline = start + startup_timeout_;
+  const size_t limit = max_response_bytes_ + kReadChunk + 1;
+  slot.out.clear();
+  // `lasting`: the worker cannot be expected to do better next time (see Slot::not_ready).
+  auto fail = [&](const std::string& error, bool lasting) {
+    child.Terminate(kTerminationGrace, interrupt_fd_);
+    slot.DrainStderr();
+    slot.child.reset();
+    slot.out.clear();
+    result->error = RedactSecrets(error, secrets_);
+    if (lasting) slot.not_ready = result->error;
+    return false;
+  };
+  while (true) {
+    enum { kInterrupt, kStdout, kStderr, kExit };
+    pollfd fds[4] = {
+        {interrupt_fd_, POLLIN, 0},
+        {child.stdout_fd(), POLLIN, 0},
+        {slot.stderr_open ? child.stderr_fd() : -1, POLLIN, 0},
+        {child.exit_fd(), POLLIN, 0},
+    };
+    int timeout = MillisecondsUntil(deadline);
+    if (timeout == 0) {
+      return fail("no ready line within the startup_timeout of " +
+                      FormatDuration(startup_timeout_) +
+                      " (ready: line); raise startup_timeout if its start-up takes longer",
+                  true);
+    }
+    // Without a pidfd an exit polls nothing readable: look for it every few milliseconds.
+    if (child.exit_fd() < 0) timeout = std::min(timeout, 2);
+    const int ready = poll(fds, 4, timeout);
+    if (ready < 0 && errno != EINTR) {
+      return fail(std::string("poll failed: ") + strerror(errno), false);
+    }
+    if (ready <= 0) {
+      if (child.exit_fd() < 0 && child.HasExited()) {
+        return fail("process exited before its ready line", false);
+      }
+      continue;
+    }
+    if (IsReady(fds[kStderr])) slot.ReadStderrOnce();
+    if (IsReady(fds[kInterrupt])) {
+      result->error = "run interrupted";
+      return false;
+    }
+    if (IsReady(fds[kStdout])) {
+      const ssize_t got = ReadInto(child.stdout_fd(), &slot.out, limit);
+      if (got == 0) return fail("process closed its stdout before its ready line", false);
+      const std::string_view out = slot.out.view();
+      const size_t newline = out.find('\n');
+      if (newline == std::string_view::npos) {
+        if (out.size() > max_response_bytes_) {
+          return fail("its ready line exceeded " + FormatBytes(max_response_bytes_), true);
+        }
+        continue;
+      }
+      const std::string_view line = out.substr(0, newline);
+      nlohmann::json parsed = nlohmann::json::parse(line, nullptr, /*allow_exceptions=*/false);
+      if (!parsed.is_object() || parsed.value("ready", nlohmann::json()) != true) {
+        return fail(
+            "its first line is not a ready line {\"ready\": true, ...} (the pipeline's "
+            "config says 'ready: line'): '" +
+                std::string(Utf8Prefix(line, 200)) + (line.size() > 200 ? "..." : "") + "'",
+            true);
+      }
+      if (out.size() > newline + 1) {
+        return fail("it wrote more after its ready line, before any request", true);
+      }
+      WorkerWarmup warmup;
+      warmup.worker = slot.index;
+      warmup.restart = restart;
+      warmup.signal = "ready_line";
+      warmup.ms = MillisecondsSince(start);
+      parsed.erase("ready");
+      RedactJsonStrings(&parsed, secrets_);
+      warmup.ready = std::move(parsed);
+      slot.warmups.push_back(std::move(warmup));
+      slot.out.clear();
+      return true;
+    }
+    if (IsReady(fds[kExit])) return fail("process exited before its ready line", false);
+  }
+}
+
+std::vector<WorkerWarmup> SubprocessAdapter::Warmups() const {
+  std::vector<WorkerWarmup> all;
+  for (const std::unique_ptr<Slot>& slot : slots_) {
+    std::lock_guard<std::mutex> lock(slot->mutex);
+    all.insert(all.end(), slot->warmups.begin(), slot->warmups.end());
+  }
+  return all;
 }
 
 bool SubprocessAdapter::ReapDeadWorker(Slot& slot) {
@@ -404,6 +523,7 @@ SubprocessAdapter::Outcome SubprocessAdapter::Attempt(Slot& slot, const std::str
   if (!EnsureStarted(slot, result)) return Outcome::kStartFailed;
   ChildProcess& child = *slot.child;
   const size_t limit = max_response_bytes_ + kReadChunk + 1;
+  const bool fresh = std::exchange(slot.fresh, false);
 
   // The process is finished here, one way or another; `error` says which.
   auto end_process = [&](Outcome outcome, std::string error) {
@@ -451,6 +571,16 @@ SubprocessAdapter::Outcome SubprocessAdapter::Attempt(Slot& slot, const std::str
     }
     result->latency_ms = MillisecondsSince(start);
     result->body.assign(out.data(), length);
+    if (fresh) {
+      // Its start-up is in this latency: the worker's first_call_ms, not a case latency.
+      result->first_call = true;
+      WorkerWarmup warmup;
+      warmup.worker = slot.index;
+      warmup.restart = slot.starts > 1;
+      warmup.signal = "first_call";
+      warmup.ms = result->latency_ms;
+      slot.warmups.push_back(std::move(warmup));
+    }
     // Bytes after the reply line answer no request: the worker is replaced before the next.
     if (out.size() > length + 1) slot.out_of_step = true;
     *outcome = Outcome::kReply;

@@ -83,6 +83,11 @@ class SubprocessAdapter : public Adapter {
   /// kTerminationGrace (in total, not each) to exit, SIGKILLs their groups and reaps them.
   void Shutdown() override;
 
+  /// Every worker's start-up: with `ready: line`, from its start to its ready line (the line's
+  /// other members kept); without, in persistent mode, its first call (start-up included),
+  /// which that call's CallResult marks `first_call`. Restarted workers included.
+  std::vector<WorkerWarmup> Warmups() const override;
+
  private:
   struct Slot;
   enum class Outcome;
@@ -91,12 +96,16 @@ class SubprocessAdapter : public Adapter {
   Outcome Attempt(Slot& slot, const std::string& request_line, CallResult* result);
   Outcome AttemptPerCase(Slot& slot, const std::string& request_line, CallResult* result);
   bool EnsureStarted(Slot& slot, CallResult* result);
+  bool AwaitReadyLine(Slot& slot, std::chrono::steady_clock::time_point start, bool restart,
+                      CallResult* result);
   bool ReapDeadWorker(Slot& slot);
   void FillExcerpts(Slot& slot, bool failed, CallResult* result) const;
 
   SpawnSpec spawn_;
   SubprocessMode mode_ = SubprocessMode::kPersistent;
   std::chrono::milliseconds timeout_{0};
+  bool ready_line_ = false;  // `ready: line`, persistent mode
+  std::chrono::milliseconds startup_timeout_{0};
   size_t max_response_bytes_ = 0;
   std::vector<std::string> secrets_;
   std::vector<std::unique_ptr<Slot>> slots_;

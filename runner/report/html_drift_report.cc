@@ -508,6 +508,24 @@ void AppendMetricTable(std::string* out, const nlohmann::json& drift) {
     }
     out->append("</p>");
   }
+  const nlohmann::json warmup = drift.value("warmup", nlohmann::json());
+  if (warmup.is_object() && JsonNumber(warmup, "ratio")) {
+    auto mean_of = [&](const char* run) {
+      const nlohmann::json side = warmup.value(run, nlohmann::json());
+      return FormatMilliseconds(side.is_object() ? JsonNumber(side, "mean_ms").value_or(0) : 0);
+    };
+    std::string words = "Warm-up per worker, candidate against base: mean " + mean_of("base") +
+                        " \xE2\x86\x92 " + mean_of("cand") + ", ratio " +
+                        FormatScore(*JsonNumber(warmup, "ratio"));
+    const nlohmann::json iv = warmup.value("interval", nlohmann::json());
+    if (iv.is_array() && iv.size() == 2 && iv[0].is_number() && iv[1].is_number()) {
+      words += " (95% interval " + FormatScore(iv[0].get<double>()) + "\xE2\x80\x93" +
+               FormatScore(iv[1].get<double>()) + ")";
+    }
+    out->append("<p class=\"note\">");
+    AppendHtmlText(out, words + ".");
+    out->append("</p>");
+  }
   out->append("</section>");
 }
 

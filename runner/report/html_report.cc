@@ -249,6 +249,15 @@ void AppendScoresTable(std::string* out, const nlohmann::json& record) {
                   FormatMilliseconds(latency.value(key, 0.0)));
     }
     out->append(".");
+    const nlohmann::json warmup = aggregates.value("warmup", nlohmann::json::object());
+    if (warmup.is_object() && warmup.value("n", int64_t{0}) > 0) {
+      const bool first_call = warmup.value("signal", std::string()) == "first_call";
+      out->append(" Warm-up: " + std::to_string(warmup.value("n", int64_t{0})) +
+                  (first_call ? " first calls (start-up included, kept out of the latency)"
+                              : " workers ready") +
+                  ", mean " + FormatMilliseconds(warmup.value("mean_ms", 0.0)) + ", max " +
+                  FormatMilliseconds(warmup.value("max_ms", 0.0)) + ".");
+    }
     const nlohmann::json usage = aggregates.value("usage", nlohmann::json::object());
     const int64_t in = usage.value("input_tokens", int64_t{0});
     const int64_t outt = usage.value("output_tokens", int64_t{0});

@@ -270,6 +270,17 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
     }
     out += ")\n";
   }
+  const nlohmann::json& warmup = JsonAt(aggregates, "warmup");
+  if (JsonNumber(warmup, "n") > 0) {
+    const bool first_call = JsonString(warmup, "signal") == "first_call";
+    out += fmt::format(
+        "\nWarm-up: {} {}, mean {} ms, max {} ms{}\n", Count(warmup, "n"),
+        first_call ? "first calls (start-up included, kept out of the latency)"
+                   : "workers ready (" + JsonString(warmup, "signal") + ")",
+        Fixed(JsonNumber(warmup, "mean_ms"), 1), Fixed(JsonNumber(warmup, "max_ms"), 1),
+        JsonNumber(warmup, "restarts") > 0 ? fmt::format(", {} restarts", Count(warmup, "restarts"))
+                                           : std::string());
+  }
   if (thresholds.is_array()) {
     std::string tag_floors;
     for (const nlohmann::json& t : thresholds) {
@@ -417,6 +428,12 @@ std::string FormatDriftMarkdown(const DriftReport& r) {
     out += fmt::format("\nLatency (n {}): p50 ×{} {}, p95 ×{} {}\n", r.latency_n,
                        Fixed(r.latency_p50.ratio, 3), IntervalText(r.latency_p50.interval, false),
                        Fixed(r.latency_p95.ratio, 3), IntervalText(r.latency_p95.interval, false));
+  }
+  if (r.warmup.available) {
+    out += fmt::format("\nWarm-up: mean {} → {} ms, ×{} {} (workers {} / {})\n",
+                       Fixed(r.warmup.base_mean_ms, 1), Fixed(r.warmup.cand_mean_ms, 1),
+                       Fixed(r.warmup.ratio, 3), IntervalText(r.warmup.interval, false),
+                       r.warmup.base_n, r.warmup.cand_n);
   }
   std::string mde;
   for (const MetricDrift& m : r.metrics) {

@@ -76,6 +76,22 @@ std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
                          "timed out", l.lower_bounds, l.n);
     }
   }
+  if (const WarmupSummary w = SummarizeWarmups(run.warmups); w.n > 0) {
+    // Start-up is kept out of the case latency; this is where it shows.
+    const std::string restarts =
+        w.restarts > 0 ? fmt::format(", {} restart{}", w.restarts, w.restarts == 1 ? "" : "s") : "";
+    if (w.signal == "first_call") {
+      out += fmt::format(
+          "  {:<20} {} first call{} (start-up included, kept out of the latency): mean {:.2f} "
+          "ms, max {:.2f} ms{}\n",
+          "warm-up", w.n, w.n == 1 ? "" : "s", w.mean_ms, w.max_ms, restarts);
+    } else {
+      out += fmt::format("  {:<20} {} worker{} ready ({}): mean {:.2f} ms, max {:.2f} ms{}\n",
+                         "warm-up", w.n, w.n == 1 ? "" : "s",
+                         w.signal == "ready_url" ? "ready_url answered 2xx" : "ready line",
+                         w.mean_ms, w.max_ms, restarts);
+    }
+  }
   for (const ThresholdOutcome& t : thresholds) {
     if (!t.tag.empty() || (t.metric != "latency_p50_ms" && t.metric != "latency_p95_ms")) continue;
     out += fmt::format("  {:<20} {}\n", t.metric, ThresholdCell(thresholds, "", t.metric, p));

@@ -48,6 +48,7 @@ void EndCaseRecord(const CaseRecord& r, JsonWriter* out) {
   JsonWriter& w = *out;
   w.PlainKey("latency_ms").Double(r.latency_ms);
   if (r.latency_lower_bound) w.PlainKey("latency_lower_bound").Bool(true);
+  if (r.first_call) w.PlainKey("first_call").Bool(true);
   w.PlainKey("attempts").Int(r.attempts);
   // The service's own timing, when the pipeline's `reply:` block maps it.
   if (r.error.empty() && r.parsed.service_latency_ms) {
@@ -111,6 +112,7 @@ bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* 
     r->response = json.value("response", nlohmann::json());
     r->latency_ms = json.at("latency_ms").get<double>();
     r->latency_lower_bound = json.value("latency_lower_bound", false);
+    r->first_call = json.value("first_call", false);
     r->attempts = json.value("attempts", 1);
     const nlohmann::json& err = json.at("error");
     if (!err.is_null()) {

@@ -28,6 +28,9 @@ struct CaseRecord {
   Response parsed;          // empty when the call errored
   double latency_ms = 0;
   bool latency_lower_bound = false;  // the call timed out: latency_ms is its timeout
+  /// A fresh worker's first reply with no ready signal: latency_ms includes its start-up, so it
+  /// stays out of the latency distribution (it is the worker's first_call_ms).
+  bool first_call = false;
   int attempts = 1;
   std::string error;  // empty when the reply was valid
   std::string stdout_excerpt;

@@ -189,7 +189,8 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
     run.errored += o.scores.errored ? 1 : 0;
     // Latency of a failed call measures the failure, not the pipeline; but a call that timed
     // out took at least its timeout, and leaving it out would flatter a pipeline that hangs.
-    if (!o.scores.errored) {
+    // A fresh worker's first reply includes its start-up: that is its warm-up, not a latency.
+    if (!o.scores.errored && !o.first_call) {
       latencies.push_back(o.latency_ms);
     } else if (o.latency_lower_bound) {
       lower_bounds.push_back(o.latency_ms);
@@ -255,6 +256,44 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
     run.tags.push_back(std::move(t));
   }
   return run;
+}
+
+WarmupSummary SummarizeWarmups(const std::vector<WorkerWarmup>& warmups) {
+  WarmupSummary s;
+  for (const WorkerWarmup& w : warmups) {
+    if (s.signal.empty()) s.signal = w.signal;
+    s.n += 1;
+    s.restarts += w.restart ? 1 : 0;
+    s.mean_ms += w.ms;
+    s.max_ms = std::max(s.max_ms, w.ms);
+  }
+  if (s.n > 0) s.mean_ms /= static_cast<double>(s.n);
+  return s;
+}
+
+std::vector<WorkerWarmup> WarmupsFromJson(const nlohmann::json& warmup) {
+  std::vector<WorkerWarmup> out;
+  if (!warmup.is_object()) return out;
+  const nlohmann::json workers = warmup.value("workers", nlohmann::json::array());
+  if (!workers.is_array()) return out;
+  for (const nlohmann::json& entry : workers) {
+    if (!entry.is_object()) continue;
+    WorkerWarmup w;
+    const nlohmann::json& worker = entry.value("worker", nlohmann::json());
+    const nlohmann::json& restart = entry.value("restart", nlohmann::json());
+    const nlohmann::json& signal = entry.value("signal", nlohmann::json());
+    if (worker.is_number_integer()) w.worker = worker.get<int>();
+    if (restart.is_boolean()) w.restart = restart.get<bool>();
+    if (signal.is_string()) w.signal = signal.get<std::string>();
+    const nlohmann::json& ms =
+        entry.value(w.signal == "first_call" ? "first_call_ms" : "warmup_ms", nlohmann::json());
+    if (!ms.is_number()) continue;
+    w.ms = ms.get<double>();
+    const nlohmann::json& ready = entry.value("ready", nlohmann::json());
+    if (ready.is_object()) w.ready = ready;
+    out.push_back(std::move(w));
+  }
+  return out;
 }
 
 bool IsCeilingMetric(const std::string& metric) {
@@ -333,6 +372,20 @@ nlohmann::json AtLeastKeys(const metrics::LatencySummary& l) {
   return keys;
 }
 
+nlohmann::json WarmupToJson(const std::vector<WorkerWarmup>& warmups) {
+  const WarmupSummary s = SummarizeWarmups(warmups);
+  nlohmann::json workers = nlohmann::json::array();
+  for (const WorkerWarmup& w : warmups) {
+    workers.push_back({{"worker", w.worker},
+                       {"restart", w.restart},
+                       {"signal", w.signal},
+                       {w.signal == "first_call" ? "first_call_ms" : "warmup_ms", w.ms},
+                       {"ready", w.ready}});
+  }
+  return {{"signal", s.signal},   {"n", s.n},           {"restarts", s.restarts},
+          {"mean_ms", s.mean_ms}, {"max_ms", s.max_ms}, {"workers", workers}};
+}
+
 nlohmann::json MetricsToJson(const std::vector<MetricAggregate>& list) {
   nlohmann::json out = nlohmann::json::object();
   for (const MetricAggregate& m : list) out[m.metric] = SummaryToJson(m.summary);
@@ -364,7 +417,8 @@ nlohmann::json AggregatesToJson(const RunAggregates& run) {
             {"mean", l.mean},
             {"max", l.max}}},
           {"usage", {{"input_tokens", run.input_tokens}, {"output_tokens", run.output_tokens}}},
-          {"unstable_cases", run.unstable_cases}};
+          {"unstable_cases", run.unstable_cases},
+          {"warmup", WarmupToJson(run.warmups)}};
 }
 
 nlohmann::json FailuresToJson(const RunAggregates& run) {

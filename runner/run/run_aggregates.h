@@ -47,6 +47,8 @@ struct RunAggregates {
   /// Failed cases (not every repeat passed) by cause; a case's cause is its first failed
   /// repeat's.
   CauseBreakdown causes;
+  /// This invocation's worker start-ups (not AggregateRun's: FinishRun adds the adapter's).
+  std::vector<WorkerWarmup> warmups;
 
   /// The aggregate for `metric` at run level (`tag` empty) or for a tag; null when absent.
   const metrics::MetricSummary* Find(const std::string& metric, const std::string& tag = "") const;
@@ -54,6 +56,19 @@ struct RunAggregates {
 };
 
 RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& outcomes);
+
+/// The workers' start-ups at a glance: the signal ("ready_line", "ready_url", "first_call"; empty
+/// without records), how many (restarts included, counted apart too), their mean and max.
+struct WarmupSummary {
+  std::string signal;
+  int64_t n = 0;
+  int64_t restarts = 0;
+  double mean_ms = 0;
+  double max_ms = 0;
+};
+WarmupSummary SummarizeWarmups(const std::vector<WorkerWarmup>& warmups);
+/// run.json's aggregates.warmup back into records; entries it cannot read are skipped.
+std::vector<WorkerWarmup> WarmupsFromJson(const nlohmann::json& warmup);
 
 /// One floor or ceiling of the suite and whether it held.
 struct ThresholdOutcome {

@@ -33,6 +33,7 @@ struct RunContext {
   int repeat = 1;
   int jobs = 1;
   bool resumed = false;
+  std::vector<WorkerWarmup> warmups;  // this invocation's worker start-ups (issue 21)
 };
 
 /// run.json comes in three parts: RunRecordHead, the case entries of WriteRunRecordCases, and

@@ -24,6 +24,7 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
   record.request = PipelineRequest::RequestLine(c.id, c.question, c.input, repeat);
   record.latency_ms = call.latency_ms;
   record.latency_lower_bound = call.timed_out;
+  record.first_call = call.first_call;
   record.attempts = call.attempts;
   // A pipeline may echo a secret it was given, as is or JSON-escaped; nothing it says reaches a
   // file unredacted. The reply is parsed as sent and its decoded strings are redacted (a mask
@@ -80,6 +81,7 @@ CaseOutcome OutcomeOf(const CaseRecord& record, size_t case_index) {
   outcome.scores = record.scores;
   outcome.latency_ms = record.latency_ms;
   outcome.latency_lower_bound = record.latency_lower_bound;
+  outcome.first_call = record.first_call;
   outcome.attempts = record.attempts;
   outcome.input_tokens = record.parsed.input_tokens.value_or(0);
   outcome.output_tokens = record.parsed.output_tokens.value_or(0);
@@ -132,6 +134,7 @@ ScheduleResult RunSchedule(const ScheduleInputs& in) {
   ScheduleResult result;
   result.interrupted = in.stop != nullptr && in.stop->load();
   result.fatal_error = fatal_error;
+  result.warmups = in.adapter->Warmups();
   result.outcomes.reserve(items.size());
   for (size_t i = 0; i < items.size(); ++i) {
     if (finished[i]) result.outcomes.push_back(std::move(outcomes[i]));

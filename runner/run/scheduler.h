@@ -35,6 +35,7 @@ struct CaseOutcome {
   CaseScores scores;
   double latency_ms = 0;
   bool latency_lower_bound = false;  // timed out: latency_ms is the timeout
+  bool first_call = false;           // a fresh worker's first reply: its first_call_ms
   int attempts = 1;
   int64_t input_tokens = 0;
   int64_t output_tokens = 0;
@@ -44,6 +45,7 @@ struct ScheduleResult {
   std::vector<CaseOutcome> outcomes;  // finished items, in work-list order
   bool interrupted = false;           // `stop` was raised; unfinished items are not journaled
   std::string fatal_error;            // e.g. the journal could not be written; the run stops
+  std::vector<WorkerWarmup> warmups;  // the adapter's worker start-ups (Adapter::Warmups)
 };
 
 struct ScheduleInputs {

@@ -14,13 +14,13 @@
 namespace plumb {
 namespace {
 
-const std::vector<std::string> kSubprocessKeys = {"command", "mode", "env", "cwd"};
-const std::vector<std::string> kHttpKeys = {"url",     "method", "headers", "request",
-                                            "retries", "rate",   "insecure"};
+const std::vector<std::string> kSubprocessKeys = {"command", "mode", "env", "cwd", "ready"};
+const std::vector<std::string> kHttpKeys = {"url",     "method", "headers",  "request",
+                                            "retries", "rate",   "insecure", "ready_url"};
 // Keys an earlier format used; each is refused with its entry in the new form.
 const std::vector<std::string> kRetiredKeys = {"body", "map"};
-const std::vector<std::string> kCommonKeys = {"timeout", "jobs", "max_response_bytes", "reply",
-                                              "offsets"};
+const std::vector<std::string> kCommonKeys = {"timeout", "jobs",    "max_response_bytes",
+                                              "reply",   "offsets", "startup_timeout"};
 
 bool Contains(const std::vector<std::string>& names, const std::string& name) {
   return std::find(names.begin(), names.end(), name) != names.end();
@@ -55,6 +55,7 @@ class PipelineReader {
                             kRetiredKeys);
     if (!node.IsMapping()) return;
     config->redacted_config = SourceNodeToJson(node);
+    const SourceNode* ready_node = nullptr;  // `ready:`, checked against the mode at the end
 
     bool has_command = keys.count("command") > 0;
     bool has_url = keys.count("url") > 0;
@@ -94,6 +95,36 @@ class PipelineReader {
         } else {
           check_.Error(value, "unknown mode '" + mode + "'",
                        DidYouMeanHint(mode, {"persistent", "per-case"}, "modes"));
+        }
+      } else if (key == "ready") {
+        std::string ready;
+        if (!check_.String(value, key, &ready)) continue;
+        if (ready != "line") {
+          check_.Error(value, "unknown ready signal '" + ready + "'",
+                       "write 'ready: line' for a pipeline that writes {\"ready\": true} when it "
+                       "can take requests, or leave 'ready' out");
+          continue;
+        }
+        config->ready_line = true;
+        ready_node = &value;
+      } else if (key == "ready_url") {
+        ExpandedString url;
+        if (!ReadExpanded(value, key, config, &url)) continue;
+        config->redacted_config["ready_url"] = url.redacted;
+        const bool scheme_known = expand_env_ || url.value.rfind("${", 0) != 0;
+        if (scheme_known && url.value.rfind("http://", 0) != 0 &&
+            url.value.rfind("https://", 0) != 0) {
+          check_.Error(
+              value, "'ready_url' must start with http:// or https://, got '" + url.redacted + "'");
+          continue;
+        }
+        config->ready_url = url;
+      } else if (key == "startup_timeout") {
+        std::string text;
+        if (!ScalarAsString(value, &text) || !ParseDuration(text, &config->startup_timeout_ms) ||
+            config->startup_timeout_ms <= 0) {
+          check_.Error(value, "invalid startup_timeout " + DescribeValue(value),
+                       "write a duration such as 10m, 90s or 500ms");
         }
       } else if (key == "env") {
         ReadExpandedMap(value, key, config, &config->env, &config->redacted_config["env"]);
@@ -214,6 +245,11 @@ class PipelineReader {
                        DidYouMeanHint(unit, {"codepoints", "utf8", "utf16"}, "units"));
         }
       }
+    }
+    if (ready_node != nullptr && config->mode == SubprocessMode::kPerCase) {
+      check_.Error(*ready_node, "'ready: line' needs mode: persistent",
+                   "a per-case process starts for every case, so its start-up is part of each "
+                   "case's latency; remove 'ready' or use mode: persistent");
     }
     std::sort(config->secrets.begin(), config->secrets.end());
     config->secrets.erase(std::unique(config->secrets.begin(), config->secrets.end()),

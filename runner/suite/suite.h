@@ -114,6 +114,9 @@ struct PipelineConfig {
   SubprocessMode mode = SubprocessMode::kPersistent;
   std::optional<ExpandedString> cwd;
   std::map<std::string, ExpandedString> env;  // added to the inherited environment
+  /// `ready: line` (persistent mode): each worker writes {"ready": true, ...} before it reads a
+  /// request, and plumb waits for that line before it sends one (issue 21).
+  bool ready_line = false;
 
   // HTTP adapter (§5); filled by the loader, driven by the HTTP adapter.
   std::optional<ExpandedString> url;
@@ -128,10 +131,14 @@ struct PipelineConfig {
   int retries = 3;
   double rate_per_second = 0;  // 0: unlimited
   bool insecure = false;       // `insecure: true`: skip TLS certificate verification
+  /// `ready_url:`: polled with GET until it answers 2xx before the first request is sent.
+  std::optional<ExpandedString> ready_url;
 
   // Both adapters.
   ReplyFields reply;  // `reply:`; where the values plumb scores are in the reply
   int64_t timeout_ms = 30000;
+  /// How long a worker (ready line) or the service (ready_url) may take to become ready.
+  int64_t startup_timeout_ms = 10 * 60 * 1000;
   int jobs = 0;  // 0: take --jobs (or 1)
   int64_t max_response_bytes = 16 * 1024 * 1024;
   /// Unit of the offsets in the reply's citations and retrieved items (`offsets:`); the runner

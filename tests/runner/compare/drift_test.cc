@@ -298,6 +298,31 @@ TEST_CASE("a timeout pairs its latency at the timeout, as a lower bound") {
   CHECK(r.latency_p95.ratio == Approx(285.05).epsilon(1e-12));
 }
 
+TEST_CASE("warm-up drift: the ratio of the workers' mean warm-up") {
+  // Base: two workers ready after 2000 ms each; candidate: one after 4000 ms. Every resample
+  // gives the same means, so the ratio 4000 / 2000 = 2 has the interval [2, 2].
+  LoadedRun base = MakeRun({Scored("a", 1, 1)}), cand = MakeRun({Scored("a", 1, 1)});
+  auto worker = [](int slot, double ms) {
+    return nlohmann::json{{"worker", slot},
+                          {"restart", false},
+                          {"signal", "ready_line"},
+                          {"warmup_ms", ms},
+                          {"ready", nlohmann::json::object()}};
+  };
+  base.record["aggregates"]["warmup"]["workers"] = {worker(0, 2000), worker(1, 2000)};
+  cand.record["aggregates"]["warmup"]["workers"] = {worker(0, 4000)};
+  const DriftReport r = Drift(base, cand);
+  REQUIRE(r.warmup.available);
+  CHECK(r.warmup.base_n == 2);
+  CHECK(r.warmup.cand_n == 1);
+  CHECK(r.warmup.base_signal == "ready_line");
+  CHECK(r.warmup.ratio == 2);
+  CHECK(r.warmup.interval.low == 2);
+  CHECK(r.warmup.interval.high == 2);
+  // Without warm-ups in one run there is nothing to compare.
+  CHECK_FALSE(Drift(MakeRun({Scored("a", 1, 1)}), cand).warmup.available);
+}
+
 TEST_CASE("the gate: gated regressions and broken candidate floors exit 1") {
   // 20 of 20 lost: delta -1, p = 2 * 2^-20, interval [-1, -1].
   std::vector<Item> b, c;

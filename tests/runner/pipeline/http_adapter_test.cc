@@ -295,6 +295,50 @@ TEST_CASE("a server that never answers costs the timeout once") {
   CHECK(Arrivals(*server, "hang:c").size() == 1);
 }
 
+TEST_CASE("a ready_url is polled until it answers 2xx before the first request") {
+  // fault-server's /ready answers 503 until 2000 ms after it started, then 200. Its arrival
+  // times (ms since the server started) show every poll before the 200 and the case's request
+  // after it; the warm-up is recorded once, for the service.
+  auto server = StartFaultServer();
+  plumb::PipelineConfig config = Config(server->Url("/echo"));
+  const std::string ready = server->Url("/ready?after=2000");
+  config.ready_url = plumb::ExpandedString{ready, ready};
+  auto adapter = MakeAdapter(config);
+  const plumb::CallResult r = adapter->Call(Request("c1", "q"), 0);
+  CHECK(r.error.empty());
+  const std::vector<long> polls = Arrivals(*server, "ready:");
+  const std::vector<long> asked = Arrivals(*server, "echo:c1");
+  REQUIRE(!polls.empty());
+  REQUIRE(asked.size() == 1);
+  CHECK(polls.back() >= 2000);
+  CHECK(asked[0] >= polls.back());
+  const std::vector<plumb::WorkerWarmup> warmups = adapter->Warmups();
+  REQUIRE(warmups.size() == 1);
+  CHECK(warmups[0].signal == "ready_url");
+  CHECK(warmups[0].ms > 0);
+  // Ready once is ready: the next call polls no more.
+  CHECK(adapter->Call(Request("c2", "q"), 0).error.empty());
+  CHECK(Arrivals(*server, "ready:").size() == polls.size());
+}
+
+TEST_CASE("a ready_url that never answers 2xx fails every call with the reason") {
+  auto server = StartFaultServer();
+  plumb::PipelineConfig config = Config(server->Url("/echo"));
+  const std::string ready = server->Url("/status?code=503");
+  config.ready_url = plumb::ExpandedString{ready, ready};
+  config.startup_timeout_ms = 300;
+  auto adapter = MakeAdapter(config);
+  const std::string reason =
+      "the ready_url did not answer 2xx within the startup_timeout of 300ms (last: HTTP 503); "
+      "check the service, or raise startup_timeout";
+  CHECK(adapter->Call(Request("c1", "q"), 0).error == reason);
+  const size_t polls = Arrivals(*server, "status:").size();
+  CHECK(adapter->Call(Request("c2", "q"), 0).error == reason);
+  CHECK(Arrivals(*server, "status:").size() == polls);  // no second wait
+  CHECK(Arrivals(*server, "echo:c1").empty());
+  CHECK(adapter->Warmups().empty());
+}
+
 TEST_CASE("a reset connection is a case error") {
   auto server = StartFaultServer();
   auto adapter = MakeAdapter(Config(server->Url("/reset")));
@@ -641,10 +685,13 @@ TEST_CASE("plumb run: an answer pointer that does not resolve is a case error na
 
 namespace {
 
-// A run's aggregates without the latency figures, which differ between any two runs.
+// A run's aggregates without the latency and warm-up figures, which differ between any two runs
+// (and a subprocess's first calls are warm-up, which an HTTP service without ready_url has none
+// of).
 json WithoutLatency(json value) {
   if (value.is_object()) {
     value.erase("latency_ms");
+    value.erase("warmup");
     for (auto& [key, item] : value.items()) item = WithoutLatency(item);
   }
   return value;

@@ -1377,5 +1377,45 @@ TEST_CASE("expand_pipelines: only the named pipelines read their variables") {
   CHECK(r.errors[0].message == "environment variable 'PLUMB_TEST_UNSET' is not set (in 'command')");
 }
 
+TEST_CASE("warm-up keys: ready, ready_url and startup_timeout") {
+  TempDir dir;
+  std::string suite = WriteSuite(dir,
+                                 "pipelines:\n"
+                                 "  a: {command: [run-a], ready: line, startup_timeout: 90s}\n"
+                                 "  b: {url: \"http://127.0.0.1:9/answer\", ready_url: "
+                                 "\"http://127.0.0.1:9/ready\"}\n"
+                                 "cases: []\n");
+  Loaded r = Load(suite);
+  INFO(FormatDiagnostics(r.errors));
+  REQUIRE(r.ok);
+  CHECK(r.suite.pipelines[0].ready_line);
+  CHECK(r.suite.pipelines[0].startup_timeout_ms == 90000);
+  CHECK_FALSE(r.suite.pipelines[1].ready_line);
+  REQUIRE(r.suite.pipelines[1].ready_url.has_value());
+  CHECK(r.suite.pipelines[1].ready_url->value == "http://127.0.0.1:9/ready");
+  CHECK(r.suite.pipelines[1].startup_timeout_ms == 600000);  // 10m by default
+
+  std::string bad = WriteSuite(dir,
+                               "pipelines:\n"                                               // 4
+                               "  a: {command: [run-a], ready: yes}\n"                      // 5
+                               "  b: {command: [run-b], mode: per-case, ready: line}\n"     // 6
+                               "  c: {url: \"http://127.0.0.1:9/\", ready: line}\n"         // 7
+                               "  d: {url: \"http://127.0.0.1:9/\", ready_url: ftp://x}\n"  // 8
+                               "  e: {command: [run-e], startup_timeout: soon}\n"           // 9
+                               "cases: []\n");
+  Loaded b = Load(bad);
+  CHECK_FALSE(b.ok);
+  const Diagnostic& unknown = Find(b.errors, "unknown ready signal 'yes'");
+  CheckAt(unknown, bad, 5, 32);
+  const Diagnostic& per_case = Find(b.errors, "'ready: line' needs mode: persistent");
+  CheckAt(per_case, bad, 6, 48);
+  CHECK(per_case.hint ==
+        "a per-case process starts for every case, so its start-up is part of each case's "
+        "latency; remove 'ready' or use mode: persistent");
+  Find(b.errors, "'ready' applies to subprocess pipelines ('command')");
+  Find(b.errors, "'ready_url' must start with http:// or https://, got 'ftp://x'");
+  Find(b.errors, "invalid startup_timeout 'soon'");
+}
+
 }  // namespace
 }  // namespace plumb
