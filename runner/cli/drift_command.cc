@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <tuple>
 
 #include "runner/compare/drift_json.h"
 #include "runner/compare/drift_table.h"
@@ -14,15 +15,13 @@ namespace {
 
 /// A gated metric must be one plumb can measure; one the runs do not measure (citation_recall
 /// on a suite without gold spans) is allowed and reported as "not measured".
-bool CheckGateAgainstRuns(const DriftOptions& options, const LoadedRun& base, const LoadedRun& cand,
+bool CheckGateAgainstRuns(const DriftOptions& options, const RunValues& base, const RunValues& cand,
                           std::string* error) {
   std::vector<std::string> measured;
-  for (const LoadedRun* run : {&base, &cand}) {
-    for (const CaseRecord& r : run->records) {
-      for (const auto& entry : r.scores.values) {
-        if (std::find(measured.begin(), measured.end(), entry.first) == measured.end()) {
-          measured.push_back(entry.first);
-        }
+  for (const RunValues* run : {&base, &cand}) {
+    for (const std::string& metric : run->metrics) {
+      if (std::find(measured.begin(), measured.end(), metric) == measured.end()) {
+        measured.push_back(metric);
       }
     }
   }
@@ -79,6 +78,15 @@ bool CheckDriftOptions(const DriftOptions& options, std::string* error) {
 
 int RunDrift(const LoadedRun& base, const LoadedRun& cand, const DriftCommandOptions& options,
              nlohmann::json* json_out) {
+  RunValues base_values, cand_values;
+  RunValuesOf(base, &base_values);
+  RunValuesOf(cand, &cand_values);
+  return RunDrift(base_values, cand_values, &base, &cand, options, json_out);
+}
+
+int RunDrift(const RunValues& base, const RunValues& cand, const LoadedRun* base_run,
+             const LoadedRun* cand_run, const DriftCommandOptions& options,
+             nlohmann::json* json_out) {
   std::string error;
   if (!CheckDriftOptions(options.drift, &error) ||
       !CheckGateAgainstRuns(options.drift, base, cand, &error)) {
@@ -90,9 +98,13 @@ int RunDrift(const LoadedRun& base, const LoadedRun& cand, const DriftCommandOpt
     std::fprintf(stderr, "plumb: %s\n", error.c_str());
     return kExitUsage;
   }
-  if (!options.outputs.empty() && !WriteDriftOutputs(report, base, cand, options.outputs, &error)) {
-    std::fprintf(stderr, "plumb: %s\n", error.c_str());
-    return kExitUsage;
+  if (!options.outputs.empty()) {
+    static const LoadedRun kNone;  // the Markdown summary reads the report alone
+    if (!WriteDriftOutputs(report, base_run != nullptr ? *base_run : kNone,
+                           cand_run != nullptr ? *cand_run : kNone, options.outputs, &error)) {
+      std::fprintf(stderr, "plumb: %s\n", error.c_str());
+      return kExitUsage;
+    }
   }
   *json_out = DriftReportToJson(report);
   if (!options.json) {
@@ -103,20 +115,31 @@ int RunDrift(const LoadedRun& base, const LoadedRun& cand, const DriftCommandOpt
 }
 
 int DriftCommand(const DriftCommandOptions& options) {
-  LoadedRun base, cand;
+  // The HTML page and the JUnit file show whole records; the rest needs only per-case values,
+  // which are streamed (RunValues) instead of holding every record.
+  const bool records = !options.outputs.html.empty() || !options.outputs.junit.empty();
+  LoadedRun base_run, cand_run;
+  RunValues base, cand;
   std::string error;
-  for (auto [dir, run] :
-       {std::pair{&options.base_dir, &base}, std::pair{&options.cand_dir, &cand}}) {
-    if (!LoadRun(*dir, run, &error)) {
+  for (auto [dir, run, values] : {std::tuple{&options.base_dir, &base_run, &base},
+                                  std::tuple{&options.cand_dir, &cand_run, &cand}}) {
+    if (records) {
+      if (!LoadRun(*dir, run, &error)) {
+        std::fprintf(stderr, "plumb: %s\n", error.c_str());
+        return kExitUsage;
+      }
+      RunValuesOf(*run, values);
+    } else if (!LoadRunValues(*dir, values, &error)) {
       std::fprintf(stderr, "plumb: %s\n", error.c_str());
       return kExitUsage;
     }
-    for (const std::string& w : run->warnings) {
+    for (const std::string& w : values->warnings) {
       std::fprintf(stderr, "%s: warning: %s\n", dir->c_str(), w.c_str());
     }
   }
   nlohmann::json json;
-  const int code = RunDrift(base, cand, options, &json);
+  const int code = RunDrift(base, cand, records ? &base_run : nullptr,
+                            records ? &cand_run : nullptr, options, &json);
   if (options.json && code != kExitUsage) std::printf("%s\n", json.dump(2).c_str());
   return code;
 }

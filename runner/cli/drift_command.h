@@ -41,6 +41,11 @@ bool CheckDriftOptions(const DriftOptions& options, std::string* error);
 /// either way. Returns the gate's exit code, or kExitUsage after printing why.
 int RunDrift(const LoadedRun& base, const LoadedRun& cand, const DriftCommandOptions& options,
              nlohmann::json* json_out);
+/// The same from the runs' per-case values; base_run and cand_run (the same runs in full) are
+/// read only for the HTML page and the JUnit file, and may be null when neither is asked for.
+int RunDrift(const RunValues& base, const RunValues& cand, const LoadedRun* base_run,
+             const LoadedRun* cand_run, const DriftCommandOptions& options,
+             nlohmann::json* json_out);
 
 }  // namespace plumb
 

@@ -4,10 +4,14 @@
 
 #include <algorithm>
 #include <cmath>
+#include <condition_variable>
 #include <cstring>
 #include <limits>
 #include <map>
+#include <mutex>
 #include <set>
+#include <system_error>
+#include <thread>
 #include <unordered_map>
 
 #include "metrics/detectable_effect.h"
@@ -15,6 +19,7 @@
 #include "metrics/percentile.h"
 #include "metrics/seeded_random.h"
 #include "metrics/unpaired_bootstrap.h"
+#include "runner/base/parallel_chunks.h"
 #include "runner/run/exit_code.h"
 #include "runner/run/failure_reason.h"
 #include "runner/run/run_aggregates.h"
@@ -45,7 +50,7 @@ const nlohmann::json& ObjectAt(const nlohmann::json& object, const char* key) {
   return it == object.end() ? kNull : *it;
 }
 
-RunIdentity IdentityOf(const LoadedRun& run) {
+RunIdentity IdentityOf(const RunValues& run) {
   const nlohmann::json& r = run.record;
   RunIdentity id;
   id.dir = run.dir;
@@ -63,123 +68,50 @@ RunIdentity IdentityOf(const LoadedRun& run) {
   return id;
 }
 
-using MetricIndex = std::unordered_map<std::string, size_t>;
-
-/// Maps a record's metric ids to indices. Records of one run list their metrics in the same
-/// (sorted) order, so the id at each position is first compared with the one seen there last:
-/// a string comparison instead of a hash lookup per score.
-class MetricLookup {
- public:
-  explicit MetricLookup(const MetricIndex& index) : index_(index) {}
-  size_t Find(const std::string& metric, size_t position) {
-    if (position < cache_.size() && cache_[position].first == metric) {
-      return cache_[position].second;
-    }
-    const size_t m = index_.at(metric);
-    if (position >= cache_.size()) cache_.resize(position + 1);
-    cache_[position] = {metric, m};
-    return m;
-  }
-
- private:
-  const MetricIndex& index_;
-  std::vector<std::pair<std::string, size_t>> cache_;
-};
-
-/// The cases run.json lists, one row each, with their journal records folded in: per metric the
-/// sum and count over repeats, pass counts, latency over the repeats that did not error or timed
-/// out (at their timeout, a lower bound), and the lowest repeat's record. Records of cases the run
-/// did not select (a journal reused with another selection) are ignored.
+/// One run's cases as the report's metrics see them: the run's own metric indices behind the
+/// report's (names), pass_rate from the pass flags of the repeats.
 struct RunCases {
-  size_t metrics = 0;
-  std::unordered_map<std::string, uint32_t> row_of;
-  std::vector<const nlohmann::json*> gold;
-  std::vector<double> sum;  // row * metrics + metric
-  std::vector<uint32_t> count;
-  std::vector<int> repeats, passes;
-  std::vector<double> latency_sum;
-  std::vector<int> latency_count;
-  std::vector<int> latency_bounds;  // of latency_count: timeouts
-  std::vector<const CaseRecord*> first;
-  std::vector<const CaseRecord*> first_failed;  // null when every repeat passed
-  std::map<std::string, double> case_pass;
+  const RunValues* run = nullptr;
+  std::vector<int> local;  // report metric -> run metric, -1 when the run never scored it
+  size_t pass_rate = 0;    // report index of pass_rate
+  std::unordered_map<std::string_view, uint32_t> row_of;
+  std::map<std::string, double> case_pass;  // the suite's, as run.json records it
 
   double Value(uint32_t row, size_t m) const {
-    const size_t k = row * metrics + m;
-    return count[k] > 0 ? sum[k] / count[k] : kNaN;
+    const int k = local[m];
+    if (m == pass_rate) {  // the pass flags, and any journal score of that name with them
+      const double sum = run->passes[row] + (k >= 0 ? run->sums[k][row] : 0.0);
+      const double count = run->repeats[row] + (k >= 0 ? run->counts[k][row] : 0u);
+      return count > 0 ? sum / count : kNaN;
+    }
+    return k < 0 ? kNaN : run->Value(row, static_cast<size_t>(k));
   }
-  bool Passed(uint32_t row) const { return repeats[row] > 0 && passes[row] == repeats[row]; }
-  bool Unstable(uint32_t row) const { return passes[row] > 0 && passes[row] < repeats[row]; }
+  bool Passed(uint32_t row) const {
+    return run->repeats[row] > 0 && run->passes[row] == run->repeats[row];
+  }
+  bool Unstable(uint32_t row) const {
+    return run->passes[row] > 0 && run->passes[row] < run->repeats[row];
+  }
   double Latency(uint32_t row) const {
-    return latency_count[row] > 0 ? latency_sum[row] / latency_count[row] : kNaN;
+    return run->latency_count[row] > 0 ? run->latency_sum[row] / run->latency_count[row] : kNaN;
   }
-  std::string GoldHash(uint32_t row) const { return StringAt(*gold[row], "gold_hash"); }
+  const std::string& GoldHash(uint32_t row) const { return run->gold_hashes[row]; }
 };
 
-RunCases SummarizeCases(const LoadedRun& run, const MetricIndex& index) {
+RunCases SummarizeCases(const RunValues& run, const std::vector<std::string>& names) {
   RunCases cases;
-  cases.metrics = index.size();
-  const size_t pass_rate = index.at("pass_rate");
-  const nlohmann::json& listed = ObjectAt(run.record, "cases");
-  if (listed.is_object()) {
-    cases.row_of.reserve(listed.size());
-    for (auto it = listed.begin(); it != listed.end(); ++it) {
-      cases.row_of.emplace(it.key(), static_cast<uint32_t>(cases.gold.size()));
-      cases.gold.push_back(&*it);
+  cases.run = &run;
+  cases.local.assign(names.size(), -1);
+  for (size_t m = 0; m < names.size(); ++m) {
+    if (names[m] == "pass_rate") cases.pass_rate = m;
+    for (size_t k = 0; k < run.metrics.size(); ++k) {
+      if (run.metrics[k] == names[m]) cases.local[m] = static_cast<int>(k);
     }
   }
-  const size_t rows = cases.gold.size();
-  cases.sum.assign(rows * cases.metrics, 0);
-  cases.count.assign(rows * cases.metrics, 0);
-  cases.repeats.assign(rows, 0);
-  cases.passes.assign(rows, 0);
-  cases.latency_sum.assign(rows, 0);
-  cases.latency_count.assign(rows, 0);
-  cases.latency_bounds.assign(rows, 0);
-  cases.first.assign(rows, nullptr);
-  cases.first_failed.assign(rows, nullptr);
+  cases.row_of.reserve(run.rows());
+  for (uint32_t r = 0; r < run.rows(); ++r) cases.row_of.emplace(run.ids[r], r);
   cases.case_pass = run.CasePass();
-  MetricLookup lookup(index);
-  for (const CaseRecord& r : run.records) {
-    auto it = cases.row_of.find(r.id);
-    if (it == cases.row_of.end()) continue;
-    const uint32_t row = it->second;
-    double* sum = &cases.sum[row * cases.metrics];
-    uint32_t* count = &cases.count[row * cases.metrics];
-    size_t position = 0;
-    for (const auto& [metric, value] : r.scores.values) {
-      const size_t m = lookup.Find(metric, position++);
-      sum[m] += value;
-      count[m] += 1;
-    }
-    sum[pass_rate] += r.scores.pass ? 1 : 0;
-    count[pass_rate] += 1;
-    cases.repeats[row] += 1;
-    cases.passes[row] += r.scores.pass ? 1 : 0;
-    // Latency of a failed call measures the failure, as in the run's own latency summary; a
-    // timeout counts, at its timeout, as a lower bound.
-    if (r.error.empty() || r.latency_lower_bound) {
-      cases.latency_sum[row] += r.latency_ms;
-      cases.latency_count[row] += 1;
-      cases.latency_bounds[row] += r.latency_lower_bound ? 1 : 0;
-    }
-    if (cases.first[row] == nullptr || r.repeat < cases.first[row]->repeat) cases.first[row] = &r;
-    const CaseRecord*& failed = cases.first_failed[row];
-    if (!r.scores.pass && (failed == nullptr || r.repeat < failed->repeat)) failed = &r;
-  }
   return cases;
-}
-
-std::vector<std::string> TagsOf(const nlohmann::json& gold) {
-  std::vector<std::string> tags;
-  const nlohmann::json& list = ObjectAt(gold, "tags");
-  if (!list.is_array()) return tags;
-  for (const nlohmann::json& t : list) {
-    if (t.is_string()) tags.push_back(t.get<std::string>());
-  }
-  std::sort(tags.begin(), tags.end());
-  tags.erase(std::unique(tags.begin(), tags.end()), tags.end());
-  return tags;
 }
 
 // --- The shared paired bootstrap --------------------------------------------------------------
@@ -417,13 +349,28 @@ void SharedBootstrap::Pass(size_t first, size_t last, bool latency) {
   for (const Domain& d : domains) {
     if (d.kind != Domain::kListed) scope_needed[d.scope] = true;
   }
-  std::vector<uint32_t> count(n_);
   metrics::SeededRandom random(seed_);
   const uint64_t n = n_;
-  for (size_t r = 0; r < resamples; ++r) {
+
+  // Resample r: its counts drawn from the one stream, in order, and the latency ratios read off
+  // them (both on the drawing thread); then every mean read off the same counts (on the calling
+  // thread). With two CPUs the two run side by side over a ring of count vectors; the draws and
+  // every value are the same either way.
+  auto draw = [&](std::vector<uint32_t>& count) {
     std::memset(count.data(), 0, count.size() * sizeof(uint32_t));
     for (uint64_t k = 0; k < n; ++k) ++count[random.UniformIndex(n)];
-
+    if (!latency) return;
+    const uint64_t drawn = n - CountOf(count, latency_outside);
+    if (drawn == 0) return;
+    for (int which = 0; which < 2; ++which) {
+      const metrics::PercentileRank rank =
+          metrics::PercentileRankType7(static_cast<size_t>(drawn), which == 0 ? 50.0 : 95.0);
+      ratios[which].push_back(
+          ResamplePercentile(latency_[1].sorted, latency_[1].order, count, drawn, rank) /
+          ResamplePercentile(latency_[0].sorted, latency_[0].order, count, drawn, rank));
+    }
+  };
+  auto read = [&](size_t r, const std::vector<uint32_t>& count) {
     for (size_t s = 0; s < scopes_.size(); ++s) {
       if (scope_needed[s])
         scope_total[s] = scopes_[s].whole ? n : CountOf(count, scopes_[s].members);
@@ -448,17 +395,56 @@ void SharedBootstrap::Pass(size_t first, size_t last, bool latency) {
         values[(id - first) * resamples + r] = WeightedSum(count, m.positions, m.values) / drawn;
       }
     }
-    if (latency) {
-      const uint64_t drawn = n - CountOf(count, latency_outside);
-      if (drawn == 0) continue;
-      for (int which = 0; which < 2; ++which) {
-        const metrics::PercentileRank rank =
-            metrics::PercentileRankType7(static_cast<size_t>(drawn), which == 0 ? 50.0 : 95.0);
-        ratios[which].push_back(
-            ResamplePercentile(latency_[1].sorted, latency_[1].order, count, drawn, rank) /
-            ResamplePercentile(latency_[0].sorted, latency_[0].order, count, drawn, rank));
-      }
+  };
+
+  auto one_thread = [&] {
+    std::vector<uint32_t> count(n_);
+    for (size_t r = 0; r < resamples; ++r) {
+      draw(count);
+      read(r, count);
     }
+  };
+  if (WorkerCount() < 2 || resamples < 2) {
+    one_thread();
+  } else {
+    constexpr size_t kRing = 8;
+    std::vector<std::vector<uint32_t>> ring(kRing, std::vector<uint32_t>(n_));
+    std::mutex mutex;
+    std::condition_variable changed;
+    size_t drawn = 0, read_done = 0;  // resamples drawn, and read (their slot free again)
+    std::thread drawer;
+    auto drawing = [&] {
+      for (size_t r = 0; r < resamples; ++r) {
+        {
+          std::unique_lock<std::mutex> lock(mutex);
+          changed.wait(lock, [&] { return r - read_done < kRing; });
+        }
+        draw(ring[r % kRing]);
+        {
+          std::lock_guard<std::mutex> lock(mutex);
+          drawn = r + 1;
+        }
+        changed.notify_all();
+      }
+    };
+    try {
+      drawer = std::thread(drawing);
+    } catch (const std::system_error&) {  // no thread to be had: nothing drawn yet
+      one_thread();
+    }
+    for (size_t r = 0; r < resamples && drawer.joinable(); ++r) {
+      {
+        std::unique_lock<std::mutex> lock(mutex);
+        changed.wait(lock, [&] { return drawn > r; });
+      }
+      read(r, ring[r % kRing]);
+      {
+        std::lock_guard<std::mutex> lock(mutex);
+        read_done = r + 1;
+      }
+      changed.notify_all();
+    }
+    if (drawer.joinable()) drawer.join();
   }
 
   for (size_t id = first; id < last; ++id) {
@@ -497,23 +483,10 @@ double MeanOf(const std::vector<double>& v) {
 }
 
 /// Metric ids scored in either run, plus pass_rate, in display order.
-std::vector<std::string> MetricIds(const LoadedRun& base, const LoadedRun& cand) {
+std::vector<std::string> MetricIds(const RunValues& base, const RunValues& cand) {
   std::vector<std::string> names = {"pass_rate"};
-  std::set<std::string> seen = {"pass_rate"};
-  std::vector<std::string> last;  // the previous record's ids: usually the same ones
-  for (const LoadedRun* run : {&base, &cand}) {
-    for (const CaseRecord& r : run->records) {
-      size_t position = 0;
-      for (const auto& entry : r.scores.values) {
-        if (position < last.size() && last[position] == entry.first) {
-          ++position;
-          continue;
-        }
-        if (seen.insert(entry.first).second) names.push_back(entry.first);
-        if (position >= last.size()) last.resize(position + 1);
-        last[position++] = entry.first;
-      }
-    }
+  for (const RunValues* run : {&base, &cand}) {
+    names.insert(names.end(), run->metrics.begin(), run->metrics.end());
   }
   return MetricDisplayOrder(names);
 }
@@ -540,7 +513,8 @@ PairedCases PairCases(const RunCases& base, const RunCases& cand,
     uint32_t base, cand;
   };
   std::vector<Pair> pairs;
-  for (const auto& [id, row] : base.row_of) {
+  for (uint32_t row = 0; row < base.run->rows(); ++row) {
+    const std::string& id = base.run->ids[row];
     auto it = cand.row_of.find(id);
     if (it == cand.row_of.end()) {
       report->only_in_base.push_back(id);
@@ -551,8 +525,8 @@ PairedCases PairCases(const RunCases& base, const RunCases& cand,
       pairs.push_back({&id, row, it->second});
     }
   }
-  for (const auto& entry : cand.row_of) {
-    if (!base.row_of.count(entry.first)) report->only_in_cand.push_back(entry.first);
+  for (const std::string& id : cand.run->ids) {
+    if (!base.row_of.count(id)) report->only_in_cand.push_back(id);
   }
   std::sort(pairs.begin(), pairs.end(), [](const Pair& a, const Pair& b) { return *a.id < *b.id; });
   for (auto* list : {&report->only_in_base, &report->only_in_cand, &report->gold_changed}) {
@@ -647,7 +621,9 @@ void RegisterLatency(const PairedCases& paired, const RunCases& base, const RunC
     subset.push_back(i);
     lb.push_back(b);
     lc.push_back(c);
-    if (base.latency_bounds[paired.base_row[i]] + cand.latency_bounds[paired.cand_row[i]] > 0) {
+    if (base.run->latency_bounds[paired.base_row[i]] +
+            cand.run->latency_bounds[paired.cand_row[i]] >
+        0) {
       report->latency_lower_bounds += 1;
     }
   }
@@ -668,7 +644,7 @@ void RegisterLatency(const PairedCases& paired, const RunCases& base, const RunC
 }
 
 /// The warm-up ratio of the two runs' workers (see WarmupDrift).
-WarmupDrift CompareWarmups(const LoadedRun& base, const LoadedRun& cand,
+WarmupDrift CompareWarmups(const RunValues& base, const RunValues& cand,
                            const DriftOptions& options) {
   WarmupDrift w;
   const std::vector<WorkerWarmup> b =
@@ -801,9 +777,13 @@ void AdjustTags(const std::vector<std::string>& names, double min_effect,
   }
 }
 
-/// Lost (pass -> fail) and gained cases, largest change of the gated metrics first.
-void ListChangedCases(const PairedCases& paired, const RunCases& base, const RunCases& cand,
-                      const std::vector<std::string>& gate, DriftReport* report) {
+/// Lost (pass -> fail) and gained cases, largest change of the gated metrics first; each with the
+/// answer and error of its lowest repeat, read back through RunValues::FirstRecord. False with a
+/// sentence when a journal cannot be read back.
+bool ListChangedCases(const PairedCases& paired, const RunCases& base, const RunCases& cand,
+                      const std::vector<std::string>& gate, DriftReport* report,
+                      std::string* error) {
+  CaseRecord first;
   for (size_t i = 0; i < paired.size(); ++i) {
     const bool missing = paired.cand_row[i] == kMissingRow;
     const bool was = base.Passed(paired.base_row[i]);
@@ -817,32 +797,35 @@ void ListChangedCases(const PairedCases& paired, const RunCases& base, const Run
     }
     if (missing) change.cand_error = "missing from the candidate run (counted as lost)";
     // A case the candidate lacks is scored as an errored case (drift.h), so that is its cause.
-    const CaseRecord* base_failed = base.first_failed[paired.base_row[i]];
-    const CaseRecord* cand_failed = missing ? nullptr : cand.first_failed[paired.cand_row[i]];
-    if (base_failed != nullptr) {
-      change.base_cause = base_failed->scores.cause;
-      change.base_reason = FailureReason(*base_failed, base.case_pass);
+    const uint32_t base_row = paired.base_row[i], cand_row = paired.cand_row[i];
+    if (base.run->HasFailedRecord(base_row)) {
+      if (!base.run->FirstFailedRecord(base_row, &first, error)) return false;
+      change.base_cause = first.scores.cause;
+      change.base_reason = FailureReason(first, base.case_pass);
     }
     if (missing) {
       change.cand_cause = FailureCause::kErrored;
       change.cand_reason = change.cand_error;
-    } else if (cand_failed != nullptr) {
-      change.cand_cause = cand_failed->scores.cause;
-      change.cand_reason = FailureReason(*cand_failed, cand.case_pass);
+    } else if (cand.run->HasFailedRecord(cand_row)) {
+      if (!cand.run->FirstFailedRecord(cand_row, &first, error)) return false;
+      change.cand_cause = first.scores.cause;
+      change.cand_reason = FailureReason(first, cand.case_pass);
     }
-    const nlohmann::json* gold = base.gold[paired.base_row[i]];
-    if (gold != nullptr && gold->is_object() && gold->contains("answers")) {
-      for (const nlohmann::json& answer : (*gold)["answers"]) {
+    nlohmann::json gold;
+    if (!base.run->Gold(base_row, &gold, error)) return false;
+    if (gold.is_object() && gold.contains("answers")) {
+      for (const nlohmann::json& answer : gold["answers"]) {
         if (answer.is_string()) change.gold.push_back(answer.get<std::string>());
       }
     }
     for (int run = 0; run < 2; ++run) {
       if (run == 1 && missing) continue;
-      const CaseRecord* first =
-          run == 0 ? base.first[paired.base_row[i]] : cand.first[paired.cand_row[i]];
-      if (first == nullptr) continue;
-      (run == 0 ? change.base_answer : change.cand_answer) = first->parsed.answer;
-      (run == 0 ? change.base_error : change.cand_error) = first->error;
+      const RunValues& values = *(run == 0 ? base : cand).run;
+      const uint32_t row = run == 0 ? base_row : cand_row;
+      if (!values.HasRecord(row)) continue;
+      if (!values.FirstRecord(row, &first, error)) return false;
+      (run == 0 ? change.base_answer : change.cand_answer) = first.parsed.answer;
+      (run == 0 ? change.base_error : change.cand_error) = first.error;
     }
     (was ? report->lost : report->gained).push_back(std::move(change));
   }
@@ -864,6 +847,7 @@ void ListChangedCases(const PairedCases& paired, const RunCases& base, const Run
               const double sa = gated_sum(a), sb = gated_sum(b);
               return sa != sb ? sa > sb : a.id < b.id;
             });
+  return true;
 }
 
 std::string FloorText(const nlohmann::json& t) {
@@ -879,7 +863,7 @@ std::string FloorText(const nlohmann::json& t) {
                      limit_value);
 }
 
-DriftGate DecideGate(const DriftReport& report, const LoadedRun& cand) {
+DriftGate DecideGate(const DriftReport& report, const RunValues& cand) {
   DriftGate gate;
   gate.metrics = report.options.gate;
   std::vector<std::string> states;
@@ -1021,6 +1005,14 @@ std::vector<std::string> MetricDisplayOrder(std::vector<std::string> metrics) {
 
 bool ComputeDrift(const LoadedRun& base, const LoadedRun& cand, const DriftOptions& options,
                   DriftReport* report, std::string* error) {
+  RunValues base_values, cand_values;
+  RunValuesOf(base, &base_values);
+  RunValuesOf(cand, &cand_values);
+  return ComputeDrift(base_values, cand_values, options, report, error);
+}
+
+bool ComputeDrift(const RunValues& base, const RunValues& cand, const DriftOptions& options,
+                  DriftReport* report, std::string* error) {
   *report = DriftReport();
   report->options = options;
   report->base = IdentityOf(base);
@@ -1043,10 +1035,8 @@ bool ComputeDrift(const LoadedRun& base, const LoadedRun& cand, const DriftOptio
   }
 
   const std::vector<std::string> names = MetricIds(base, cand);
-  MetricIndex index;
-  for (size_t m = 0; m < names.size(); ++m) index[names[m]] = m;
-  const RunCases base_cases = SummarizeCases(base, index);
-  const RunCases cand_cases = SummarizeCases(cand, index);
+  const RunCases base_cases = SummarizeCases(base, names);
+  const RunCases cand_cases = SummarizeCases(cand, names);
   const PairedCases paired =
       PairCases(base_cases, cand_cases, names, options.allow_missing, report);
   const std::vector<bool> binary = BinaryMetrics(paired);
@@ -1054,8 +1044,9 @@ bool ComputeDrift(const LoadedRun& base, const LoadedRun& cand, const DriftOptio
   // Scopes: the whole run, then each tag (from the gold, which is equal in both runs).
   std::map<std::string, std::vector<uint32_t>> tag_members;
   for (uint32_t i = 0; i < paired.size(); ++i) {
-    for (const std::string& tag : TagsOf(*base_cases.gold[paired.base_row[i]])) {
-      tag_members[tag].push_back(i);
+    const uint32_t row = paired.base_row[i];
+    for (uint32_t k = base.tag_begin[row]; k < base.tag_begin[row + 1]; ++k) {
+      tag_members[base.tag_names[base.tag_ids[k]]].push_back(i);
     }
   }
   SharedBootstrap bootstrap(paired.size(), options.resamples, options.seed);
@@ -1096,15 +1087,17 @@ bool ComputeDrift(const LoadedRun& base, const LoadedRun& cand, const DriftOptio
     ++t;
   }
   AdjustTags(names, options.min_effect, &report->tags);
-  ListChangedCases(paired, base_cases, cand_cases, options.gate, report);
+  if (!ListChangedCases(paired, base_cases, cand_cases, options.gate, report, error)) {
+    return false;
+  }
   std::vector<FailureCause> lost_causes;
   for (const CaseChange& c : report->lost) lost_causes.push_back(c.cand_cause);
   report->lost_causes = BreakDownCauses(lost_causes);
 
   std::set<std::string> unstable;
   for (const RunCases* cases : {&base_cases, &cand_cases}) {
-    for (const auto& [id, row] : cases->row_of) {
-      if (cases->Unstable(row)) unstable.insert(id);
+    for (uint32_t row = 0; row < cases->run->rows(); ++row) {
+      if (cases->Unstable(row)) unstable.insert(cases->run->ids[row]);
     }
   }
   report->unstable.assign(unstable.begin(), unstable.end());

@@ -5,7 +5,9 @@
 /// cases paired by id, per-metric and per-tag deltas with paired-bootstrap intervals and p-values,
 /// verdicts, lost and gained cases, latency ratios, and the merge gate's exit code. `plumb drift`
 /// and `plumb run --baseline` build one with ComputeDrift and hand it to the JSON, terminal,
-/// Markdown and HTML writers. Pure computation over two LoadedRuns: no I/O.
+/// Markdown and HTML writers. Computation over two runs' per-case values (RunValues, which
+/// `plumb drift` streams from the run directories); the only I/O is reading back, through
+/// RunValues, the records and gold of the cases whose outcome changed.
 ///
 /// The statistics, stated once here so every writer can point to them:
 /// - Pairing: a case is paired when both runs' run.json list it with the same gold hash; cases
@@ -68,6 +70,7 @@
 #include "runner/run/cause_breakdown.h"
 #include "runner/run/failure_cause.h"
 #include "runner/run/run_reader.h"
+#include "runner/run/run_values.h"
 
 namespace plumb {
 
@@ -216,7 +219,11 @@ struct DriftReport {
 };
 
 /// Compares `cand` with `base`. False with a sentence when the runs are of different suites
-/// (their suite names differ): such runs have no cases in common worth pairing.
+/// (their suite names differ): such runs have no cases in common worth pairing; or when the
+/// records or gold of a changed case cannot be read back (RunValues::FirstRecord).
+bool ComputeDrift(const RunValues& base, const RunValues& cand, const DriftOptions& options,
+                  DriftReport* report, std::string* error);
+/// The same over runs already loaded in full (RunValuesOf each): the same report.
 bool ComputeDrift(const LoadedRun& base, const LoadedRun& cand, const DriftOptions& options,
                   DriftReport* report, std::string* error);
 

@@ -29,6 +29,9 @@ struct LoadedRun {
   std::vector<const CaseRecord*> RecordsOf(const std::string& id) const;
 };
 
+/// The suite's case_pass minimums as run.json `record` holds them ({correct: 1} when absent).
+std::map<std::string, double> CasePassOf(const nlohmann::json& record);
+
 /// Reads `dir`/run.json and `dir`/cases.jsonl. False with a sentence naming the file when
 /// either is missing or malformed (an interrupted run has no run.json: say so).
 bool LoadRun(const std::string& dir, LoadedRun* run, std::string* error);
