@@ -27,6 +27,10 @@ RatioResult UnpairedBootstrapMeanRatio(const std::vector<double>& base,
   };
   RatioResult result;
   result.ratio = mean(cand) / mean(base);
+  if (base.size() == 1 && cand.size() == 1) {
+    result.interval = {nan, nan};  // one value a side: nothing varies, nothing to resample
+    return result;
+  }
   if (resamples < 1) {
     result.interval = {result.ratio, result.ratio};
     return result;

@@ -17,7 +17,8 @@ namespace plumb::metrics {
 /// 100 * (1 - confidence) / 2 and 100 * (1 - (1 - confidence) / 2) of that ratio over
 /// `resamples` resamples, each drawing base.size() values from base and then cand.size() from
 /// cand, with replacement, by SeededRandom(seed).UniformIndex. With one value on a side that side
-/// never varies (an interval from one worker says only how the other side varies). Values are
+/// never varies (an interval from one worker says only how the other side varies); with one value
+/// on each side nothing varies, and the interval is NaN (shown as n/a), not a point. Values are
 /// durations: finite and positive; when a side is empty or a value is not, everything is NaN.
 RatioResult UnpairedBootstrapMeanRatio(const std::vector<double>& base,
                                        const std::vector<double>& cand, int resamples = 10000,

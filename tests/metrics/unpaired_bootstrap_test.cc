@@ -26,6 +26,15 @@ TEST_CASE("One base worker against two candidate workers, worked by hand", "[unp
   CHECK(r.interval.high == 3);
 }
 
+TEST_CASE("One worker on each side gives the ratio and no interval", "[unpaired_bootstrap]") {
+  // Every resample of {100} and {250} is the same pair, so a percentile interval would be the
+  // point [2.5, 2.5]: a spread of zero that nothing measured. The interval is left undefined.
+  const RatioResult r = UnpairedBootstrapMeanRatio({100}, {250});
+  CHECK(r.ratio == 2.5);
+  CHECK(std::isnan(r.interval.low));
+  CHECK(std::isnan(r.interval.high));
+}
+
 TEST_CASE("The same seed gives the same interval", "[unpaired_bootstrap]") {
   const std::vector<double> base = {2010, 2035, 1990, 2100};
   const std::vector<double> cand = {4020, 3980, 4105};
