@@ -53,6 +53,7 @@ std::string CommandExample(const std::string& command) {
       {"drift", "plumb drift main-run plumb-out/pr --gate correct,token_f1 --markdown -"},
       {"report", "plumb report plumb-out/pr --html report.html --junit junit.xml"},
       {"merge", "plumb merge shard-1 shard-2 shard-3 -o merged"},
+      {"grade", "plumb grade plumb-out/pr --grader correctness"},
       {"help", "plumb help run"},
       {"completion", "plumb completion bash > /etc/bash_completion.d/plumb"}};
   auto found = examples->find(command);

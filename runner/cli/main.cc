@@ -13,6 +13,7 @@
 #include "runner/base/terminal_palette.h"
 #include "runner/cli/check_command.h"
 #include "runner/cli/drift_command.h"
+#include "runner/cli/grade_command.h"
 #include "runner/cli/help_text.h"
 #include "runner/cli/merge_command.h"
 #include "runner/cli/parse_failure.h"
@@ -100,6 +101,10 @@ int main(int argc, char** argv) {
   run_cmd->add_flag("--allow-missing", run.allow_missing,
                     "With --baseline: leave out baseline cases this run lacks instead of counting "
                     "them as lost (implied by --tag, --case, --limit and --shard)");
+  run_cmd->add_option("--grade-cache", run.grade_cache.path,
+                      "Verdict cache file (default: .plumb/grades.sqlite beside the suite)");
+  run_cmd->add_flag("--no-grade-cache", run.grade_cache.disabled,
+                    "Grade without the verdict cache (every grade is requested)");
   AddOutputOptions(run_cmd, &run.outputs);
 
   plumb::ScoreOptions score;
@@ -162,6 +167,21 @@ int main(int argc, char** argv) {
                         "Label the merged run, KEY=VALUE (repeatable; over the shards' labels)");
   merge_cmd->add_flag("--json", merge.json, "Print the merged run record as JSON on stdout");
 
+  plumb::GradeOptions grade;
+  CLI::App* grade_cmd = app.add_subcommand(
+      "grade", "Grade a stored run with the suite's graders; the pipeline is not called");
+  grade_cmd->add_option("RUN_DIR", grade.run_dir, "Run directory")->required();
+  grade_cmd->add_option("--grader", grade.graders, "Grader to run (repeatable; default: all)");
+  grade_cmd->add_option("--suite", grade.suite_path,
+                        "Suite file (default: the one the run recorded)");
+  grade_cmd->add_option("--pipelines", grade.pipelines_file,
+                        "YAML file whose `pipelines:` replace the suite's");
+  grade_cmd->add_option("--grade-cache", grade.cache.path,
+                        "Verdict cache file (default: .plumb/grades.sqlite beside the suite)");
+  grade_cmd->add_flag("--no-grade-cache", grade.cache.disabled,
+                      "Grade without the verdict cache (every grade is requested)");
+  grade_cmd->add_flag("--json", grade.json, "Print the run record as JSON on stdout");
+
   std::string help_topic;
   CLI::App* help_cmd = app.add_subcommand("help", "Describe a command: its options, an example");
   help_cmd->add_option("COMMAND", help_topic, "The command to describe (default: all)");
@@ -208,6 +228,7 @@ int main(int argc, char** argv) {
                stdout);
     return 0;
   }
+  if (*grade_cmd) return plumb::GradeCommand(grade);
   if (*man_cmd) {
     std::fputs(plumb::ManPage(app, PLUMB_VERSION).c_str(), stdout);
     return 0;

@@ -13,6 +13,7 @@
 #include "runner/cli/run_summary.h"
 #include "runner/run/case_record.h"
 #include "runner/run/exit_code.h"
+#include "runner/run/grading.h"
 #include "runner/run/run_journal.h"
 #include "runner/run/run_reader.h"
 #include "runner/suite/recorded_suite.h"
@@ -272,6 +273,18 @@ int MergeCommand(const MergeOptions& options) {
     for (WorkerWarmup& w : WarmupsFromJson(aggregates.value("warmup", nlohmann::json()))) {
       context.warmups.push_back(std::move(w));
     }
+  }
+  // The shards' grading, summed: their journal lines (with their grades) are copied as they are.
+  std::vector<nlohmann::json> gradings;
+  std::vector<std::string> dirs;
+  for (const ShardRun& shard : shards) {
+    gradings.push_back(shard.record.value("grading", nlohmann::json()));
+    dirs.push_back(shard.dir);
+  }
+  std::vector<std::string> grading_warnings;
+  context.grading = MergedGradingRecord(gradings, dirs, &grading_warnings);
+  for (const std::string& warning : grading_warnings) {
+    std::fprintf(stderr, "plumb merge: warning: %s\n", warning.c_str());
   }
   std::vector<CaseOutcome> outcomes;
   outcomes.reserve(items.size());

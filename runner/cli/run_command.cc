@@ -3,6 +3,7 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include <atomic>
 #include <cerrno>
 #include <chrono>
 #include <cstdio>
@@ -19,6 +20,7 @@
 #include "runner/pipeline/child_process.h"
 #include "runner/pipeline/reply_mapping.h"
 #include "runner/report/summary_table.h"
+#include "runner/run/grading.h"
 #include "runner/run/prepared_suite.h"
 #include "runner/run/run_journal.h"
 #include "runner/run/run_origin.h"
@@ -166,6 +168,14 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
     std::fprintf(stderr, "%s: error: %s\n", suite.path.c_str(), error.c_str());
     return kExitUsage;
   }
+  // The graders start before any case is sent: a grader that is the pipeline under test, or a
+  // cache that cannot be used, stops the run before it costs anything.
+  GraderSession graders;
+  if (!suite.graders.empty() && !StartGraders(prepared, {}, options.grade_cache, pipeline.name,
+                                              pipeline.redacted_config, &graders, &error)) {
+    std::fprintf(stderr, "%s: error: %s\n", suite.path.c_str(), error.c_str());
+    return kExitUsage;
+  }
   std::unique_ptr<RunJournal> journal = RunJournal::Open(journal_path, resume.keep_bytes, &error);
   if (journal == nullptr) {
     std::fprintf(stderr, "plumb: %s\n", error.c_str());
@@ -198,8 +208,19 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
                     options.progress && !items.empty(),
                     [raw_adapter] { return raw_adapter->retries_in_flight(); });
   ScheduleResult scheduled;
+  // Grading runs beside the pipeline: each answer is handed to the graders as its case
+  // finishes, and their calls run on the graders' own slots (GradingPass).
+  // The pass outlives both interrupt watches, so it reads a flag of its own that each sets.
+  std::atomic<bool> grading_stop{false};
+  graders.inputs.stop = &grading_stop;
+  std::unique_ptr<GradingPass> grading;
+  if (!suite.graders.empty()) grading = std::make_unique<GradingPass>(graders.inputs);
   {
-    InterruptWatch watch([raw_adapter] { raw_adapter->Shutdown(); });
+    InterruptWatch watch([raw_adapter, &graders, &grading_stop] {
+      grading_stop = true;
+      raw_adapter->Shutdown();
+      graders.Shutdown();
+    });
     ScheduleInputs inputs;
     inputs.suite = &suite;
     inputs.items = &items;
@@ -210,6 +231,11 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
     inputs.reply = reply.get();
     inputs.progress = &progress;
     inputs.stop = &watch.interrupted();
+    if (grading != nullptr) {
+      inputs.on_journaled = [&grading](const CaseRecord& record, size_t case_index) {
+        grading->Add(record, case_index);
+      };
+    }
     scheduled = RunSchedule(inputs);
     adapter->Shutdown();
     // Each worker's adopted descendants died with it; what is left is a descendant that shed
@@ -235,6 +261,42 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
   context.warmups = scheduled.warmups;
   std::vector<CaseOutcome> outcomes = std::move(resume.outcomes);
   for (CaseOutcome& o : scheduled.outcomes) outcomes.push_back(std::move(o));
+
+  // The answers of a resumed journal were not handed in yet: GradeJournal adds them, waits for
+  // every grade, and rewrites the journal with the grades.
+  if (grading != nullptr && scheduled.interrupted) {
+    // Stopped: the grades already given are stored in the cache (Finish), the journal stays
+    // as the pipeline left it, and --resume grades it all again from the cache.
+    GradingCounts counts;
+    bool interrupted = false;
+    grading->Finish(&counts, &interrupted, &error);
+    graders.Shutdown();
+  } else if (grading != nullptr) {
+    journal.reset();  // flushes and closes: the grading pass replaces the file
+    std::vector<bool> is_selected(suite.cases.size(), false);
+    for (size_t i : selected) is_selected[i] = true;
+    GradedJournal graded;
+    bool ok = false;
+    {
+      InterruptWatch watch([&graders, &grading_stop] {
+        grading_stop = true;
+        graders.Shutdown();
+      });
+      ok = GradeJournal(journal_path, graders.inputs, is_selected, grading.get(), &graded, &error);
+      graders.Shutdown();
+      KillAdoptedDescendants("");
+      scheduled.interrupted = watch.interrupted();
+    }
+    if (!ok) {
+      std::fprintf(stderr, "plumb: %s\n", error.c_str());
+      return kExitUsage;
+    }
+    std::fprintf(stderr, "%s\n", GradingSummaryLine(graded.counts).c_str());
+    if (!graded.interrupted) {
+      outcomes = std::move(graded.outcomes);
+      context.grading = GradingRecord(graders.inputs, graded.counts);
+    }
+  }
 
   const double seconds =
       std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();

@@ -9,6 +9,7 @@
 #include <string>
 #include <vector>
 
+#include "runner/cli/grader_session.h"
 #include "runner/cli/run_outputs.h"
 #include "runner/suite/case_selection.h"
 
@@ -26,10 +27,11 @@ struct RunOptions {
   CaseSelection selection;                    // --tag, --case, --shard, --limit
   std::map<std::string, std::string> labels;  // --label K=V
   bool json = false;                          // --json
-  std::string baseline_dir;    // --baseline DIR: drift against it and gate (SPEC §7, §8)
-  bool allow_missing = false;  // --allow-missing: baseline cases not run are left out
-  OutputOptions outputs;       // --html, --junit, --markdown
-  bool progress = true;        // false in tests
+  std::string baseline_dir;       // --baseline DIR: drift against it and gate (SPEC §7, §8)
+  bool allow_missing = false;     // --allow-missing: baseline cases not run are left out
+  OutputOptions outputs;          // --html, --junit, --markdown
+  bool progress = true;           // false in tests
+  GradeCacheOptions grade_cache;  // --grade-cache FILE, --no-grade-cache
 };
 
 int RunCommand(const RunOptions& options);

@@ -5,10 +5,33 @@ namespace {
 
 constexpr std::string_view kInput = "input.";
 
+/// What the `!case` fields of one request read: the request, and for a grader's request the
+/// object its line holds (parsed once per rendering; null for a case's request).
+struct Fields {
+  const PipelineRequest& request;
+  nlohmann::json grader;
+
+  explicit Fields(const PipelineRequest& r)
+      : request(r),
+        grader(r.line.empty()
+                   ? nlohmann::json()
+                   : nlohmann::json::parse(r.line, nullptr, /*allow_exceptions=*/false)) {}
+};
+
 // The value a case field names; false with a sentence when the case's input lacks the key.
-bool Lookup(const std::string& field, const PipelineRequest& request, nlohmann::json* value,
+bool Lookup(const std::string& field, const Fields& fields, nlohmann::json* value,
             std::string* error) {
-  if (field == "id") {
+  const PipelineRequest& request = fields.request;
+  if (IsGraderRequestField(field)) {
+    auto it = fields.grader.is_object() ? fields.grader.find(field) : fields.grader.end();
+    if (!fields.grader.is_object() || it == fields.grader.end()) {
+      *error = "'!case " + field +
+               "' is a field of a grader's request, but this pipeline was called to answer a "
+               "case; use it only in a pipeline that graders: names";
+      return false;
+    }
+    *value = *it;
+  } else if (field == "id") {
     *value = request.id;
   } else if (field == "question") {
     *value = request.question;
@@ -45,7 +68,7 @@ std::string TextOf(const nlohmann::json& value) {
 
 // The text of a !text list, each field's text passed through `encode`.
 template <typename Encode>
-bool JoinText(const std::vector<RequestPart>& pieces, const PipelineRequest& request, Encode encode,
+bool JoinText(const std::vector<RequestPart>& pieces, const Fields& request, Encode encode,
               std::string* out, std::string* error) {
   out->clear();
   for (const RequestPart& piece : pieces) {
@@ -60,7 +83,7 @@ bool JoinText(const std::vector<RequestPart>& pieces, const PipelineRequest& req
   return true;
 }
 
-bool RenderPart(const RequestPart& part, const PipelineRequest& request, nlohmann::json* out,
+bool RenderPart(const RequestPart& part, const Fields& request, nlohmann::json* out,
                 std::string* error) {
   switch (part.kind) {
     case RequestPart::Kind::kValue:
@@ -125,7 +148,7 @@ bool RenderRequest(const std::optional<RequestPart>& block, const PipelineReques
     *out = request.ToJson();
     return true;
   }
-  return RenderPart(*block, request, out, error);
+  return RenderPart(*block, Fields(request), out, error);
 }
 
 bool RenderUrl(const std::string& url, const std::vector<RequestPart>& pieces,
@@ -134,7 +157,7 @@ bool RenderUrl(const std::string& url, const std::vector<RequestPart>& pieces,
     *out = url;
     return true;
   }
-  return JoinText(pieces, request, PercentEncode, out, error);
+  return JoinText(pieces, Fields(request), PercentEncode, out, error);
 }
 
 std::string QueryString(const nlohmann::json& body) {

@@ -13,6 +13,9 @@
 ///    any other value as compact JSON.
 /// A field input.KEY the case's input lacks is an error for that case (naming the key), not a
 /// silent null: a typo would otherwise send the same wrong request for every case.
+/// A grader's request (PipelineRequest::line set) also has the fields of its line: grade,
+/// rubric, gold, answer, gold_sources and cited, each with its JSON type (gold a list of
+/// strings, answer a string or null); in a case's request they are an error of that case.
 /// In a `url: !text` list, each field's text is percent-encoded (RFC 3986 §2.3: every byte but
 /// ALPHA / DIGIT / "-" / "." / "_" / "~"); a GET's query parameters are encoded the same way.
 

@@ -99,6 +99,7 @@ void EndCaseRecord(const CaseRecord& r, JsonWriter* out) {
     w.PlainKey("cause").String(FailureCauseId(r.scores.cause));
   }
   if (!r.scores.warnings.empty()) w.Member("warnings", r.scores.warnings);
+  if (!r.grades.is_null()) w.PlainKey("grades").Value(r.grades);
   w.EndObject();
 }
 
@@ -143,6 +144,9 @@ bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* 
     // classify them from the scores.
     const std::string cause = json.value("cause", std::string());
     if (!ParseFailureCause(cause, &r->scores.cause)) r->scores.cause = FailureCause::kNone;
+    if (auto grades = json.find("grades"); grades != json.end() && grades->is_object()) {
+      r->grades = *grades;
+    }
   } catch (const nlohmann::json::exception& e) {
     *error = std::string("malformed journal record: ") + e.what();
     return false;

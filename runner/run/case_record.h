@@ -36,6 +36,9 @@ struct CaseRecord {
   std::string stdout_excerpt;
   std::string stderr_excerpt;
   CaseScores scores;
+  /// Per grader: {"grade", "scores", "reason", "from_cache"} or {"error", "scores"}; null when
+  /// the suite has no graders (the journal line then has no "grades" member).
+  nlohmann::json grades;
 };
 
 /// The record as one journal line of compact JSON, without the newline.

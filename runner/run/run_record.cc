@@ -129,6 +129,7 @@ std::string RunRecordHead(const RunContext& ctx) {
       .Member("repeat", ctx.repeat)
       .Member("jobs", ctx.jobs)
       .Member("resumed", ctx.resumed);
+  if (!ctx.grading.is_null()) w.Key("grading").Value(ctx.grading);
   w.Key("cases").BeginObject();
   return w.Take();
 }

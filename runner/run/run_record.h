@@ -34,6 +34,8 @@ struct RunContext {
   int jobs = 1;
   bool resumed = false;
   std::vector<WorkerWarmup> warmups;  // this invocation's worker start-ups (issue 21)
+  /// run.json's "grading" (GradingRecord): cache, counts, graders; null without graders.
+  nlohmann::json grading;
 };
 
 /// run.json comes in three parts: RunRecordHead, the case entries of WriteRunRecordCases, and

@@ -104,7 +104,7 @@ ScheduleResult RunSchedule(const ScheduleInputs& in) {
       if (i >= items.size()) return;
       const WorkItem& item = items[i];
       const Case& c = in.suite->cases[item.case_index];
-      const PipelineRequest request{c.id, c.question, CaseInput(c), item.repeat};
+      const PipelineRequest request{c.id, c.question, CaseInput(c), item.repeat, std::string()};
       CallResult call = in.adapter->Call(request, slot);
       // A call cut short by the interrupt is not the pipeline's fault: leave it unjournaled so
       // --resume sends it again.
@@ -119,6 +119,7 @@ ScheduleResult RunSchedule(const ScheduleInputs& in) {
         failed = true;
         return;
       }
+      if (in.on_journaled) in.on_journaled(record, item.case_index);
       outcomes[i] = OutcomeOf(record, item.case_index);
       finished[i] = 1;
       if (in.progress != nullptr) in.progress->Tick(record.scores.errored);

@@ -9,6 +9,7 @@
 
 #include <atomic>
 #include <cstdint>
+#include <functional>
 #include <string>
 #include <vector>
 
@@ -61,6 +62,9 @@ struct ScheduleInputs {
   /// Raised (e.g. by a SIGINT watcher) to stop taking new items; in-flight calls that then fail
   /// are treated as interrupted, not as case errors, so --resume runs them again.
   const std::atomic<bool>* stop = nullptr;
+  /// Called on the worker's thread with each record once it is in the journal (and before its
+  /// outcome is taken), e.g. to hand the answer to the graders; must return promptly.
+  std::function<void(const CaseRecord&, size_t case_index)> on_journaled;
 };
 
 ScheduleResult RunSchedule(const ScheduleInputs& inputs);

@@ -5,7 +5,9 @@
 /// reader. The block is YAML turned into JSON, with three tags for what is not literal:
 ///   `!case FIELD`   the case's value as a whole JSON value: id and question are strings,
 ///                   repeat a number, input the case's object, input.KEY (dotted for nested
-///                   objects) whatever the input holds there;
+///                   objects) whatever the input holds there; in the pipeline of a grader,
+///                   also the grader request's grade, rubric, gold, answer, gold_sources and
+///                   cited (IsGraderRequestField);
 ///   `!text [...]`   one string joined from its pieces: plain strings are literal text, and
 ///                   `!case FIELD` pieces add the value's text (a string as is, anything else
 ///                   as compact JSON);

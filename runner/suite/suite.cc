@@ -7,4 +7,11 @@ const nlohmann::json& CaseInput(const Case& c) {
   return c.input.is_null() ? *kEmpty : c.input;
 }
 
+bool IsGraderRequestField(const std::string& field) {
+  for (const char* name : {"grade", "rubric", "gold", "answer", "gold_sources", "cited"}) {
+    if (field == name) return true;
+  }
+  return false;
+}
+
 }  // namespace plumb

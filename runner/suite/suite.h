@@ -70,6 +70,11 @@ struct ExpandedString {
 /// with the case's values inserted where the block says `!case FIELD` (a whole value, with its
 /// JSON type) or `!text [...]` (a string joined from literal pieces and case fields). The HTTP
 /// adapter renders it per case and repeat (runner/pipeline/request_template.h).
+/// The fields of a grader's request (see GraderConfig) that `!case` may also name, in the
+/// request block of a pipeline used as a grader: grade, rubric, gold, answer, gold_sources and
+/// cited (id, question and repeat are the graded case's, as for any request).
+bool IsGraderRequestField(const std::string& field);
+
 struct RequestPart {
   enum class Kind { kValue, kCaseField, kText, kObject, kArray };
   Kind kind = Kind::kValue;
@@ -153,6 +158,29 @@ struct PipelineConfig {
 
 /// The suite's `floors:` and `ceilings:` together: whether a limit is a floor or a ceiling
 /// follows from its metric id (error_rate and latency_*_ms are ceilings; see IsCeilingMetric).
+/// How a grader's reply maps to the grade, a number in [0, 1].
+enum class GradeScale {
+  kPassFail,  // "verdict": pass/fail, or a score of 0 or 1
+  kUnit,      // a score in [0, 1]
+  kOneToFive  // a score in [1, 5], mapped to (score - 1) / 4
+};
+
+/// One entry of `graders:`: a pipeline of the suite that grades each answer; the grade is the
+/// per-case metric "grade.NAME".
+struct GraderConfig {
+  std::string name;
+  std::string pipeline;  // a name from pipelines:
+  std::string rubric;    // the rubric file's text ("" without `rubric:`)
+  std::string rubric_path;
+  GradeScale scale = GradeScale::kPassFail;
+  int repeat = 1;                 // calls per answer; the grade is their mean
+  bool same_as_pipeline = false;  // `same_as_pipeline: allowed`
+  /// RE2 pattern whose first group, found in a reply that is not a JSON grade, is the verdict
+  /// or the score.
+  std::string verdict_pattern;
+  SourcePos pos;
+};
+
 struct Thresholds {
   std::map<std::string, double> metrics;                      // metric id -> limit
   std::map<std::string, std::map<std::string, double>> tags;  // tag -> metric id -> limit
@@ -172,6 +200,7 @@ struct Suite {
   double min_overlap = 0;        // citation overlap fraction (§6.3)
   double max_error_rate = 0.05;  // exit 3 above this fraction of errored cases (§8)
   Thresholds thresholds;
+  std::vector<GraderConfig> graders;      // in file order
   std::vector<PipelineConfig> pipelines;  // in file order; the first is the default
   std::vector<Case> cases;                // in file order, includes concatenated in place
   /// Every case's id to its index in `cases`; the loader builds it (a suite with a repeated id

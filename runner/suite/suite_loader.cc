@@ -34,11 +34,13 @@ namespace {
 namespace fs = std::filesystem;
 
 const std::vector<std::string> kSuiteKeys = {
-    "plumb",          "name",        "corpus",    "normalize",    "lang",
-    "include",        "retrieval_k", "case_pass", "correct_from", "min_overlap",
-    "max_error_rate", "floors",      "ceilings",  "pipelines",    "cases"};
+    "plumb",       "name",      "corpus",       "normalize",   "lang",           "include",
+    "retrieval_k", "case_pass", "correct_from", "min_overlap", "max_error_rate", "floors",
+    "ceilings",    "graders",   "pipelines",    "cases"};
 // Top-level keys an earlier format used; each is refused with its entry in the new form.
 const std::vector<std::string> kRetiredSuiteKeys = {"thresholds"};
+const std::vector<std::string> kGraderKeys = {"pipeline", "rubric",           "scale",
+                                              "repeat",   "same_as_pipeline", "verdict_pattern"};
 const std::vector<std::string> kCaseKeys = {"id",     "question", "answers", "patterns",
                                             "number", "sources",  "tags",    "input"};
 const std::vector<std::string> kSourceKeys = {"doc", "quote", "start", "end"};
@@ -269,6 +271,8 @@ class SuiteLoader {
     }
     if (auto it = keys.find("retrieval_k"); it != keys.end())
       ReadRetrievalK(it->second->value, check);
+    // Graders first: their grade.NAME metrics may appear in case_pass, correct_from, floors.
+    if (auto it = keys.find("graders"); it != keys.end()) ReadGraders(it->second->value, check);
     if (auto it = keys.find("case_pass"); it != keys.end()) {
       suite_->case_pass.clear();
       ReadMetricMap(it->second->value, "case_pass", /*per_case=*/true, check, &suite_->case_pass);
@@ -286,8 +290,17 @@ class SuiteLoader {
       ReadLimits(it->second->value, "floors", /*ceilings=*/false, check);
     if (auto it = keys.find("ceilings"); it != keys.end())
       ReadLimits(it->second->value, "ceilings", /*ceilings=*/true, check);
-    if (auto it = keys.find("pipelines"); it != keys.end() && options_.pipelines_file.empty()) {
-      ReadPipelines(it->second->value, Expansion(), check, &suite_->pipelines);
+    if (auto it = keys.find("pipelines"); it != keys.end()) {
+      if (options_.pipelines_file.empty()) {
+        ReadPipelines(it->second->value, Expansion(), check, &suite_->pipelines);
+      } else if (!suite_->graders.empty()) {
+        // --pipelines replaces the pipelines under test, not the graders': the suite's grader
+        // pipelines are kept unless the file defines the same names (ReadPipelinesFile).
+        std::vector<std::string> names;
+        for (const GraderConfig& grader : suite_->graders) names.push_back(grader.pipeline);
+        ReadPipelines(it->second->value, PipelineExpansion{options_.expand_env, names}, check,
+                      &suite_grader_pipelines_);
+      }
     }
     ReadCasesAndIncludes(keys, check);
   }
@@ -488,6 +501,97 @@ class SuiteLoader {
     }
   }
 
+  void ReadGraders(const SourceNode& node, NodeChecker* check) {
+    if (!check->Mapping(node, "graders")) return;
+    for (const SourceEntry& entry : node.entries) {
+      GraderConfig grader;
+      grader.pos = check->Pos(entry.key);
+      if (!ScalarAsString(entry.key, &grader.name) || !IsNameOf(grader.name, "._-") ||
+          grader.name.size() > 64) {
+        check->Error(entry.key, "invalid grader name " + DescribeNode(entry.key),
+                     "a grader name uses letters, digits, '.', '_' and '-' (its metric is "
+                     "grade.NAME)");
+        continue;
+      }
+      for (const GraderConfig& other : suite_->graders) {
+        if (other.name == grader.name) {
+          check->Error(entry.key, "duplicate grader '" + grader.name + "'",
+                       "first given at " + FormatPos(other.pos));
+        }
+      }
+      const std::string field = "graders." + grader.name;
+      auto keys = check->Keys(entry.value, kGraderKeys, "in a grader", "a grader");
+      if (!check->Mapping(entry.value, field)) continue;
+      if (auto it = keys.find("pipeline"); it == keys.end()) {
+        check->Error(entry.key, "grader '" + grader.name + "' names no pipeline",
+                     "add `pipeline: NAME` with a name from pipelines:");
+      } else if (check->NonEmptyString(it->second->value, field + ".pipeline", &grader.pipeline)) {
+        grader_pipeline_pos_[grader.name] = check->Pos(it->second->value);
+      }
+      if (auto it = keys.find("rubric"); it != keys.end()) {
+        std::string path;
+        if (check->NonEmptyString(it->second->value, field + ".rubric", &path)) {
+          grader.rubric_path = ResolveAgainst(DirectoryOf(check->Pos(entry.key).file), path);
+          ReadFile(grader.rubric_path, check->Pos(it->second->value), "rubric file",
+                   &grader.rubric);
+        }
+      }
+      if (auto it = keys.find("scale"); it != keys.end()) {
+        std::string scale;
+        if (check->String(it->second->value, field + ".scale", &scale)) {
+          if (scale == "pass-fail") {
+            grader.scale = GradeScale::kPassFail;
+          } else if (scale == "unit") {
+            grader.scale = GradeScale::kUnit;
+          } else if (scale == "1-5") {
+            grader.scale = GradeScale::kOneToFive;
+          } else {
+            check->Error(it->second->value, "unknown grade scale '" + scale + "'",
+                         DidYouMeanHint(scale, {"pass-fail", "unit", "1-5"}, "scales"));
+          }
+        }
+      }
+      if (auto it = keys.find("repeat"); it != keys.end()) {
+        int64_t repeat = 1;
+        if (check->Int(it->second->value, field + ".repeat", &repeat)) {
+          if (repeat < 1 || repeat > 20) {
+            check->Error(it->second->value, "'" + field + ".repeat' must be 1 to 20",
+                         "the grade is the mean of this many calls per answer");
+          } else {
+            grader.repeat = static_cast<int>(repeat);
+          }
+        }
+      }
+      if (auto it = keys.find("same_as_pipeline"); it != keys.end()) {
+        std::string value;
+        if (check->String(it->second->value, field + ".same_as_pipeline", &value)) {
+          if (value == "allowed") {
+            grader.same_as_pipeline = true;
+          } else if (value != "refused") {
+            check->Error(it->second->value,
+                         "'" + field + ".same_as_pipeline' is 'allowed' or 'refused'",
+                         "a pipeline grading its own answers is a known bias; write "
+                         "`same_as_pipeline: allowed` only if you accept it");
+          }
+        }
+      }
+      if (auto it = keys.find("verdict_pattern"); it != keys.end()) {
+        if (check->NonEmptyString(it->second->value, field + ".verdict_pattern",
+                                  &grader.verdict_pattern)) {
+          RE2 re(grader.verdict_pattern, RE2::Quiet);
+          if (!re.ok()) {
+            check->Error(it->second->value, "invalid RE2 pattern: " + re.error(),
+                         "see the RE2 syntax; the first group captures the verdict or score");
+          } else if (re.NumberOfCapturingGroups() < 1) {
+            check->Error(it->second->value, "'verdict_pattern' has no group",
+                         "wrap the verdict in parentheses, e.g. 'VERDICT:\\s*(PASS|FAIL)'");
+          }
+        }
+      }
+      suite_->graders.push_back(std::move(grader));
+    }
+  }
+
   // correct_from: a non-empty list of per-case metric ids other than correct itself.
   void ReadCorrectFrom(const SourceNode& node, NodeChecker* check) {
     if (!check->Sequence(node, "correct_from", "metric ids")) return;
@@ -536,6 +640,17 @@ class SuiteLoader {
       }
     }
     if (Contains(kCaseMetrics, id)) return true;
+    if (id.rfind("grade.", 0) == 0) {
+      for (const GraderConfig& grader : suite_->graders) {
+        if (id == "grade." + grader.name) return true;
+      }
+      check->Error(
+          at, "'" + id + "' names no grader of this suite",
+          suite_->graders.empty()
+              ? "define it under graders:, e.g. graders: {" + id.substr(6) + ": {pipeline: NAME}}"
+              : DidYouMeanHint(id, ValidMetricIds(true), "metric ids"));
+      return false;
+    }
     if (Contains(kRunMetrics, id)) {
       if (!per_case) return true;
       check->Error(
@@ -558,6 +673,7 @@ class SuiteLoader {
   std::vector<std::string> ValidMetricIds(bool per_case) const {
     std::vector<std::string> ids = kCaseMetrics;
     for (int k : suite_->retrieval_k) ids.push_back("recall@" + std::to_string(k));
+    for (const GraderConfig& grader : suite_->graders) ids.push_back("grade." + grader.name);
     if (!per_case) ids.insert(ids.end(), kRunMetrics.begin(), kRunMetrics.end());
     return ids;
   }
@@ -958,8 +1074,14 @@ class SuiteLoader {
     }
   }
 
+  // The graders' pipelines are started with the ones the command names, so their variables
+  // are read too (graders: is read before pipelines:).
   PipelineExpansion Expansion() const {
-    return PipelineExpansion{options_.expand_env, options_.expand_pipelines};
+    std::vector<std::string> names = options_.expand_pipelines;
+    if (!names.empty()) {
+      for (const GraderConfig& grader : suite_->graders) names.push_back(grader.pipeline);
+    }
+    return PipelineExpansion{options_.expand_env, names};
   }
 
   void ReadPipelinesFile(const std::string& path) {
@@ -986,6 +1108,15 @@ class SuiteLoader {
       return;
     }
     ReadPipelines(it->second->value, Expansion(), &check, &suite_->pipelines);
+    for (PipelineConfig& kept : suite_grader_pipelines_) {
+      const bool named =
+          std::any_of(suite_->graders.begin(), suite_->graders.end(),
+                      [&](const GraderConfig& g) { return g.pipeline == kept.name; });
+      const bool replaced =
+          std::any_of(suite_->pipelines.begin(), suite_->pipelines.end(),
+                      [&](const PipelineConfig& p) { return p.name == kept.name; });
+      if (named && !replaced) suite_->pipelines.push_back(std::move(kept));
+    }
   }
 
   /// SHA-256 of "plumb-gold-v1\n" + the case's gold as compact JSON with keys in sorted order
@@ -1036,6 +1167,22 @@ class SuiteLoader {
       }
     });
     suite_->suite_hash = suite_hash_.HexDigest();
+    for (const GraderConfig& grader : suite_->graders) {
+      auto pos = grader_pipeline_pos_.find(grader.name);
+      if (pos == grader_pipeline_pos_.end()) continue;
+      const bool known =
+          std::any_of(suite_->pipelines.begin(), suite_->pipelines.end(),
+                      [&](const PipelineConfig& p) { return p.name == grader.pipeline; });
+      if (!known) {
+        std::vector<std::string> names;
+        for (const PipelineConfig& p : suite_->pipelines) names.push_back(p.name);
+        errors_->push_back({pos->second,
+                            "grader '" + grader.name + "' names pipeline '" + grader.pipeline +
+                                "', which pipelines: does not define",
+                            DidYouMeanHint(grader.pipeline, names, "pipelines")});
+      }
+    }
+
     for (const auto& [tag, pos] : threshold_tags_) {
       bool used = false;
       for (const Case& gold : suite_->cases) {
@@ -1074,6 +1221,9 @@ class SuiteLoader {
   /// Where each case's id is written (line, column), by case index: its file is the case's.
   std::vector<std::pair<int, int>> id_positions_;
   std::vector<std::pair<std::string, SourcePos>> threshold_tags_;
+  /// With --pipelines: the suite's own pipelines, read only to keep those a grader names.
+  std::vector<PipelineConfig> suite_grader_pipelines_;
+  std::map<std::string, SourcePos> grader_pipeline_pos_;  // grader -> where its pipeline is named
   Sha256 suite_hash_;
 };
 

@@ -5,58 +5,19 @@
 // `reply:` block reads its replies. Every expected figure is counted by hand from the answers
 // file and the document below (offsets are code points, checked by the loader's quotes).
 
-#include <signal.h>
-#include <sys/wait.h>
-#include <unistd.h>
-
 #include <catch2/catch.hpp>
 #include <filesystem>
 #include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
 
+#include "tests/support/loopback_service.h"
 #include "tests/support/plumb_process.h"
 
 using nlohmann::json;
+using plumb_test::LoopbackService;
 
 namespace {
-
-// chat-service started for one test, its port read from its first line, killed at the end.
-class ChatService {
- public:
-  explicit ChatService(const std::string& answers) {
-    int out[2];
-    REQUIRE(pipe(out) == 0);
-    pid_ = fork();
-    REQUIRE(pid_ >= 0);
-    if (pid_ == 0) {
-      dup2(out[1], 1);
-      close(out[0]);
-      close(out[1]);
-      const std::string program = plumb_test::kFixtures + "chat-service";
-      execl(program.c_str(), program.c_str(), "--answers", answers.c_str(),
-            static_cast<char*>(nullptr));
-      _exit(127);
-    }
-    close(out[1]);
-    std::string line;
-    char c;
-    while (read(out[0], &c, 1) == 1 && c != '\n') line.push_back(c);
-    close(out[0]);
-    const std::string marker = "listening on 127.0.0.1:";
-    REQUIRE(line.rfind(marker, 0) == 0);
-    port_ = line.substr(marker.size());
-  }
-  ~ChatService() {
-    kill(pid_, SIGKILL);
-    waitpid(pid_, nullptr, 0);
-  }
-  const std::string& port() const { return port_; }
-
- private:
-  pid_t pid_ = -1;
-  std::string port_;
-};
 
 // Line starts in harbour.md: [0, 34) the office, [35, 67) the gate, [68, 106) bicycles.
 const char kDoc[] =
@@ -130,7 +91,7 @@ TEST_CASE("a chat-completion service is scored unchanged through request: and re
   std::filesystem::create_directories(dir + "/docs");
   plumb_test::WriteFile(dir + "/docs/harbour.md", kDoc);
   plumb_test::WriteFile(dir + "/answers.json", kAnswers);
-  ChatService service(dir + "/answers.json");
+  LoopbackService service("chat-service", {"--answers", dir + "/answers.json"});
   plumb_test::WriteFile(dir + "/suite.yaml", Suite(service.port(), kReply));
 
   const plumb_test::Result r =
@@ -178,7 +139,7 @@ TEST_CASE("without a reply: block the same service cannot be scored") {
   std::filesystem::create_directories(dir + "/docs");
   plumb_test::WriteFile(dir + "/docs/harbour.md", kDoc);
   plumb_test::WriteFile(dir + "/answers.json", kAnswers);
-  ChatService service(dir + "/answers.json");
+  LoopbackService service("chat-service", {"--answers", dir + "/answers.json"});
   plumb_test::WriteFile(dir + "/suite.yaml", Suite(service.port(), ""));
   const plumb_test::Result r =
       plumb_test::Plumb({"run", dir + "/suite.yaml", "--out", dir + "/out"}, dir);

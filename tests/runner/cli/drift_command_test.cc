@@ -111,13 +111,18 @@ TEST_CASE("two runs of the same recorded predictions are steady everywhere") {
 
 TEST_CASE("two runs of the demo pipeline, which is deterministic, are steady everywhere") {
   const std::string dir = MakeTempDir();
+  // The suite's pipelines and its grader's name build/fixtures/...; this test does not run
+  // from the repository root, so the file gives both with absolute paths.
   WriteFile(dir + "/pipelines.yaml", "pipelines:\n  retrieve:\n    command: [" + kFixtures +
                                          "demo-pipeline, --docs, " PLUMB_SOURCE_DIR
-                                         "/fixtures/ferry/docs, --top-k, \"3\"]\n");
+                                         "/fixtures/ferry/docs, --top-k, \"3\"]\n"
+                                         "  grader:\n    command: [" +
+                                         kFixtures + "demo-grader]\n");
   for (const char* name : {"first", "second"}) {
-    const Result r = Plumb({"run", PLUMB_SOURCE_DIR "/suites/ferry.yaml", "--pipelines",
-                            dir + "/pipelines.yaml", "--out", dir + "/" + name},
-                           dir);
+    const Result r =
+        Plumb({"run", PLUMB_SOURCE_DIR "/suites/ferry.yaml", "--pipelines", dir + "/pipelines.yaml",
+               "--out", dir + "/" + name, "--grade-cache", dir + "/grades.sqlite"},
+              dir);
     INFO(r.err);
     REQUIRE((r.code == 0 || r.code == 1));  // the demo's own floors may hold or not
   }

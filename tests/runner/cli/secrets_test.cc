@@ -17,6 +17,7 @@
 #include <thread>
 #include <vector>
 
+#include "tests/support/loopback_service.h"
 #include "tests/support/plumb_process.h"
 
 using nlohmann::json;
@@ -26,44 +27,6 @@ namespace {
 
 // An invented value that occurs nowhere else, so any hit is a leak.
 constexpr const char* kSecret = "zq7-Tidewrack-s3cret-91f";
-
-// fixtures/fault-server for one test, killed at the end.
-class FaultServer {
- public:
-  FaultServer() {
-    int out[2];
-    REQUIRE(pipe(out) == 0);
-    pid_ = fork();
-    REQUIRE(pid_ >= 0);
-    if (pid_ == 0) {
-      dup2(out[1], 1);
-      close(out[0]);
-      close(out[1]);
-      const std::string program = plumb_test::kFixtures + "fault-server";
-      execl(program.c_str(), program.c_str(), static_cast<char*>(nullptr));
-      _exit(127);
-    }
-    close(out[1]);
-    std::string line;
-    char c;
-    while (read(out[0], &c, 1) == 1 && c != '\n') line.push_back(c);
-    close(out[0]);
-    const std::string marker = "listening on 127.0.0.1:";
-    REQUIRE(line.rfind(marker, 0) == 0);
-    port_ = std::stoi(line.substr(marker.size()));
-  }
-  ~FaultServer() {
-    kill(pid_, SIGKILL);
-    waitpid(pid_, nullptr, 0);
-  }
-  FaultServer(const FaultServer&) = delete;
-  FaultServer& operator=(const FaultServer&) = delete;
-  int port() const { return port_; }
-
- private:
-  pid_t pid_ = -1;
-  int port_ = 0;
-};
 
 // Every path under `dir` whose content contains `needle`.
 std::vector<std::string> FilesContaining(const std::string& dir, const std::string& needle) {
@@ -89,9 +52,9 @@ size_t CountFiles(const std::string& dir) {
 
 TEST_CASE("no file a run writes contains an expanded secret") {
   REQUIRE(setenv("PLUMB_SECRETS_TEST_TOKEN", kSecret, 1) == 0);
-  FaultServer server;
+  plumb_test::LoopbackService server("fault-server");
   const std::string dir = plumb_test::MakeTempDir();
-  const std::string port = std::to_string(server.port());
+  const std::string port = server.port();
   plumb_test::WriteFile(
       dir + "/secrets.yaml",
       "plumb: 1\nname: secrets\nmax_error_rate: 1.0\npipelines:\n"

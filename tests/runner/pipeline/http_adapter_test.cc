@@ -705,19 +705,21 @@ TEST_CASE("the demo pipeline scores the same over HTTP as over JSON lines") {
                      {"--docs", docs, "--top-k", "3", "--serve", "0"}, /*port_on_stderr=*/true);
   const std::string dir = plumb_test::MakeTempDir();
   // suites/ferry-http.yaml as shipped, pointed at this server's port, plus the subprocess
-  // pipeline of suites/ferry.yaml with absolute paths (this test does not run from the
-  // repository root).
+  // pipeline and the grader's pipeline of suites/ferry.yaml with absolute paths (this test does
+  // not run from the repository root).
   std::string pipelines = plumb_test::ReadFile(PLUMB_SOURCE_DIR "/suites/ferry-http.yaml");
   const std::string shipped = "127.0.0.1:8088";
   REQUIRE(pipelines.find(shipped) != std::string::npos);
   pipelines.replace(pipelines.find(shipped), shipped.size(),
                     "127.0.0.1:" + std::to_string(demo.port()));
   pipelines += "  retrieve:\n    command: [" + plumb_test::kFixtures + "demo-pipeline, --docs, " +
-               docs + ", --top-k, \"3\"]\n";
+               docs + ", --top-k, \"3\"]\n  grader:\n    command: [" + plumb_test::kFixtures +
+               "demo-grader]\n";
   plumb_test::WriteFile(dir + "/pipelines.yaml", pipelines);
   const plumb_test::Result r = plumb_test::Plumb(
       {"run", PLUMB_SOURCE_DIR "/suites/ferry.yaml", "--pipelines", dir + "/pipelines.yaml",
-       "--pipeline", "retrieve", "--pipeline", "retrieve-http", "--out", dir + "/out"},
+       "--pipeline", "retrieve", "--pipeline", "retrieve-http", "--out", dir + "/out",
+       "--grade-cache", dir + "/grades.sqlite"},
       dir);
   INFO(r.err);
   REQUIRE((r.code == 0 || r.code == 1));  // 1: a demo floor may break; both runs still finish

@@ -143,3 +143,25 @@ TEST_CASE("!env NAME is the variable's value as a string, and is noted as a secr
   CHECK(out == json{{"auth", {{"token", "Bearer s3cr3t-value"}}}, {"price", "$5"}});
   CHECK(secrets == std::vector<std::string>{"s3cr3t-value"});
 }
+
+TEST_CASE(
+    "a grader's request fills !case answer, gold and rubric, and a case's request refuses them") {
+  // The grader request line as runner/run/grade_request.h writes it (keys in that order).
+  PipelineRequest grading = Request("How long before departure does boarding close?");
+  grading.line =
+      R"({"grade":"correctness","rubric":"Pass a correct answer.","id":"boarding-cutoff",)"
+      R"("question":"How long before departure does boarding close?","gold":["10 minutes"],)"
+      R"("answer":"Ten \"minutes\".","gold_sources":[],"cited":[],"repeat":0})";
+  CHECK(Render("{messages: [{role: system, content: !case rubric}, {role: user, content: !text "
+               "[\"Gold: \", !case gold, \" Answer: \", !case answer]}], g: !case gold}",
+               grading) ==
+        R"({"g":["10 minutes"],"messages":[{"content":"Pass a correct answer.","role":"system"},)"
+        R"({"content":"Gold: [\"10 minutes\"] Answer: Ten \"minutes\".","role":"user"}]})");
+  // The same block on a case's request (no line): an error for that case, naming the field.
+  json out;
+  std::string error;
+  CHECK_FALSE(plumb::RenderRequest(Block("{a: !case answer}"), Request("q"), &out, &error));
+  CHECK(error ==
+        "'!case answer' is a field of a grader's request, but this pipeline was called to answer "
+        "a case; use it only in a pipeline that graders: names");
+}
