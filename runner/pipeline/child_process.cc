@@ -42,6 +42,10 @@ int MillisecondsUntil(Clock::time_point deadline) {
 std::mutex g_spawned_mutex;
 std::set<pid_t> g_spawned;
 std::atomic<long> g_spawn_serial{0};
+// Held from posix_spawn until the new pid is tracked, and while KillAdoptedDescendants picks its
+// victims: otherwise a child another thread has just started (a grader's worker while the
+// pipeline's run ends) looks adopted for a moment and is killed.
+std::mutex g_spawn_gate;
 
 void TrackSpawned(pid_t pid, bool alive) {
   std::lock_guard<std::mutex> lock(g_spawned_mutex);
@@ -245,10 +249,13 @@ int KillAdoptedDescendants(const std::string& tag) {
   // finds nothing, a bounded number of times (a fork bomb cannot hold plumb here).
   for (int round = 0; round < 16; ++round) {
     std::vector<pid_t> victims;
-    for (const pid_t pid : OwnChildren()) {
-      if (IsSpawned(pid)) continue;
-      if (!tag.empty() && WorkerTagOf(pid) != tag) continue;
-      victims.push_back(pid);
+    {
+      std::lock_guard<std::mutex> gate(g_spawn_gate);
+      for (const pid_t pid : OwnChildren()) {
+        if (IsSpawned(pid)) continue;
+        if (!tag.empty() && WorkerTagOf(pid) != tag) continue;
+        victims.push_back(pid);
+      }
     }
     if (victims.empty()) break;
     for (const pid_t pid : victims) {
@@ -329,6 +336,7 @@ std::unique_ptr<ChildProcess> ChildProcess::Spawn(const SpawnSpec& spec, std::st
   envp.push_back(nullptr);
 
   pid_t pid = -1;
+  std::unique_lock<std::mutex> gate(g_spawn_gate);
   const int rc =
       posix_spawn(&pid, spec.path.c_str(), &actions, &attributes, argv.data(), envp.data());
   posix_spawn_file_actions_destroy(&actions);
@@ -342,6 +350,7 @@ std::unique_ptr<ChildProcess> ChildProcess::Spawn(const SpawnSpec& spec, std::st
   }
   child->pid_ = pid;
   TrackSpawned(pid, true);
+  gate.unlock();
   child->exit_fd_ = OpenPidfd(pid);
   if (!SetNonBlocking(child->stdin_fd_) || !SetNonBlocking(child->stdout_fd_) ||
       !SetNonBlocking(child->stderr_fd_)) {
