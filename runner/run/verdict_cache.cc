@@ -74,6 +74,10 @@ std::unique_ptr<VerdictCache> VerdictCache::Open(const std::string& path, std::s
     return nullptr;
   }
   sqlite3_busy_timeout(db, kGradeCacheBusyMs);
+  // The header and the schema are read in one read transaction: read apart, another process
+  // creating the cache could commit between them, and its tables would be seen without its
+  // application id (a plumb cache taken for another program's database).
+  if (!cache->Exec("BEGIN", error)) return nullptr;
   // The first statement reads the header: a file that is not a database fails here.
   sqlite3_stmt* probe = nullptr;
   int code = sqlite3_prepare_v2(db, "PRAGMA application_id", -1, &probe, nullptr);
@@ -95,6 +99,7 @@ std::unique_ptr<VerdictCache> VerdictCache::Open(const std::string& path, std::s
     table_count = sqlite3_column_int(tables, 0);
   }
   sqlite3_finalize(tables);
+  if (!cache->Exec("COMMIT", error)) return nullptr;
   if (application_id != kApplicationId && table_count > 0) {
     *error = "grade cache " + path +
              ": the file is an SQLite database of another program, not a plumb grade cache; "

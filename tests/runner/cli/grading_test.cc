@@ -359,7 +359,9 @@ TEST_CASE("an interrupted plumb grade leaves the run as it was and resumes from 
                 dir +
                 "/hold' ]; do sleep 0.05; done ;;\n"
                 "esac\n"
-                "echo '{\"verdict\": \"pass\"}'\n");
+                "echo '{\"verdict\": \"pass\"}'\n"
+                "printf '%s\\n' answered >> '" +
+                dir + "/answered.log'\n");
   WriteFile(dir + "/rubric.md", "Pass an answer that states a gold answer.\n");
   WriteFile(dir + "/s.yaml",
             "plumb: 1\nname: graded\n"
@@ -379,11 +381,17 @@ TEST_CASE("an interrupted plumb grade leaves the run as it was and resumes from 
   // Then plumb grade with a fresh cache, stopped while the grader holds one answer.
   WriteFile(dir + "/hold", "");
   WriteFile(dir + "/asked.log", "");
+  WriteFile(dir + "/answered.log", "");
   const std::string work = MakeTempDir();
   const Process grade =
       Start({"grade", dir + "/out", "--json", "--grade-cache", dir + "/grade.sqlite"}, work);
   for (int i = 0; i < 400 && LogLines(dir + "/asked.log") < 4; ++i) usleep(50000);
   REQUIRE(LogLines(dir + "/asked.log") == 4);  // three answered, "miss" held
+  // The three replies were written; give plumb a moment past their exit to take them in, so
+  // the interrupt finds three grades given (a grade still in flight would be asked again).
+  for (int i = 0; i < 400 && LogLines(dir + "/answered.log") < 3; ++i) usleep(50000);
+  REQUIRE(LogLines(dir + "/answered.log") == 3);
+  usleep(500000);
   kill(grade.pid, SIGINT);
   CHECK(Wait(grade) == 130);
   CHECK(ReadFile(dir + "/out/cases.jsonl") == journal);
