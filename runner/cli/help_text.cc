@@ -51,6 +51,8 @@ std::string CommandExample(const std::string& command) {
       {"score", "plumb score suites/ferry.yaml replies.jsonl -o plumb-out/recorded"},
       {"check", "plumb check suites/ferry.yaml --since main-run"},
       {"drift", "plumb drift main-run plumb-out/pr --gate correct,token_f1 --markdown -"},
+      {"compare",
+       "plumb compare plumb-out/demo/retrieve plumb-out/demo/preload --html compare.html"},
       {"report", "plumb report plumb-out/pr --html report.html --junit junit.xml"},
       {"merge", "plumb merge shard-1 shard-2 shard-3 -o merged"},
       {"grade", "plumb grade plumb-out/pr --grader correctness"},

@@ -12,6 +12,7 @@
 #include "runner/base/report_stdout.h"
 #include "runner/base/terminal_palette.h"
 #include "runner/cli/check_command.h"
+#include "runner/cli/compare_command.h"
 #include "runner/cli/drift_command.h"
 #include "runner/cli/grade_command.h"
 #include "runner/cli/help_text.h"
@@ -140,6 +141,31 @@ int main(int argc, char** argv) {
   drift_cmd->add_flag("--json", drift.json, "Print the drift report as JSON on stdout");
   AddOutputOptions(drift_cmd, &drift.outputs);
 
+  plumb::CompareOptions compare;
+  std::string compare_gate;
+  CLI::App* compare_cmd = app.add_subcommand(
+      "compare",
+      "Compare two or more runs of one suite: figures, verdicts against the first, a chart");
+  compare_cmd
+      ->add_option("RUN_DIR", compare.run_dirs,
+                   "Run directories (two or more; the first is the reference of the verdicts)")
+      ->required();
+  compare_cmd->add_option("--gate", compare_gate,
+                          "Metrics whose regression against the first run fails the command, "
+                          "comma-separated (default: correct,token_f1,citation_recall)");
+  compare_cmd->add_option("--min-effect", compare.drift.min_effect,
+                          "Smallest |delta| a verdict may call a change (default 0.005)");
+  compare_cmd->add_option("--seed", compare.drift.seed, "Bootstrap seed (default 20261201)");
+  compare_cmd->add_option("--resamples", compare.drift.resamples,
+                          "Bootstrap resamples (default 10000)");
+  compare_cmd->add_flag("--allow-missing", compare.drift.allow_missing,
+                        "Leave out cases of the first run a later run lacks instead of counting "
+                        "them as lost");
+  compare_cmd->add_flag("--json", compare.json, "Print the comparison as JSON on stdout");
+  compare_cmd->add_option("--html", compare.html,
+                          "Write the self-contained HTML page with the chart to FILE");
+  compare_cmd->add_option("--markdown", compare.markdown, "Write a Markdown summary to FILE");
+
   plumb::ReportOptions report;
   CLI::App* report_cmd =
       app.add_subcommand("report", "Re-render a stored run's summary and report files");
@@ -236,10 +262,12 @@ int main(int argc, char** argv) {
 
   // "-" sends a report file to stdout; then only that report may use it, and the summary
   // table goes to stderr (runner/base/report_stdout.h).
+  const plumb::OutputOptions compare_outputs{compare.html, "", compare.markdown};
   for (const auto& [outputs, json] :
        {std::pair<const plumb::OutputOptions*, bool>{&run.outputs, run.json},
         {&score.outputs, score.json},
         {&drift.outputs, drift.json},
+        {&compare_outputs, compare.json},
         {&report.outputs, report.json}}) {
     const int to_stdout = (outputs->html == "-") + (outputs->junit == "-") +
                           (outputs->markdown == "-") + (json ? 1 : 0);
@@ -282,6 +310,15 @@ int main(int argc, char** argv) {
     }
     drift.colour = plumb::UseColour(stdout);
     return plumb::DriftCommand(drift);
+  }
+  if (*compare_cmd) {
+    std::string error;
+    if (!compare_gate.empty() && !plumb::ParseGate(compare_gate, &compare.drift.gate, &error)) {
+      std::fprintf(stderr, "plumb: %s\n", error.c_str());
+      return plumb::kExitUsage;
+    }
+    compare.colour = plumb::UseColour(stdout);
+    return plumb::CompareCommand(compare);
   }
   if (*report_cmd) return plumb::ReportCommand(report);
   if (*merge_cmd) {

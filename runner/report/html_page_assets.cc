@@ -110,6 +110,16 @@ svg .mk{fill:var(--ink)}
 svg .row.down .mk{fill:var(--broken)}
 svg .row.up .mk{fill:var(--held)}
 svg .lab{font-size:11px;fill:var(--ink)}
+figure.chart svg.tradeoff{width:100%;height:auto;background:var(--card);border:1px solid var(--rule);border-radius:3px}
+svg .front{fill:none;stroke:var(--brass);stroke-width:2;stroke-dasharray:6 4}
+svg .eb{stroke:var(--cite);stroke-width:1.5}
+svg .run .mk{stroke:var(--ink);stroke-width:1.5}
+svg .run.off .mk{fill:var(--card)}
+svg .nm{font-size:11px;fill:var(--ink)}
+svg .nm.end{text-anchor:end}
+table.compare td{white-space:nowrap;font-variant-numeric:tabular-nums}
+table.compare tbody th{text-transform:none;letter-spacing:0;font-size:13px;font-weight:400;color:var(--ink);font-family:ui-monospace,"DejaVu Sans Mono",Menlo,Consolas,monospace}
+table.compare th.run{text-transform:none;letter-spacing:0;font-size:13px;color:var(--ink);white-space:normal;overflow-wrap:anywhere;max-width:16em}
 h1 .verdict.limits{font-size:16px;vertical-align:3px}
 h1 .verdict.good{color:var(--held)}
 h1 .verdict.bad{color:var(--broken)}

@@ -19,7 +19,7 @@ set(PLUMB_BROWSER_ARGS
     --source ${PROJECT_SOURCE_DIR} --artifacts ${PLUMB_BROWSER_ARTIFACTS})
 
 foreach(script report_page report_hostile report_drift report_large report_demo report_long_text
-               report_first_screen)
+               report_first_screen report_compare)
   add_test(NAME browser_${script}
            COMMAND ${PLUMB_NODE} ${CMAKE_CURRENT_LIST_DIR}/${script}.test.js ${PLUMB_BROWSER_ARGS}
                    --demo-pipeline $<TARGET_FILE:demo-pipeline>)

@@ -1,0 +1,129 @@
+// `plumb compare` end to end on the recorded runs of fixtures/runs/ (make_runs.py there says
+// what each predictions file changes), scored at test time with `plumb score`. The verdicts are
+// drift's (tests/runner/cli/drift_command_test.cc works them by hand for the same files); here
+// the command must put them side by side, draw the front and refuse what it cannot compare.
+#include <catch2/catch.hpp>
+#include <filesystem>
+#include <functional>
+#include <fstream>
+#include <nlohmann/json.hpp>
+#include <string>
+#include <vector>
+
+#include "tests/support/plumb_process.h"
+#include "tests/support/temp_dir.h"
+
+using namespace plumb_test;
+
+namespace {
+
+const std::string kRuns = PLUMB_SOURCE_DIR "/fixtures/runs/";
+
+std::string Score(const std::string& dir, const std::string& name, const std::string& predictions) {
+  const Result r =
+      Plumb({"score", kRuns + "suite.yaml", kRuns + predictions, "--out", dir + "/" + name}, dir);
+  INFO(r.err);
+  REQUIRE((r.code == 0 || r.code == 1));
+  return dir + "/" + name;
+}
+
+/// Rewrites one member of dir/run.json (a run recorded by another pipeline or suite).
+void EditRecord(const std::string& dir, const std::function<void(nlohmann::json*)>& edit) {
+  nlohmann::json record;
+  {
+    std::ifstream in(dir + "/run.json");
+    in >> record;
+  }
+  edit(&record);
+  std::ofstream(dir + "/run.json") << record.dump(2);
+}
+
+std::string Copy(const std::string& from, const std::string& to) {
+  std::filesystem::copy(from, to, std::filesystem::copy_options::recursive);
+  return to;
+}
+
+}  // namespace
+
+TEST_CASE("compare puts three runs side by side with drift's verdicts against the first") {
+  TempDir tmp;
+  const std::string base = Score(tmp.path(), "base", "base.jsonl");
+  const std::string broken = Score(tmp.path(), "broken20", "cand-broken20.jsonl");
+  const std::string same = Copy(base, tmp.Path("same"));
+  EditRecord(base, [](nlohmann::json* r) { (*r)["pipeline"]["name"] = "baseline"; });
+  EditRecord(broken, [](nlohmann::json* r) { (*r)["pipeline"]["name"] = "broken"; });
+  EditRecord(same, [](nlohmann::json* r) { (*r)["pipeline"]["name"] = "again"; });
+  const Result r = Plumb({"compare", base, broken, same, "--json"}, tmp.path());
+  INFO(r.err);
+  // cand-broken20 regresses on correct and token_f1 (drift_command_test): exit 1.
+  REQUIRE(r.code == 1);
+  const nlohmann::json c = nlohmann::json::parse(r.out);
+  REQUIRE(c["runs"].size() == 3);
+  CHECK(c["runs"][0]["name"] == "baseline");
+  CHECK(c["runs"][0]["cases"] == 400);
+  CHECK(c["runs"][0]["metrics"]["correct"]["n"] == 400);
+  REQUIRE(c["against_first"].size() == 2);
+  CHECK(c["against_first"][0]["run"] == "broken");
+  CHECK(c["against_first"][0]["metrics"]["correct"]["verdict"] == "regressed");
+  CHECK(c["against_first"][0]["regressed"] == nlohmann::json::array({"correct", "token_f1"}));
+  CHECK(c["against_first"][1]["metrics"]["correct"]["verdict"] == "steady");
+  CHECK(c["against_first"][1]["metrics"]["correct"]["delta"] == 0.0);
+  CHECK(c["gate"]["exit_code"] == 1);
+  // Scored predictions carry latency_ms; the copy equals the base exactly, so the two are not
+  // beaten by each other and both sit on the front unless the broken run beats them.
+  const double base_correct = c["runs"][0]["metrics"]["correct"]["mean"];
+  const double broken_correct = c["runs"][1]["metrics"]["correct"]["mean"];
+  CHECK(broken_correct < base_correct);
+  CHECK(c["runs"][0]["on_front"] == true);
+  CHECK(c["runs"][2]["on_front"] == true);
+  // Nothing streamed and nothing was priced.
+  CHECK(c["runs"][0]["ttft_ms"].is_null());
+  CHECK(c["runs"][0]["cost_per_1000_cases"].is_null());
+
+  const Result table = Plumb({"compare", base, same, "--color", "never"}, tmp.path());
+  CHECK(table.code == 0);
+  CHECK(table.out.find("again against baseline (400 paired cases)") != std::string::npos);
+  CHECK(table.out.find("exit 0: no run regressed against baseline") != std::string::npos);
+  CHECK(table.out.find("ttft p50") != std::string::npos);
+}
+
+TEST_CASE("compare refuses runs of different suites and fewer than two runs with exit 2") {
+  TempDir tmp;
+  const std::string base = Score(tmp.path(), "base", "base.jsonl");
+  const std::string other = Copy(base, tmp.Path("other"));
+  EditRecord(other, [](nlohmann::json* r) { (*r)["suite"]["name"] = "another-suite"; });
+  const Result r = Plumb({"compare", base, other}, tmp.path());
+  CHECK(r.code == 2);
+  CHECK(r.out.empty());
+  CHECK(r.err.find("a run of suite 'drift-fixture'") != std::string::npos);
+  CHECK(r.err.find("a run of suite 'another-suite'; compare takes runs of one suite") !=
+        std::string::npos);
+
+  const Result one = Plumb({"compare", base}, tmp.path());
+  CHECK(one.code == 2);
+  CHECK(one.err.find("two or more run directories") != std::string::npos);
+  const Result missing = Plumb({"compare", base, tmp.Path("nowhere")}, tmp.path());
+  CHECK(missing.code == 2);
+}
+
+TEST_CASE("hostile pipeline names stay text in the table, the Markdown and the page") {
+  TempDir tmp;
+  const std::string base = Score(tmp.path(), "base", "base.jsonl");
+  const std::string other = Copy(base, tmp.Path("other"));
+  const std::string hostile = "<script>alert(1)</script>|**x**\x1b[31m";
+  EditRecord(other, [&](nlohmann::json* r) { (*r)["pipeline"]["name"] = hostile; });
+  const Result r = Plumb({"compare", base, other, "--html", tmp.Path("c.html"), "--markdown",
+                          tmp.Path("c.md"), "--color", "never"},
+                         tmp.path());
+  INFO(r.err);
+  REQUIRE(r.code == 0);
+  CHECK(r.out.find('\x1b') == std::string::npos);
+  std::ifstream html_in(tmp.Path("c.html")), md_in(tmp.Path("c.md"));
+  const std::string html((std::istreambuf_iterator<char>(html_in)), {});
+  const std::string md((std::istreambuf_iterator<char>(md_in)), {});
+  CHECK(html.find("<script>alert") == std::string::npos);
+  CHECK(html.find("&lt;script&gt;alert(1)&lt;/script&gt;") != std::string::npos);
+  CHECK(html.find("certify") != std::string::npos);
+  CHECK(md.find("<script>") == std::string::npos);
+  CHECK(md.find("\\|\\*\\*x\\*\\*") != std::string::npos);
+}
