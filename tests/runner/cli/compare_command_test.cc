@@ -4,8 +4,8 @@
 // the command must put them side by side, draw the front and refuse what it cannot compare.
 #include <catch2/catch.hpp>
 #include <filesystem>
-#include <functional>
 #include <fstream>
+#include <functional>
 #include <nlohmann/json.hpp>
 #include <string>
 #include <vector>
