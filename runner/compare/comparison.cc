@@ -61,11 +61,12 @@ ComparedTime TimeAt(const nlohmann::json& aggregates, const char* key) {
   return t;
 }
 
-/// run.json's aggregates.cost: the mean cost of a case with its interval, and the currency.
+/// run.json's aggregates.cost (null without a price): the mean cost of a case ("mean") with its
+/// interval, and the currency.
 ComparedCost CostAt(const nlohmann::json& aggregates) {
   ComparedCost c;
   const nlohmann::json& cost = At(aggregates, "cost");
-  const double mean = NumberAt(cost, "mean_per_case");
+  const double mean = NumberAt(cost, "mean");
   if (!std::isfinite(mean)) return c;
   c.available = true;
   c.per_1000 = mean * 1000;

@@ -87,6 +87,74 @@ TEST_CASE("compare puts three runs side by side with drift's verdicts against th
   CHECK(table.out.find("ttft p50") != std::string::npos);
 }
 
+TEST_CASE("time to first token and cost per 1,000 cases come from run.json, n/a without them") {
+  TempDir tmp;
+  const std::string base = Score(tmp.path(), "base", "base.jsonl");
+  const std::string priced = Copy(base, tmp.Path("priced"));
+  // What a streamed, priced run records (aggregates.ttft_ms and aggregates.cost): a mean cost of
+  // 0.00042 EUR a case is 0.42 EUR per 1,000 cases, its interval [0.00040, 0.00044] scaled alike.
+  EditRecord(priced, [](nlohmann::json* r) {
+    (*r)["pipeline"]["name"] = "priced";
+    (*r)["aggregates"]["ttft_ms"] = {{"n", 400}, {"p50", 210.0}, {"p95", 250.0}, {"mean", 220.0}};
+    (*r)["aggregates"]["cost"] = {
+        {"currency", "EUR"}, {"n", 400}, {"mean", 0.00042}, {"interval", {0.0004, 0.00044}}};
+  });
+  const Result r = Plumb({"compare", base, priced, "--json"}, tmp.path());
+  INFO(r.err);
+  REQUIRE(r.code == 0);
+  const nlohmann::json c = nlohmann::json::parse(r.out);
+  const nlohmann::json& cost = c["runs"][1]["cost_per_1000_cases"];
+  CHECK(cost["value"].get<double>() == Approx(0.42));
+  CHECK(cost["interval"][0].get<double>() == Approx(0.40));
+  CHECK(cost["interval"][1].get<double>() == Approx(0.44));
+  CHECK(cost["currency"] == "EUR");
+  CHECK(c["runs"][1]["ttft_ms"]["p50"] == 210.0);
+  CHECK(c["runs"][0]["cost_per_1000_cases"].is_null());
+  const Result table = Plumb({"compare", base, priced, "--color", "never"}, tmp.path());
+  CHECK(table.out.find("0.42 EUR [0.40, 0.44]") != std::string::npos);
+  CHECK(table.out.find("210.0 ms") != std::string::npos);
+}
+
+TEST_CASE("a run with first calls starts up in its first call less its mean latency") {
+  TempDir tmp;
+  const std::string a = Score(tmp.path(), "a", "base.jsonl");
+  const std::string b = Copy(a, tmp.Path("b"));
+  auto warmup = [](const char* signal, const char* key, double ms) {
+    return nlohmann::json{
+        {"signal", signal},
+        {"n", 1},
+        {"restarts", 0},
+        {"mean_ms", ms},
+        {"max_ms", ms},
+        {"workers",
+         {{{"worker", 0}, {"restart", false}, {"signal", signal}, {key, ms}, {"ready", nullptr}}}}};
+  };
+  // a: no ready signal, a first call of 1100 ms and a mean latency of 100 ms: a start-up of
+  // 1100 - 100 = 1000 ms. b: a ready line after 10 ms and 200 ms a case. (1000 - 10) / (200 -
+  // 100) = 9.9, so a is the quicker in total from 10 cases on: 1000 + 10 * 100 = 2000 against
+  // 10 + 10 * 200 = 2010 (and at 9: 1900 against 1810).
+  EditRecord(a, [&](nlohmann::json* r) {
+    (*r)["pipeline"]["name"] = "cold";
+    (*r)["aggregates"]["warmup"] = warmup("first_call", "first_call_ms", 1100);
+    (*r)["aggregates"]["latency_ms"]["mean"] = 100.0;
+  });
+  EditRecord(b, [&](nlohmann::json* r) {
+    (*r)["pipeline"]["name"] = "warm";
+    (*r)["aggregates"]["warmup"] = warmup("ready_line", "warmup_ms", 10);
+    (*r)["aggregates"]["latency_ms"]["mean"] = 200.0;
+  });
+  const Result r = Plumb({"compare", a, b, "--json"}, tmp.path());
+  INFO(r.err);
+  REQUIRE(r.code == 0);
+  const nlohmann::json c = nlohmann::json::parse(r.out);
+  CHECK(c["runs"][0]["startup_ms"] == 1000.0);
+  CHECK(c["runs"][1]["startup_ms"] == 10.0);
+  REQUIRE(c["break_even"].size() == 1);
+  CHECK(c["break_even"][0]["slow_start"] == "cold");
+  CHECK(c["break_even"][0]["quick_start"] == "warm");
+  CHECK(c["break_even"][0]["cases"] == 10);
+}
+
 TEST_CASE("compare refuses runs of different suites and fewer than two runs with exit 2") {
   TempDir tmp;
   const std::string base = Score(tmp.path(), "base", "base.jsonl");
