@@ -6,7 +6,9 @@
 #include <cmath>
 #include <limits>
 #include <set>
+#include <unordered_map>
 
+#include "metrics/paired_bootstrap.h"
 #include "runner/compare/pareto_front.h"
 #include "runner/run/exit_code.h"
 
@@ -136,6 +138,48 @@ void NameRuns(std::vector<ComparedRun>* runs) {
   }
 }
 
+/// Each case's mean latency over its repeats that were timed, by id.
+std::unordered_map<std::string, double> CaseLatencies(const RunValues& run) {
+  std::unordered_map<std::string, double> out;
+  for (size_t row = 0; row < run.rows(); ++row) {
+    if (run.latency_count[row] > 0)
+      out[run.ids[row]] = run.latency_sum[row] / run.latency_count[row];
+  }
+  return out;
+}
+
+/// How firm the break-even is (BreakEvenStatement): the paired interval of the per-case gap.
+void Firm(const RunValues& slow, const RunValues& quick, const DriftOptions& options,
+          BreakEvenStatement* b) {
+  const std::unordered_map<std::string, double> s = CaseLatencies(slow);
+  const std::unordered_map<std::string, double> q = CaseLatencies(quick);
+  std::vector<double> slow_values, quick_values;
+  std::vector<std::string> ids;
+  for (const auto& [id, value] : s) {
+    if (q.count(id) > 0) ids.push_back(id);
+  }
+  std::sort(ids.begin(), ids.end());  // a fixed order, so the resamples do not depend on hashing
+  for (const std::string& id : ids) {
+    slow_values.push_back(s.at(id));
+    quick_values.push_back(q.at(id));
+  }
+  b->paired_cases = static_cast<int64_t>(ids.size());
+  b->gap_ms = {kNaN, kNaN};
+  if (ids.size() < 2) return;
+  const metrics::PairedBootstrapResult gap = metrics::PairedBootstrapMeanDelta(
+      slow_values, quick_values, options.resamples, options.seed, kDriftConfidence);
+  b->gap_ms = gap.interval;
+  if (!(gap.interval.low > 0) || !std::isfinite(gap.interval.high)) return;
+  const auto late =
+      BreakEvenCases(b->slow, {b->quick.warmup_ms, b->slow.per_case_ms + gap.interval.low});
+  const auto early =
+      BreakEvenCases(b->slow, {b->quick.warmup_ms, b->slow.per_case_ms + gap.interval.high});
+  if (!late || !early) return;
+  b->established = true;
+  b->cases_late = *late;
+  b->cases_early = *early;
+}
+
 }  // namespace
 
 bool ComputeComparison(const std::vector<const RunValues*>& runs, const DriftOptions& options,
@@ -197,7 +241,14 @@ bool ComputeComparison(const std::vector<const RunValues*>& runs, const DriftOpt
       const TimeCost slow{a.startup_ms, a.latency.mean};
       const TimeCost quick{b.startup_ms, b.latency.mean};
       if (const std::optional<int64_t> n = BreakEvenCases(slow, quick)) {
-        out->break_evens.push_back({i, j, *n, slow, quick});
+        BreakEvenStatement b;
+        b.slow_start = i;
+        b.quick_start = j;
+        b.cases = *n;
+        b.slow = slow;
+        b.quick = quick;
+        Firm(*runs[i], *runs[j], options, &b);
+        out->break_evens.push_back(b);
       }
     }
   }

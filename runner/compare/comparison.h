@@ -68,11 +68,21 @@ struct ComparedRun {
 
 /// Run `slow_start` warms up longer and answers faster than run `quick_start`: from `cases`
 /// cases on (one worker, one case after another) its total time is the smaller.
+/// The per-case times are means, so the statement is only as firm as their difference: `gap_ms`
+/// is the 95% paired-bootstrap interval of quick's mean latency less slow's over the cases both
+/// timed (metrics::PairedBootstrapMeanDelta, the drift's resamples and seed). `established`
+/// when the whole interval is above 0; then the break-even lies between `cases_early` (at the
+/// interval's upper end) and `cases_late` (at its lower end). Otherwise the two runs' per-case
+/// times are not told apart and the break-even may not exist.
 struct BreakEvenStatement {
   size_t slow_start = 0;
   size_t quick_start = 0;
   int64_t cases = 0;
   TimeCost slow, quick;
+  int64_t paired_cases = 0;
+  metrics::Interval gap_ms;
+  bool established = false;
+  int64_t cases_early = 0, cases_late = 0;
 };
 
 struct Comparison {

@@ -97,13 +97,19 @@ nlohmann::json ComparisonToJson(const Comparison& c) {
   for (size_t i : c.front) front.push_back(c.runs[i].name);
   nlohmann::json breaks = nlohmann::json::array();
   for (const BreakEvenStatement& b : c.break_evens) {
-    breaks.push_back({{"slow_start", c.runs[b.slow_start].name},
-                      {"quick_start", c.runs[b.quick_start].name},
-                      {"cases", b.cases},
-                      {"slow_start_warmup_ms", Number(b.slow.warmup_ms)},
-                      {"slow_start_per_case_ms", Number(b.slow.per_case_ms)},
-                      {"quick_start_warmup_ms", Number(b.quick.warmup_ms)},
-                      {"quick_start_per_case_ms", Number(b.quick.per_case_ms)}});
+    breaks.push_back(
+        {{"slow_start", c.runs[b.slow_start].name},
+         {"quick_start", c.runs[b.quick_start].name},
+         {"cases", b.cases},
+         {"slow_start_warmup_ms", Number(b.slow.warmup_ms)},
+         {"slow_start_per_case_ms", Number(b.slow.per_case_ms)},
+         {"quick_start_warmup_ms", Number(b.quick.warmup_ms)},
+         {"quick_start_per_case_ms", Number(b.quick.per_case_ms)},
+         {"paired_cases", b.paired_cases},
+         {"per_case_gap_ms_interval", IntervalJson(b.gap_ms)},
+         {"established", b.established},
+         {"cases_interval", b.established ? nlohmann::json::array({b.cases_early, b.cases_late})
+                                          : nlohmann::json(nullptr)}});
   }
   return {{"schema", {{"plumb_compare", 1}}},
           {"suite", c.suite},

@@ -74,12 +74,23 @@ std::string CompareCostText(const ComparedRun& run) {
 std::string BreakEvenSentence(const Comparison& c, const BreakEvenStatement& b) {
   const ComparedRun& slow = c.runs[b.slow_start];
   const ComparedRun& quick = c.runs[b.quick_start];
-  return fmt::format(
+  std::string text = fmt::format(
       "{} (start-up {}, {} a case) takes less time in total than {} (start-up {}, {} a case) "
-      "from {} {} on, for one worker answering them one after another.",
+      "from {} {} on, for one worker answering them one after another",
       slow.name, CompareMilliseconds(b.slow.warmup_ms), CompareMilliseconds(b.slow.per_case_ms),
       quick.name, CompareMilliseconds(b.quick.warmup_ms), CompareMilliseconds(b.quick.per_case_ms),
       b.cases, b.cases == 1 ? "case" : "cases");
+  const std::string gap =
+      "[" + CompareMilliseconds(b.gap_ms.low) + ", " + CompareMilliseconds(b.gap_ms.high) + "]";
+  if (b.established) {
+    text += fmt::format(" (between {} and {} by the 95% interval of the per-case gap, {})",
+                        b.cases_early, b.cases_late, gap);
+  } else if (b.paired_cases >= 2) {
+    text += ", but the per-case times are not told apart (95% interval of the gap " + gap +
+            " over " + std::to_string(b.paired_cases) +
+            " paired cases), so there may be no break-even at all";
+  }
+  return text + ".";
 }
 
 std::string FrontSentence(const Comparison& c) {

@@ -153,6 +153,54 @@ TEST_CASE("a run with first calls starts up in its first call less its mean late
   CHECK(c["break_even"][0]["slow_start"] == "cold");
   CHECK(c["break_even"][0]["quick_start"] == "warm");
   CHECK(c["break_even"][0]["cases"] == 10);
+  // The two runs are copies: case by case the latencies are equal, so the gap's interval is
+  // [0, 0] and the break-even is stated as not established.
+  CHECK(c["break_even"][0]["established"] == false);
+  CHECK(c["break_even"][0]["per_case_gap_ms_interval"] == nlohmann::json::array({0.0, 0.0}));
+  const Result table = Plumb({"compare", a, b, "--color", "never"}, tmp.path());
+  CHECK(table.out.find("from 10 cases on") != std::string::npos);
+  CHECK(table.out.find("the per-case times are not told apart") != std::string::npos);
+}
+
+TEST_CASE("a break-even with a per-case gap clear of 0 is stated with its range") {
+  TempDir tmp;
+  // cand-broken20's latencies are base's times 1.25 (make_runs.py): base's 100.5..299.5 ms
+  // become 25..75 ms slower case by case, 50 ms on average (means 200 and 250 ms).
+  const std::string slow = Score(tmp.path(), "slow", "base.jsonl");
+  const std::string quick = Score(tmp.path(), "quick", "cand-broken20.jsonl");
+  auto ready = [](double ms) {
+    return nlohmann::json{{"signal", "ready_line"},
+                          {"n", 1},
+                          {"restarts", 0},
+                          {"mean_ms", ms},
+                          {"max_ms", ms},
+                          {"workers",
+                           {{{"worker", 0},
+                             {"restart", false},
+                             {"signal", "ready_line"},
+                             {"warmup_ms", ms},
+                             {"ready", nullptr}}}}};
+  };
+  EditRecord(slow, [&](nlohmann::json* r) { (*r)["aggregates"]["warmup"] = ready(1000); });
+  EditRecord(quick, [&](nlohmann::json* r) { (*r)["aggregates"]["warmup"] = ready(10); });
+  const Result r = Plumb({"compare", slow, quick, "--json"}, tmp.path());
+  INFO(r.err);
+  REQUIRE(r.code == 1);  // broken20 regresses on correct
+  const nlohmann::json c = nlohmann::json::parse(r.out);
+  REQUIRE(c["break_even"].size() == 1);
+  const nlohmann::json& b = c["break_even"][0];
+  // (1000 - 10) / (250 - 200) = 19.8: from 20 cases on (5000 against 5010 ms; at 19, 4800
+  // against 4760).
+  CHECK(b["cases"] == 20);
+  CHECK(b["paired_cases"] == 400);
+  CHECK(b["established"] == true);
+  // The gap's interval lies around 50 ms (its cases' spread: sd about 14.4 ms over 400 cases,
+  // so about +-1.4 ms); the range of the break-even follows from its two ends.
+  CHECK(b["per_case_gap_ms_interval"][0].get<double>() > 47);
+  CHECK(b["per_case_gap_ms_interval"][1].get<double>() < 53);
+  CHECK(b["cases_interval"][0].get<int64_t>() <= 20);
+  CHECK(b["cases_interval"][1].get<int64_t>() >= 20);
+  CHECK(b["cases_interval"][1].get<int64_t>() - b["cases_interval"][0].get<int64_t>() <= 2);
 }
 
 TEST_CASE("compare refuses runs of different suites and fewer than two runs with exit 2") {
