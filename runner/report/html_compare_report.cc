@@ -32,11 +32,11 @@ void AppendFiguresTable(std::string* out, const Comparison& c) {
       "scope=\"col\">figure</th>");
   AppendRunHeads(out, c, 0);
   out->append("</tr></thead><tbody>");
-  auto row = [&](const std::string& label, auto cell) {
+  auto row = [&](const std::string& label, auto cell, const char* cls = "num") {
     out->append("<tr><th scope=\"row\">");
     AppendHtmlText(out, label);
     out->append("</th>");
-    for (const ComparedRun& r : c.runs) AppendCell(out, cell(r));
+    for (const ComparedRun& r : c.runs) AppendCell(out, cell(r), cls);
     out->append("</tr>");
   };
   for (const std::string& metric : c.metrics) {
@@ -53,10 +53,14 @@ void AppendFiguresTable(std::string* out, const Comparison& c) {
   row("cost per 1,000 cases", [](const ComparedRun& r) { return CompareCostText(r); });
   row("cases", [](const ComparedRun& r) { return std::to_string(r.cases); });
   row("on the front", [](const ComparedRun& r) { return std::string(r.on_front ? "yes" : "no"); });
-  row("own verdict", [](const ComparedRun& r) {
-    return "exit " + std::to_string(r.exit_code) +
-           (r.verdict_reason.empty() ? "" : ": " + r.verdict_reason);
-  });
+  // The reason can be long (every broken floor): it wraps instead of widening the column.
+  row(
+      "own verdict",
+      [](const ComparedRun& r) {
+        return "exit " + std::to_string(r.exit_code) +
+               (r.verdict_reason.empty() ? "" : ": " + r.verdict_reason);
+      },
+      "txt");
   out->append("</tbody></table></div>");
 }
 

@@ -118,6 +118,8 @@ svg .run.off .mk{fill:var(--card)}
 svg .nm{font-size:11px;fill:var(--ink)}
 svg .nm.end{text-anchor:end}
 table.compare td{white-space:nowrap;font-variant-numeric:tabular-nums}
+table.compare td.txt{white-space:normal;overflow-wrap:anywhere;min-width:12em;max-width:24em;font-size:13px}
+table.compare thead th.run{text-align:right}
 table.compare tbody th{text-transform:none;letter-spacing:0;font-size:13px;font-weight:400;color:var(--ink);font-family:ui-monospace,"DejaVu Sans Mono",Menlo,Consolas,monospace}
 table.compare th.run{text-transform:none;letter-spacing:0;font-size:13px;color:var(--ink);white-space:normal;overflow-wrap:anywhere;max-width:16em}
 h1 .verdict.limits{font-size:16px;vertical-align:3px}
