@@ -116,6 +116,50 @@ lib.main('browser compare', async (checks) => {
     await page.setViewportSize({ width: 700, height: 900 });
     const narrow = await page.evaluate(() => document.documentElement.scrollWidth - window.innerWidth);
     checks.check('no overflow at 700 px either', narrow <= 0, narrow);
+
+    // The demo: both demo pipelines over suites/ferry.yaml with their ready lines, compared.
+    if (args['demo-pipeline']) {
+      const docs = path.join(args.source, 'fixtures/ferry/docs');
+      const pipeline = (name, extra) => `  ${name}:
+    command: [${JSON.stringify(args['demo-pipeline'])}, --docs, ${JSON.stringify(docs)}, ${extra}, --ready-line]
+    mode: persistent
+    ready: line
+    timeout: 30s
+`;
+      fs.writeFileSync(path.join(dir, 'pipelines.yaml'), 'pipelines:\n' +
+                       pipeline('retrieve', '--top-k, "3"') + pipeline('preload', '--preload'));
+      const out = path.join(dir, 'demo');
+      const r = lib.run(args.plumb, ['run', path.join(args.source, 'suites/ferry.yaml'),
+                                     '--pipelines', path.join(dir, 'pipelines.yaml'),
+                                     '--pipeline', 'retrieve', '--pipeline', 'preload', '--out', out,
+                                     '--grade-cache', path.join(dir, 'grades.sqlite')],
+                        { cwd: args.source });
+      checks.check('demo runs finished (exit 0 or 1)', r.status === 0 || r.status === 1, r.stderr);
+      const ready = JSON.parse(fs.readFileSync(path.join(out, 'preload', 'run.json'), 'utf8'))
+          .aggregates.warmup.workers[0].ready;
+      checks.check('the preload ready line says what it preloaded',
+                   ready.architecture === 'preload' && ready.tokens_preloaded > 0 && ready.chunks > 0,
+                   ready);
+      const demoHtml = path.join(args.artifacts, 'compare-demo.html');
+      const d = lib.run(args.plumb, ['compare', path.join(out, 'retrieve'), path.join(out, 'preload'),
+                                     '--html', demoHtml], { cwd: args.source });
+      checks.check('compare on the demo finished (exit 0 or 1)', d.status === 0 || d.status === 1,
+                   d.stderr);
+      checks.check('compare on the demo prints the table',
+                   d.stdout.includes('latency p95') && d.stdout.includes('warm-up'), d.stdout);
+      const demo = await lib.openReport(browser.context, demoHtml);
+      checks.equal('demo: a mark per pipeline',
+                   await demo.page.$$eval('svg#tradeoff g.run circle.mk', (x) => x.length), 2);
+      checks.equal('demo: the labels are the pipelines',
+                   (await lib.texts(demo.page, 'svg#tradeoff text.nm')).sort(), ['preload', 'retrieve']);
+      checks.check('demo: axis labels drawn',
+                   (await lib.texts(demo.page, 'svg#tradeoff text.xt'))[0].includes('latency p95') &&
+                   (await lib.texts(demo.page, 'svg#tradeoff text.yt'))[0].startsWith('correct'));
+      checks.check('demo: the front is drawn',
+                   (await demo.page.$$('svg#tradeoff polyline.front')).length === 1);
+      checks.equal('demo: no page errors', demo.seen.errors, []);
+      await demo.page.screenshot({ path: path.join(args.artifacts, 'compare-demo.png'), fullPage: true });
+    }
   } finally {
     await browser.close();
   }
