@@ -26,14 +26,14 @@ bool CheckGateAgainstRuns(const DriftOptions& options, const RunValues& base, co
     }
   }
   for (const std::string& metric : options.gate) {
-    if (IsKnownCaseMetric(metric) ||
+    if (metric == kLatencyGate || IsKnownCaseMetric(metric) ||
         std::find(measured.begin(), measured.end(), metric) != measured.end()) {
       continue;
     }
     std::vector<std::string> known = {
         "correct",         "exact_match",   "token_f1",      "token_recall", "covers_gold",
         "knowledge_f1",    "cited_support", "pattern_match", "number_match", "citation_precision",
-        "citation_recall", "citation_f1",   "mrr",           "pass_rate"};
+        "citation_recall", "citation_f1",   "mrr",           "pass_rate",    kLatencyGate};
     known.insert(known.end(), measured.begin(), measured.end());
     *error = "--gate " + metric + ": not a per-case metric id; " +
              DidYouMeanHint(metric, MetricDisplayOrder(known), "metric ids");
@@ -67,6 +67,12 @@ bool ParseGate(const std::string& text, std::vector<std::string>* gate, std::str
 bool CheckDriftOptions(const DriftOptions& options, std::string* error) {
   if (!(options.min_effect >= 0) || !std::isfinite(options.min_effect)) {
     *error = "--min-effect must be a number at or above 0 (a difference of means, e.g. 0.005)";
+    return false;
+  }
+  if (!(options.max_slowdown >= 0) || !std::isfinite(options.max_slowdown)) {
+    *error =
+        "--max-slowdown must be a number at or above 0 (a fraction: 0.10 allows the p95 to "
+        "grow by 10%)";
     return false;
   }
   if (options.resamples < 1) {

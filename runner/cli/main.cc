@@ -99,6 +99,11 @@ int main(int argc, char** argv) {
   run_cmd->add_flag("--json", run.json, "Print the run record as JSON on stdout");
   run_cmd->add_option("--baseline", run.baseline_dir,
                       "Compare with this run directory (drift) and exit 1 on a regression");
+  std::string run_gate;
+  run_cmd->add_option("--gate", run_gate,
+                      "With --baseline: metrics whose regression fails the run (as for drift)");
+  run_cmd->add_option("--max-slowdown", run.max_slowdown,
+                      "With --baseline and --gate latency_p95: the p95 growth allowed (0.10)");
   run_cmd->add_flag("--allow-missing", run.allow_missing,
                     "With --baseline: leave out baseline cases this run lacks instead of counting "
                     "them as lost (implied by --tag, --case, --limit and --shard)");
@@ -130,7 +135,10 @@ int main(int argc, char** argv) {
   drift_cmd->add_option("CAND_DIR", drift.cand_dir, "Run directory of the candidate")->required();
   drift_cmd->add_option("--gate", gate,
                         "Metrics whose regression fails the command, comma-separated (default: "
-                        "correct,token_f1,citation_recall)");
+                        "correct,token_f1,citation_recall; latency_p95 gates the p95 latency)");
+  drift_cmd->add_option("--max-slowdown", drift.drift.max_slowdown,
+                        "With --gate latency_p95: the p95 may grow by this fraction before its "
+                        "interval counts as a regression (default 0.10)");
   drift_cmd->add_option("--min-effect", drift.drift.min_effect,
                         "Smallest |delta| a verdict may call a change (default 0.005)");
   drift_cmd->add_option("--seed", drift.drift.seed, "Bootstrap seed (default 20261201)");
@@ -295,6 +303,13 @@ int main(int argc, char** argv) {
       }
     }
     if (!ParseLabels(run_labels, &run.labels)) return plumb::kExitUsage;
+    if (!run_gate.empty()) {
+      std::string error;
+      if (!plumb::ParseGate(run_gate, &run.gate, &error)) {
+        std::fprintf(stderr, "plumb: %s\n", error.c_str());
+        return plumb::kExitUsage;
+      }
+    }
     return plumb::RunCommand(run);
   }
   if (*score_cmd) {

@@ -97,6 +97,32 @@ RunAggregates AggregatesFromRecord(const nlohmann::json& record) {
   }
   run.input_tokens = Integer(At(a, "usage"), "input_tokens");
   run.output_tokens = Integer(At(a, "usage"), "output_tokens");
+  run.usage_items = Integer(At(a, "usage"), "items");
+  const nlohmann::json& t = At(a, "ttft_ms");
+  run.ttft.n = Integer(t, "n");
+  run.ttft.p50 = Number(t, "p50");
+  run.ttft.p90 = Number(t, "p90");
+  run.ttft.p95 = Number(t, "p95");
+  run.ttft.p99 = Number(t, "p99");
+  run.ttft.mean = Number(t, "mean");
+  run.ttft.max = Number(t, "max");
+  for (auto [key, interval] : {std::pair{"p50_interval", &run.ttft_p50_interval},
+                               std::pair{"p95_interval", &run.ttft_p95_interval}}) {
+    const nlohmann::json& i = At(t, key);
+    if (i.is_array() && i.size() == 2 && i[0].is_number() && i[1].is_number()) {
+      *interval = {i[0].get<double>(), i[1].get<double>()};
+    }
+  }
+  run.price = PriceFromConfig(At(At(record, "pipeline"), "config"));
+  const nlohmann::json& cost = At(a, "cost");
+  run.cost_items = Integer(cost, "items");
+  run.cost_total = Number(cost, "total");
+  run.cost_per_case.mean = Number(cost, "mean");
+  run.cost_per_case.n = Integer(cost, "n");
+  if (const nlohmann::json& i = At(cost, "interval");
+      i.is_array() && i.size() == 2 && i[0].is_number() && i[1].is_number()) {
+    run.cost_per_case.interval = {i[0].get<double>(), i[1].get<double>()};
+  }
   run.warmups = WarmupsFromJson(At(a, "warmup"));
   const nlohmann::json& unstable = At(a, "unstable_cases");
   if (unstable.is_array()) {

@@ -379,6 +379,8 @@ int ReportOnRun(const RunOptions& options, const std::string& suite, const std::
   // A run of selected cases (--tag, --case, --limit, --shard) lacks the rest of the baseline by
   // choice: those are left out rather than counted as lost.
   const CaseSelection& s = options.selection;
+  if (!options.gate.empty()) drift.drift.gate = options.gate;
+  drift.drift.max_slowdown = options.max_slowdown;
   drift.drift.allow_missing = options.allow_missing || !s.tags.empty() || !s.id_globs.empty() ||
                               s.limit >= 0 || s.shard.count > 1;
   if (!options.json) std::printf("\n");

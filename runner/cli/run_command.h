@@ -29,6 +29,8 @@ struct RunOptions {
   bool json = false;                          // --json
   std::string baseline_dir;       // --baseline DIR: drift against it and gate (SPEC §7, §8)
   bool allow_missing = false;     // --allow-missing: baseline cases not run are left out
+  std::vector<std::string> gate;  // --gate with --baseline; empty: the drift's default
+  double max_slowdown = 0.10;     // --max-slowdown with --gate latency_p95
   OutputOptions outputs;          // --html, --junit, --markdown
   bool progress = true;           // false in tests
   GradeCacheOptions grade_cache;  // --grade-cache FILE, --no-grade-cache

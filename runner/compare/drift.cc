@@ -15,6 +15,8 @@
 #include <unordered_map>
 
 #include "metrics/detectable_effect.h"
+#include "metrics/paired_bootstrap.h"
+#include "metrics/paired_mean_ratio.h"
 #include "metrics/paired_tests.h"
 #include "metrics/percentile.h"
 #include "metrics/seeded_random.h"
@@ -671,6 +673,87 @@ WarmupDrift CompareWarmups(const RunValues& base, const RunValues& cand,
   return w;
 }
 
+/// Time to first token, tokens and cost of the paired cases (drift.h): each over the cases where
+/// both runs have it, with its own seeded bootstrap (streamed and priced runs only, so the
+/// shared stream of the metrics is left as it was).
+void CompareStreamAndUsage(const PairedCases& paired, const RunCases& base, const RunCases& cand,
+                           const DriftOptions& options, DriftReport* report) {
+  auto per_row = [](const std::vector<double>& sum, const std::vector<int>& count, uint32_t row) {
+    return count[row] > 0 ? sum[row] / count[row] : kNaN;
+  };
+  std::vector<double> tb, tc;
+  std::vector<double> in_b, in_c, out_b, out_c, cost_b, cost_c;
+  for (uint32_t i = 0; i < paired.size(); ++i) {
+    if (paired.cand_row[i] == kMissingRow) continue;
+    const RunValues& b = *base.run;
+    const RunValues& c = *cand.run;
+    const uint32_t rb = paired.base_row[i], rc = paired.cand_row[i];
+    const double ttft_b = per_row(b.ttft_sum, b.ttft_count, rb);
+    const double ttft_c = per_row(c.ttft_sum, c.ttft_count, rc);
+    if (ttft_b > 0 && ttft_c > 0) {
+      tb.push_back(ttft_b);
+      tc.push_back(ttft_c);
+    }
+    if (b.usage_count[rb] > 0 && c.usage_count[rc] > 0) {
+      in_b.push_back(per_row(b.input_tokens_sum, b.usage_count, rb));
+      in_c.push_back(per_row(c.input_tokens_sum, c.usage_count, rc));
+      out_b.push_back(per_row(b.output_tokens_sum, b.usage_count, rb));
+      out_c.push_back(per_row(c.output_tokens_sum, c.usage_count, rc));
+    }
+    if (b.cost_count[rb] > 0 && c.cost_count[rc] > 0) {
+      cost_b.push_back(per_row(b.cost_sum, b.cost_count, rb));
+      cost_c.push_back(per_row(c.cost_sum, c.cost_count, rc));
+    }
+  }
+  report->ttft_n = static_cast<int64_t>(tb.size());
+  for (int which = 0; which < 2 && !tb.empty(); ++which) {
+    LatencyDrift& l = which == 0 ? report->ttft_p50 : report->ttft_p95;
+    const double p = which == 0 ? 50.0 : 95.0;
+    const metrics::RatioResult r = metrics::PairedBootstrapQuantileRatio(
+        tb, tc, p, options.resamples, options.seed, kDriftConfidence);
+    if (!std::isfinite(r.ratio)) continue;
+    std::vector<double> sb = tb, sc = tc;
+    std::sort(sb.begin(), sb.end());
+    std::sort(sc.begin(), sc.end());
+    l.available = true;
+    l.base = metrics::PercentileSorted(sb, p);
+    l.cand = metrics::PercentileSorted(sc, p);
+    l.ratio = r.ratio;
+    l.interval = r.interval;
+  }
+  auto amount = [&](const std::vector<double>& vb, const std::vector<double>& vc) {
+    AmountDrift a;
+    const metrics::RatioResult r = metrics::PairedBootstrapMeanRatio(
+        vb, vc, options.resamples, options.seed, kDriftConfidence);
+    if (!std::isfinite(r.ratio)) return a;
+    a.available = true;
+    a.n = static_cast<int64_t>(vb.size());
+    a.base_mean = MeanOf(vb);
+    a.cand_mean = MeanOf(vc);
+    a.ratio = r.ratio;
+    a.interval = r.interval;
+    return a;
+  };
+  report->input_tokens = amount(in_b, in_c);
+  report->output_tokens = amount(out_b, out_c);
+  const std::optional<TokenPrice> pb =
+      PriceFromConfig(ObjectAt(ObjectAt(base.run->record, "pipeline"), "config"));
+  const std::optional<TokenPrice> pc =
+      PriceFromConfig(ObjectAt(ObjectAt(cand.run->record, "pipeline"), "config"));
+  if (pb && pc && pb->currency != pc->currency) {
+    report->cost_note =
+        fmt::format("not compared: the base is priced in {} and the candidate in {}",
+                    pb->currency.empty() ? "no currency" : pb->currency,
+                    pc->currency.empty() ? "no currency" : pc->currency);
+  } else if (pb && pc) {
+    report->cost_currency = pb->currency;
+    report->cost = amount(cost_b, cost_c);
+  } else if (pb || pc) {
+    report->cost_note =
+        fmt::format("not compared: only the {} has a price", pb ? "base" : "candidate");
+  }
+}
+
 /// A metric's drift once the bootstrap has run: means, delta, interval, test, verdict.
 MetricDrift FinishMetric(const PendingMetric& p, const PairedCases& paired,
                          const std::vector<bool>& binary, const SharedBootstrap& bootstrap,
@@ -868,6 +951,7 @@ DriftGate DecideGate(const DriftReport& report, const RunValues& cand) {
   gate.metrics = report.options.gate;
   std::vector<std::string> states;
   for (const std::string& metric : gate.metrics) {
+    if (metric == kLatencyGate) continue;  // judged below, on the p95 ratio
     const MetricDrift* m = report.Find(metric);
     if (m == nullptr) {
       states.push_back(metric + " not measured");
@@ -878,6 +962,18 @@ DriftGate DecideGate(const DriftReport& report, const RunValues& cand) {
                           ? fmt::format(" ({} paired, {} more needed)", m->n, m->needed_more)
                           : ""));
     if (m->verdict == Verdict::kRegressed) gate.regressed.push_back(metric);
+  }
+  const LatencyGateVerdict& lg = report.latency_gate;
+  if (lg.gated) {
+    const LatencyDrift& l = report.latency_p95;
+    if (!lg.measured) {
+      states.push_back(std::string(kLatencyGate) + " not measured");
+    } else {
+      states.push_back(fmt::format("{} {} (p95 x{:.3f}, 95% [{:.3f}, {:.3f}], limit x{:.3f})",
+                                   kLatencyGate, lg.regressed ? "regressed" : "steady", l.ratio,
+                                   l.interval.low, l.interval.high, lg.limit));
+      if (lg.regressed) gate.regressed.push_back(kLatencyGate);
+    }
   }
   const nlohmann::json& thresholds = ObjectAt(cand.record, "thresholds");
   int floors = 0, ceilings = 0, broken_floors = 0, broken_ceilings = 0;
@@ -893,10 +989,22 @@ DriftGate DecideGate(const DriftReport& report, const RunValues& cand) {
     }
   }
   std::vector<std::string> parts;
-  if (!gate.regressed.empty()) {
-    const MetricDrift& m = *report.Find(gate.regressed.front());
+  std::vector<std::string> regressed_metrics;  // per-case metrics; the latency is worded apart
+  for (const std::string& r : gate.regressed) {
+    if (r != kLatencyGate) regressed_metrics.push_back(r);
+  }
+  if (lg.regressed) {
+    const LatencyDrift& l = report.latency_p95;
+    parts.push_back(fmt::format(
+        "{} regressed (p95 {:.1f} -> {:.1f} ms, x{:.3f}, 95% [{:.3f}, {:.3f}] wholly above the "
+        "limit x{:.3f} = 1 + --max-slowdown {:g})",
+        kLatencyGate, l.base, l.cand, l.ratio, l.interval.low, l.interval.high, lg.limit,
+        report.options.max_slowdown));
+  }
+  if (!regressed_metrics.empty()) {
+    const MetricDrift& m = *report.Find(regressed_metrics.front());
     std::string names;
-    for (const std::string& r : gate.regressed) names += (names.empty() ? "" : ", ") + r;
+    for (const std::string& r : regressed_metrics) names += (names.empty() ? "" : ", ") + r;
     parts.push_back(
         fmt::format("{} regressed ({} {:.4f} -> {:.4f}, delta {:+.4f}, 95% [{:+.4f}, "
                     "{:+.4f}], p {:.3g}{})",
@@ -1061,7 +1169,14 @@ bool ComputeDrift(const RunValues& base, const RunValues& cand, const DriftOptio
   bootstrap.Run();
   report->latency_p50.interval = bootstrap.LatencyInterval(0);
   report->latency_p95.interval = bootstrap.LatencyInterval(1);
+  LatencyGateVerdict& lg = report->latency_gate;
+  lg.gated =
+      std::find(options.gate.begin(), options.gate.end(), kLatencyGate) != options.gate.end();
+  lg.limit = 1 + options.max_slowdown;
+  lg.measured = report->latency_p95.available && std::isfinite(report->latency_p95.interval.low);
+  lg.regressed = lg.gated && lg.measured && report->latency_p95.interval.low > lg.limit;
   report->warmup = CompareWarmups(base, cand, options);
+  CompareStreamAndUsage(paired, base_cases, cand_cases, options, report);
 
   std::vector<double> differences;
   std::vector<std::vector<double>> run_differences;

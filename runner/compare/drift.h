@@ -80,7 +80,13 @@ struct DriftOptions {
   int resamples = 10000;
   uint64_t seed = 20261201;
   bool allow_missing = false;  // --allow-missing: cases the candidate lacks are left out
+  /// --max-slowdown: with latency_p95 gated, the p95 ratio's interval must lie wholly above
+  /// 1 + max_slowdown for the latency to count as regressed (issue 21).
+  double max_slowdown = 0.10;
 };
+
+/// The gate id of the latency p95 (not a per-case metric): `--gate latency_p95`.
+inline constexpr const char* kLatencyGate = "latency_p95";
 
 /// The level, power and confidence every drift uses (SPEC §7: 95% intervals; the issue: alpha
 /// 0.05 and power 0.8 for the detectable effect).
@@ -146,6 +152,27 @@ struct WarmupDrift {
   metrics::Interval interval;
 };
 
+/// An amount per case (tokens in, tokens out, cost; issue 21) over the paired cases where both
+/// runs have it: both runs' means and the candidate's ratio to the base, with
+/// metrics::PairedBootstrapMeanRatio's interval (seeded like the rest of the report).
+/// `available` is false when no paired case has it in both runs (or the base's sum is 0).
+struct AmountDrift {
+  bool available = false;
+  int64_t n = 0;
+  double base_mean = 0, cand_mean = 0;
+  double ratio = 0;
+  metrics::Interval interval;
+};
+
+/// The latency p95 as a gated quantity (`--gate latency_p95`): regressed when the p95 ratio's
+/// interval lies wholly above 1 + max_slowdown. `measured` is false without a p95 ratio.
+struct LatencyGateVerdict {
+  bool gated = false;
+  bool measured = false;
+  bool regressed = false;
+  double limit = 1.10;  // 1 + max_slowdown
+};
+
 /// One paired case whose pass/fail outcome changed.
 struct CaseChange {
   std::string id;
@@ -200,6 +227,19 @@ struct DriftReport {
   int64_t latency_lower_bounds = 0;  // of latency_n: a timeout (a lower bound) in either run
   LatencyDrift latency_p50;
   LatencyDrift latency_p95;
+  LatencyGateVerdict latency_gate;
+  /// Streamed replies' time to first token (issue 21): paired cases with one in both runs, and
+  /// the p50/p95 ratios with metrics::PairedBootstrapQuantileRatio's intervals.
+  int64_t ttft_n = 0;
+  LatencyDrift ttft_p50;
+  LatencyDrift ttft_p95;
+  AmountDrift input_tokens;
+  AmountDrift output_tokens;
+  AmountDrift cost;
+  /// The currency of both runs' prices; cost is compared only when both runs have a price in
+  /// the same currency (cost_note says why not otherwise, empty when neither has a price).
+  std::string cost_currency;
+  std::string cost_note;
   WarmupDrift warmup;
   std::map<std::string, double> min_detectable_effect;  // NaN: n/a, see above
   /// The family correction, one sentence for the reports, e.g. "Holm over the 3 gated metrics

@@ -58,6 +58,15 @@ nlohmann::json WarmupJson(const WarmupDrift& w) {
       {"interval", IntervalJson(w.interval)}};
 }
 
+nlohmann::json AmountJson(const AmountDrift& a) {
+  if (!a.available) return nullptr;
+  return {{"n", a.n},
+          {"base_mean", Number(a.base_mean)},
+          {"cand_mean", Number(a.cand_mean)},
+          {"ratio", Number(a.ratio)},
+          {"interval", IntervalJson(a.interval)}};
+}
+
 nlohmann::json OptionalText(const std::optional<std::string>& text) {
   return text ? nlohmann::json(*text) : nlohmann::json();
 }
@@ -124,6 +133,20 @@ nlohmann::json DriftReportToJson(const DriftReport& r) {
         {"p50", LatencyJson(r.latency_p50)},
         {"p95", LatencyJson(r.latency_p95)}}},
       {"warmup", WarmupJson(r.warmup)},
+      {"ttft",
+       {{"n", r.ttft_n}, {"p50", LatencyJson(r.ttft_p50)}, {"p95", LatencyJson(r.ttft_p95)}}},
+      {"usage",
+       {{"input_tokens", AmountJson(r.input_tokens)},
+        {"output_tokens", AmountJson(r.output_tokens)}}},
+      {"cost",
+       r.cost.available
+           ? [&] {
+               nlohmann::json c = AmountJson(r.cost);
+               c["currency"] = r.cost_currency;
+               return c;
+             }()
+           : nlohmann::json(r.cost_note.empty() ? nlohmann::json()
+                                                : nlohmann::json{{"note", r.cost_note}})},
       {"min_detectable_effect", mde},
       {"lost", ChangesJson(r.lost)},
       // The lost cases by the candidate's cause; shares and intervals are of the lost count.
@@ -136,6 +159,13 @@ nlohmann::json DriftReportToJson(const DriftReport& r) {
         {"regressed", r.gate.regressed},
         {"broken_floors", r.gate.broken_floors},
         {"exit_code", r.gate.exit_code},
+        {"latency_p95",
+         r.latency_gate.gated
+             ? nlohmann::json{{"measured", r.latency_gate.measured},
+                              {"regressed", r.latency_gate.regressed},
+                              {"limit", r.latency_gate.limit},
+                              {"max_slowdown", o.max_slowdown}}
+             : nlohmann::json()},
         {"correction",
          {{"method", r.family.size() > 1 ? "holm" : "none"},
           {"family", r.family},

@@ -159,6 +159,35 @@ std::string FormatDriftTable(const DriftReport& r, bool colour, bool exit_line) 
                        Num(w.ratio, "{:.3f}"), IntervalText(w.interval, "{:.3f}"), w.base_n,
                        w.base_signal, w.cand_n, w.cand_signal);
   }
+  for (int which = 0; which < 2; ++which) {
+    const LatencyDrift& l = which == 0 ? r.ttft_p50 : r.ttft_p95;
+    if (!l.available) continue;
+    out += fmt::format(
+        "  {:<22} {} -> {} ms  x{} {}{}\n", which == 0 ? "first token p50" : "first token p95",
+        Num(l.base, "{:.4g}"), Num(l.cand, "{:.4g}"), Num(l.ratio, "{:.3f}"),
+        IntervalText(l.interval, "{:.3f}"), which == 0 ? fmt::format("  (n {})", r.ttft_n) : "");
+  }
+  for (const auto& [label, a] :
+       {std::pair<const char*, const AmountDrift*>{"tokens in per case", &r.input_tokens},
+        {"tokens out per case", &r.output_tokens},
+        {"cost per case", &r.cost}}) {
+    if (!a->available) continue;
+    const std::string unit = a == &r.cost && !r.cost_currency.empty() ? " " + r.cost_currency : "";
+    out += fmt::format("  {:<22} {} -> {}{}  x{} {}  (n {})\n", label, Num(a->base_mean, "{:.6g}"),
+                       Num(a->cand_mean, "{:.6g}"), unit, Num(a->ratio, "{:.3f}"),
+                       IntervalText(a->interval, "{:.3f}"), a->n);
+  }
+  if (!r.cost_note.empty()) out += fmt::format("  {:<22} {}\n", "cost", r.cost_note);
+  if (r.latency_gate.gated) {
+    const LatencyGateVerdict& g = r.latency_gate;
+    out += fmt::format(
+        "  {:<22} {}{}{}\n", "latency_p95 *", g.regressed ? p.bad : "",
+        !g.measured ? std::string("not measured (no latency in both runs)")
+        : g.regressed
+            ? fmt::format("regressed: the p95 ratio's interval lies above x{:.3f}", g.limit)
+            : fmt::format("steady: the p95 ratio's interval reaches x{:.3f} or below", g.limit),
+        g.regressed ? p.reset : "");
+  }
   std::string mde;
   for (const MetricDrift& m : r.metrics) {
     auto it = r.min_detectable_effect.find(m.metric);

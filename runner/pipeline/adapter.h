@@ -10,6 +10,7 @@
 
 #include <cstdint>
 #include <nlohmann/json.hpp>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -55,6 +56,9 @@ struct CallResult {
   std::string stdout_excerpt;  // on error: the start of what the pipeline wrote
   std::string stderr_excerpt;  // the end of what the pipeline wrote to stderr, if any
   double latency_ms = 0;       // request start to full reply (the last attempt)
+  /// A streamed reply (`stream:`): request start to the first event with non-empty text, the
+  /// time to first token (issue 21). Absent for a reply that is not streamed or had no text.
+  std::optional<double> ttft_ms;
   /// The call ran into the pipeline's timeout: `latency_ms` is the timeout, a lower bound of
   /// the latency (the reply would have taken at least that long), and `error` says so.
   bool timed_out = false;

@@ -11,6 +11,7 @@
 
 #include "runner/base/human_units.h"
 #include "runner/pipeline/curl_library.h"
+#include "runner/pipeline/event_stream.h"
 #include "runner/pipeline/excerpt.h"
 #include "runner/pipeline/request_template.h"
 
@@ -141,6 +142,12 @@ struct HttpAdapter::Transfer {
   std::string retry_after;  // the final response's Retry-After field, if any
   char error_buffer[CURL_ERROR_SIZE] = {0};
   Clock::time_point start;
+  // `stream:` (issue 21): a 2xx body goes to `stream` as it arrives, and only its first bytes
+  // stay in `response` (for excerpts); `first_text` is when the first non-empty delta came.
+  std::unique_ptr<EventStream> stream;
+  long status = 0;  // from the status line, so the body callback knows a 2xx from an error page
+  bool stream_failed = false;
+  std::optional<Clock::time_point> first_text;
 
   std::mutex mutex;
   std::condition_variable finished_cv;
@@ -152,6 +159,17 @@ struct HttpAdapter::Transfer {
   static size_t OnBody(char* data, size_t size, size_t count, void* user) {
     auto* t = static_cast<Transfer*>(user);
     const size_t bytes = size * count;
+    if (t->stream != nullptr && t->status >= 200 && t->status < 300) {
+      if (t->response.size() < kExcerptBytes) {
+        t->response.append(data, std::min(bytes, kExcerptBytes - t->response.size()));
+      }
+      if (!t->stream->Feed(std::string_view(data, bytes))) {
+        t->stream_failed = true;
+        return 0;  // returning less than given stops curl
+      }
+      if (!t->first_text && t->stream->has_text()) t->first_text = Clock::now();
+      return bytes;
+    }
     if (t->response.size() + bytes > t->cap) {
       // Keep what fits, for the excerpt, then abort: returning less than given stops curl.
       t->response.append(data, t->cap - t->response.size());
@@ -169,6 +187,10 @@ struct HttpAdapter::Transfer {
     while (!line.empty() && (line.back() == '\r' || line.back() == '\n')) line.remove_suffix(1);
     if (line.substr(0, 5) == "HTTP/") {
       t->retry_after.clear();  // a new response (after 100 Continue, say) starts
+      const size_t space = line.find(' ');
+      t->status = space == std::string_view::npos
+                      ? 0
+                      : std::strtol(std::string(line.substr(space + 1, 3)).c_str(), nullptr, 10);
       return bytes;
     }
     constexpr std::string_view kName = "retry-after:";
@@ -281,6 +303,7 @@ struct HttpAdapter::Attempted {
   std::string error;
   double latency_ms = 0;
   bool timed_out = false;  // the server took the request and did not answer within the timeout
+  std::optional<double> ttft_ms;  // a stream's first non-empty delta
 };
 
 HttpAdapter::HttpAdapter(const PipelineConfig& config, const Options& options)
@@ -350,7 +373,11 @@ bool HttpAdapter::Init(const PipelineConfig& config, int slots, std::string* err
   if (!HasHeader(config.headers, "Content-Type") && method_ != "GET") {
     header_lines.push_back("Content-Type: application/json");
   }
-  if (!HasHeader(config.headers, "Accept")) header_lines.push_back("Accept: application/json");
+  if (!HasHeader(config.headers, "Accept")) {
+    header_lines.push_back(config.stream == StreamFormat::kSse     ? "Accept: text/event-stream"
+                           : config.stream == StreamFormat::kLines ? "Accept: application/x-ndjson"
+                                                                   : "Accept: application/json");
+  }
   // No "Expect: 100-continue" round trip before large bodies: the services we talk to answer
   // the request either way.
   if (!HasHeader(config.headers, "Expect")) header_lines.push_back("Expect:");
@@ -385,6 +412,15 @@ bool HttpAdapter::Init(const PipelineConfig& config, int slots, std::string* err
       return false;
     }
     t->cap = max_response_bytes_;
+    if (config.stream != StreamFormat::kNone) {
+      try {
+        t->stream =
+            std::make_unique<EventStream>(config.stream, config.reply.answer, max_response_bytes_);
+      } catch (const nlohmann::json::exception&) {
+        *error = "'reply.answer' is not a JSON Pointer: '" + config.reply.answer + "'";
+        return false;
+      }
+    }
     CURL* e = t->easy;
     Curl().easy_setopt(e, CURLOPT_PRIVATE, t.get());
     Curl().easy_setopt(e, CURLOPT_NOSIGNAL, 1L);
@@ -532,6 +568,10 @@ HttpAdapter::Attempted HttpAdapter::Attempt(Transfer& t, const std::string& url)
   t.response.clear();
   t.oversize = false;
   t.retry_after.clear();
+  t.status = 0;
+  t.stream_failed = false;
+  t.first_text.reset();
+  if (t.stream != nullptr) t.stream->Reset();
   t.error_buffer[0] = '\0';
   {
     std::lock_guard<std::mutex> lock(t.mutex);
@@ -555,9 +595,25 @@ HttpAdapter::Attempted HttpAdapter::Attempt(Transfer& t, const std::string& url)
   const std::string detail =
       t.error_buffer[0] != '\0' ? t.error_buffer : Curl().easy_strerror(t.code);
 
+  if (t.stream_failed) {
+    // A stream that broke costs its case; resending would only break it again.
+    a.error = t.stream->error();
+    return a;
+  }
   switch (t.code) {
     case CURLE_OK:
       if (a.status >= 200 && a.status < 300) {
+        if (t.stream != nullptr) {
+          std::string document;
+          if (!t.stream->Finish(&document)) {
+            a.error = t.stream->error();
+            return a;
+          }
+          t.response = std::move(document);
+          if (t.first_text) {
+            a.ttft_ms = std::chrono::duration<double, std::milli>(*t.first_text - t.start).count();
+          }
+        }
         a.ok = true;
         return a;
       }
@@ -682,6 +738,7 @@ CallResult HttpAdapter::Call(const PipelineRequest& request, int slot) {
     result.http_status = static_cast<int>(a.status);
     result.latency_ms = a.latency_ms;
     if (a.ok) {
+      result.ttft_ms = a.ttft_ms;
       result.body = Redact(std::move(t.response));
       return result;
     }

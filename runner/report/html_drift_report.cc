@@ -2,6 +2,8 @@
 // per-metric deltas first, then lost cases with base and candidate side by side, then gained
 // ones, then the cases whose outcome did not change, folded.
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <cmath>
 #include <map>
@@ -524,6 +526,82 @@ void AppendMetricTable(std::string* out, const nlohmann::json& drift) {
     }
     out->append("<p class=\"note\">");
     AppendHtmlText(out, words + ".");
+    out->append("</p>");
+  }
+  // Issue 21: time to first token, tokens and cost per case, and the latency gate.
+  auto ratio_words = [](const nlohmann::json& v, bool ms, const std::string& unit) {
+    auto amount = [&](const char* key) {
+      const double x = JsonNumber(v, key).value_or(0);
+      return ms ? FormatMilliseconds(x) : fmt::format("{:.6g}", x) + unit;
+    };
+    std::string words = amount(ms ? "base" : "base_mean") + " \xE2\x86\x92 " +
+                        amount(ms ? "cand" : "cand_mean") + ", ratio " +
+                        FormatScore(JsonNumber(v, "ratio").value_or(0));
+    const nlohmann::json iv = v.value("interval", nlohmann::json());
+    if (iv.is_array() && iv.size() == 2 && iv[0].is_number() && iv[1].is_number()) {
+      words += " (95% interval " + FormatScore(iv[0].get<double>()) + "\xE2\x80\x93" +
+               FormatScore(iv[1].get<double>()) + ")";
+    }
+    return words;
+  };
+  const nlohmann::json ttft = drift.value("ttft", nlohmann::json());
+  if (ttft.is_object()) {
+    std::string words;
+    for (const char* key : {"p50", "p95"}) {
+      const nlohmann::json v = ttft.value(key, nlohmann::json());
+      if (!v.is_object() || !JsonNumber(v, "ratio")) continue;
+      words +=
+          (words.empty() ? "" : " \xC2\xB7 ") + std::string(key) + " " + ratio_words(v, true, "");
+    }
+    if (!words.empty()) {
+      out->append("<p class=\"note\" id=\"ttft-drift\">");
+      AppendHtmlText(out, "Time to first token, candidate against base: " + words + ".");
+      out->append("</p>");
+    }
+  }
+  const nlohmann::json usage = drift.value("usage", nlohmann::json());
+  const nlohmann::json cost = drift.value("cost", nlohmann::json());
+  std::string amounts;
+  for (const auto& [label, v] :
+       {std::pair<const char*, nlohmann::json>{
+            "tokens in per case",
+            usage.is_object() ? usage.value("input_tokens", nlohmann::json()) : nlohmann::json()},
+        {"tokens out per case",
+         usage.is_object() ? usage.value("output_tokens", nlohmann::json()) : nlohmann::json()},
+        {"cost per case", cost}}) {
+    if (!v.is_object()) continue;
+    if (!JsonNumber(v, "ratio")) {
+      if (v.contains("note") && v["note"].is_string()) {
+        amounts += (amounts.empty() ? "" : " \xC2\xB7 ") + std::string(label) + " " +
+                   v["note"].get<std::string>();
+      }
+      continue;
+    }
+    const std::string unit = v.contains("currency") && v["currency"].is_string() &&
+                                     !v["currency"].get<std::string>().empty()
+                                 ? " " + v["currency"].get<std::string>()
+                                 : "";
+    amounts += (amounts.empty() ? "" : " \xC2\xB7 ") + std::string(label) + " " +
+               ratio_words(v, false, unit);
+  }
+  if (!amounts.empty()) {
+    out->append("<p class=\"note\" id=\"usage-drift\">");
+    AppendHtmlText(out, "Tokens and cost, candidate against base: " + amounts + ".");
+    out->append("</p>");
+  }
+  const nlohmann::json latency_gate =
+      gate.is_object() ? gate.value("latency_p95", nlohmann::json()) : nlohmann::json();
+  if (latency_gate.is_object()) {
+    const bool regressed = latency_gate.value("regressed", false);
+    const std::string limit = FormatScore(JsonNumber(latency_gate, "limit").value_or(0));
+    out->append(regressed ? "<p class=\"note bad\" id=\"latency-gate\">"
+                          : "<p class=\"note\" id=\"latency-gate\">");
+    AppendHtmlText(
+        out,
+        std::string("latency_p95 (gated): ") +
+            (!latency_gate.value("measured", false) ? "not measured."
+             : regressed ? "regressed: the p95 ratio's 95% interval lies above " + limit + "."
+                         : "steady: the p95 ratio's 95% interval reaches " + limit + " or below."));
     out->append("</p>");
   }
   out->append("</section>");

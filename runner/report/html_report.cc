@@ -1,5 +1,7 @@
 #include "runner/report/html_report.h"
 
+#include <fmt/format.h>
+
 #include <algorithm>
 #include <cstdio>
 #include <map>
@@ -264,6 +266,52 @@ void AppendScoresTable(std::string* out, const nlohmann::json& record) {
     if (in > 0 || outt > 0) {
       out->append(" Tokens: " + std::to_string(in) + " in, " + std::to_string(outt) + " out.");
     }
+    out->append("</p>");
+  }
+  // Issue 21: streamed replies' time to first token, and what the replies cost.
+  const nlohmann::json ttft = aggregates.value("ttft_ms", nlohmann::json::object());
+  if (ttft.is_object() && ttft.value("n", int64_t{0}) > 0) {
+    std::string words = "Time to first token over " + std::to_string(ttft.value("n", int64_t{0})) +
+                        " streamed replies: ";
+    bool first = true;
+    for (const char* key : {"p50", "p90", "p95", "p99", "mean", "max"}) {
+      words += (first ? "" : " \xC2\xB7 ") + std::string(key) + " " +
+               FormatMilliseconds(ttft.value(key, 0.0));
+      first = false;
+      const nlohmann::json iv = ttft.value(std::string(key) + "_interval", nlohmann::json());
+      if (iv.is_array() && iv.size() == 2 && iv[0].is_number() && iv[1].is_number()) {
+        words += " (95% interval " + FormatMilliseconds(iv[0].get<double>()) + "\xE2\x80\x93" +
+                 FormatMilliseconds(iv[1].get<double>()) + ")";
+      }
+    }
+    out->append("<p class=\"note\" id=\"ttft\">");
+    AppendHtmlText(out, words + ".");
+    out->append("</p>");
+  }
+  const nlohmann::json cost = aggregates.value("cost", nlohmann::json());
+  if (cost.is_object()) {
+    const std::string currency = cost.value("currency", nlohmann::json()).is_string()
+                                     ? cost["currency"].get<std::string>()
+                                     : "";
+    auto money = [&](double x) {
+      return fmt::format("{:.6g}", x) + (currency.empty() ? "" : " " + currency);
+    };
+    std::string words;
+    if (cost.value("items", int64_t{0}) == 0) {
+      words = "Cost: no reply carried the token counts its price needs.";
+    } else {
+      words = "Cost: " + money(cost.value("total", 0.0)) + " in all over " +
+              std::to_string(cost.value("items", int64_t{0})) + " replies; per case mean " +
+              money(cost.value("mean", 0.0));
+      const nlohmann::json iv = cost.value("interval", nlohmann::json());
+      if (iv.is_array() && iv.size() == 2 && iv[0].is_number() && iv[1].is_number()) {
+        words += " (95% interval " + fmt::format("{:.6g}", iv[0].get<double>()) + "\xE2\x80\x93" +
+                 fmt::format("{:.6g}", iv[1].get<double>()) + ")";
+      }
+      words += ", " + money(cost.value("per_1000_cases", 0.0)) + " per 1,000 cases.";
+    }
+    out->append("<p class=\"note\" id=\"cost\">");
+    AppendHtmlText(out, words);
     out->append("</p>");
   }
   const nlohmann::json unstable = aggregates.value("unstable_cases", nlohmann::json::array());

@@ -211,6 +211,27 @@ void AddGateCases(const DriftReport& drift, const std::string& classname, Testca
       drift.options.min_effect, kDriftAlpha, drift.correction);
   for (const std::string& metric : drift.gate.metrics) {
     out->Open(classname, "no regression in " + metric, 0);
+    if (metric == kLatencyGate) {
+      const LatencyGateVerdict& g = drift.latency_gate;
+      const LatencyDrift& l = drift.latency_p95;
+      if (!g.measured) {
+        out->Skip("the latency p95 is not measured on cases both runs share");
+        continue;
+      }
+      const std::string values = fmt::format(
+          "latency p95 base {:.1f} ms, candidate {:.1f} ms, ratio {:.3f}, 95% paired-bootstrap "
+          "interval [{:.3f}, {:.3f}], n {}",
+          l.base, l.cand, l.ratio, l.interval.low, l.interval.high, drift.latency_n);
+      if (g.regressed) {
+        out->Fail("failure", "plumb.regressed", "regressed: " + values,
+                  values + fmt::format("\nregressed means: the interval lies wholly above {:.3f} "
+                                       "(1 + --max-slowdown {:g})\n",
+                                       g.limit, drift.options.max_slowdown));
+      } else {
+        out->Pass();
+      }
+      continue;
+    }
     const MetricDrift* m = drift.Find(metric);
     if (m == nullptr) {
       out->Skip(metric + " is not measured on any case both runs share");

@@ -270,6 +270,25 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
     }
     out += ")\n";
   }
+  const nlohmann::json& ttft = JsonAt(aggregates, "ttft_ms");
+  if (JsonNumber(ttft, "n") > 0) {
+    out += fmt::format("\nTime to first token: p50 {} ms, p95 {} ms (n {})\n",
+                       Fixed(JsonNumber(ttft, "p50"), 1), Fixed(JsonNumber(ttft, "p95"), 1),
+                       Count(ttft, "n"));
+  }
+  const nlohmann::json& cost = JsonAt(aggregates, "cost");
+  if (JsonNumber(cost, "items") > 0) {
+    const std::string currency = MarkdownText(JsonString(cost, "currency"), 16);
+    const std::string unit = currency.empty() ? "" : " " + currency;
+    const nlohmann::json& i = JsonAt(cost, "interval");
+    const std::string interval =
+        i.is_array() && i.size() == 2 && i[0].is_number() && i[1].is_number()
+            ? fmt::format("[{:.6g}, {:.6g}]", i[0].get<double>(), i[1].get<double>())
+            : "n/a";
+    out += fmt::format("\nCost: {:.6g}{} in all over {} replies, per case mean {:.6g}{} {}\n",
+                       JsonNumber(cost, "total"), unit, Count(cost, "items"),
+                       JsonNumber(cost, "mean"), unit, interval);
+  }
   const nlohmann::json& warmup = JsonAt(aggregates, "warmup");
   if (JsonNumber(warmup, "n") > 0) {
     const bool first_call = JsonString(warmup, "signal") == "first_call";
@@ -428,6 +447,32 @@ std::string FormatDriftMarkdown(const DriftReport& r) {
     out += fmt::format("\nLatency (n {}): p50 ×{} {}, p95 ×{} {}\n", r.latency_n,
                        Fixed(r.latency_p50.ratio, 3), IntervalText(r.latency_p50.interval, false),
                        Fixed(r.latency_p95.ratio, 3), IntervalText(r.latency_p95.interval, false));
+  }
+  if (r.latency_gate.gated) {
+    const LatencyGateVerdict& g = r.latency_gate;
+    out += fmt::format("\n{} (gated): {}\n", Code(kLatencyGate),
+                       !g.measured ? std::string("not measured")
+                       : g.regressed
+                           ? fmt::format("**regressed**: the p95 ratio's interval lies above ×{}",
+                                         Fixed(g.limit, 3))
+                           : fmt::format("steady: the p95 ratio's interval reaches ×{} or below",
+                                         Fixed(g.limit, 3)));
+  }
+  if (r.ttft_p50.available) {
+    out += fmt::format("\nTime to first token (n {}): p50 ×{} {}, p95 ×{} {}\n", r.ttft_n,
+                       Fixed(r.ttft_p50.ratio, 3), IntervalText(r.ttft_p50.interval, false),
+                       Fixed(r.ttft_p95.ratio, 3), IntervalText(r.ttft_p95.interval, false));
+  }
+  for (const auto& [label, a] :
+       {std::pair<const char*, const AmountDrift*>{"Tokens in per case", &r.input_tokens},
+        {"Tokens out per case", &r.output_tokens},
+        {"Cost per case", &r.cost}}) {
+    if (!a->available) continue;
+    const std::string unit =
+        a == &r.cost && !r.cost_currency.empty() ? " " + MarkdownText(r.cost_currency, 16) : "";
+    out += fmt::format("\n{} (n {}): {} → {}{}, ×{} {}\n", label, a->n,
+                       fmt::format("{:.6g}", a->base_mean), fmt::format("{:.6g}", a->cand_mean),
+                       unit, Fixed(a->ratio, 3), IntervalText(a->interval, false));
   }
   if (r.warmup.available) {
     out += fmt::format("\nWarm-up: mean {} → {} ms, ×{} {} (workers {} / {})\n",

@@ -30,6 +30,23 @@ void AppendMetricRows(std::string* out, const std::vector<MetricAggregate>& metr
 
 }  // namespace
 
+std::string FormatMoney(double amount, const std::string& currency) {
+  // Per-case costs are often fractions of a cent: six significant digits, never rounded to 0.
+  const std::string number = fmt::format("{:.6g}", amount);
+  return currency.empty() ? number : number + " " + currency;
+}
+
+std::string FormatCostLine(const TokenPrice& price, int64_t items, double total,
+                           const metrics::MetricSummary& per_case) {
+  if (items == 0) {
+    return fmt::format("  {:<20} no reply carried the token counts its price needs\n", "cost");
+  }
+  return fmt::format(
+      "  {:<20} {} in all over {} replies; per case mean {} [{}, {}] (n {})\n", "cost",
+      FormatMoney(total, price.currency), items, FormatMoney(per_case.mean, price.currency),
+      FormatMoney(per_case.interval.low, ""), FormatMoney(per_case.interval.high, ""), per_case.n);
+}
+
 std::string FormatCauseRows(const CauseBreakdown& causes, const Palette& p) {
   if (causes.failed == 0) return fmt::format("  all {} cases passed\n", causes.cases);
   std::string out = fmt::format("  {}failed {} of {} cases{}: {}\n", p.bad, causes.failed,
@@ -96,8 +113,25 @@ std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
     if (!t.tag.empty() || (t.metric != "latency_p50_ms" && t.metric != "latency_p95_ms")) continue;
     out += fmt::format("  {:<20} {}\n", t.metric, ThresholdCell(thresholds, "", t.metric, p));
   }
+  if (const metrics::LatencySummary& t = run.ttft; t.n > 0) {
+    out += fmt::format(
+        "  {:<20} p50 {:.2f} [{:.2f}, {:.2f}]  p90 {:.2f}  p95 {:.2f} [{:.2f}, {:.2f}]  p99 {:.2f} "
+        " "
+        "mean {:.2f}  max {:.2f}  (n {})\n",
+        "first token ms", t.p50, run.ttft_p50_interval.low, run.ttft_p50_interval.high, t.p90,
+        t.p95, run.ttft_p95_interval.low, run.ttft_p95_interval.high, t.p99, t.mean, t.max, t.n);
+  }
   if (run.input_tokens + run.output_tokens > 0) {
-    out += fmt::format("  {:<20} {} in, {} out\n", "tokens", run.input_tokens, run.output_tokens);
+    out += fmt::format("  {:<20} {} in, {} out", "tokens", run.input_tokens, run.output_tokens);
+    if (run.usage_items > 0) {
+      out += fmt::format(" (mean {:.1f} in, {:.1f} out over {} replies)",
+                         static_cast<double>(run.input_tokens) / run.usage_items,
+                         static_cast<double>(run.output_tokens) / run.usage_items, run.usage_items);
+    }
+    out += "\n";
+  }
+  if (run.price) {
+    out += FormatCostLine(*run.price, run.cost_items, run.cost_total, run.cost_per_case);
   }
 
   if (!run.tags.empty()) {

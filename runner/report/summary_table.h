@@ -36,6 +36,14 @@ std::string FormatSummary(const SummaryHeader& header, const RunAggregates& aggr
 /// "all N cases passed" when none failed.
 std::string FormatCauseRows(const CauseBreakdown& causes, const Palette& palette);
 
+/// An amount of money as the reports write it: six significant digits (a reply's cost is often a
+/// fraction of a cent), then the currency when there is one: "0.000675 EUR".
+std::string FormatMoney(double amount, const std::string& currency);
+/// The summary's cost line (issue 21): the run's total, how many replies had a cost, and the
+/// mean per case with its 95% interval; or a line saying no reply carried the counts it needs.
+std::string FormatCostLine(const TokenPrice& price, int64_t items, double total,
+                           const metrics::MetricSummary& per_case);
+
 }  // namespace plumb
 
 #endif  // PLUMB_RUNNER_REPORT_SUMMARY_TABLE_H_

@@ -49,6 +49,7 @@ void EndCaseRecord(const CaseRecord& r, JsonWriter* out) {
   w.PlainKey("latency_ms").Double(r.latency_ms);
   if (r.latency_lower_bound) w.PlainKey("latency_lower_bound").Bool(true);
   if (r.first_call) w.PlainKey("first_call").Bool(true);
+  if (r.ttft_ms) w.PlainKey("ttft_ms").Double(*r.ttft_ms);
   w.PlainKey("attempts").Int(r.attempts);
   // The service's own timing, when the pipeline's `reply:` block maps it.
   if (r.error.empty() && r.parsed.service_latency_ms) {
@@ -72,7 +73,9 @@ void EndCaseRecord(const CaseRecord& r, JsonWriter* out) {
     w.PlainKey("usage").BeginObject();
     if (r.parsed.input_tokens) w.PlainKey("input_tokens").Int(*r.parsed.input_tokens);
     if (r.parsed.output_tokens) w.PlainKey("output_tokens").Int(*r.parsed.output_tokens);
-    w.EndObject().PlainKey("error").Null();
+    w.EndObject();
+    if (r.cost) w.PlainKey("cost").Double(*r.cost);
+    w.PlainKey("error").Null();
   } else {
     w.PlainKey("answer").Null().PlainKey("abstained").Bool(false);
     w.PlainKey("citations").BeginArray().EndArray().PlainKey("retrieved").Null();
@@ -114,6 +117,12 @@ bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* 
     r->latency_ms = json.at("latency_ms").get<double>();
     r->latency_lower_bound = json.value("latency_lower_bound", false);
     r->first_call = json.value("first_call", false);
+    if (auto ttft = json.find("ttft_ms"); ttft != json.end() && ttft->is_number()) {
+      r->ttft_ms = ttft->get<double>();
+    }
+    if (auto cost = json.find("cost"); cost != json.end() && cost->is_number()) {
+      r->cost = cost->get<double>();
+    }
     r->attempts = json.value("attempts", 1);
     const nlohmann::json& err = json.at("error");
     if (!err.is_null()) {

@@ -7,6 +7,7 @@
 
 #include <cstdint>
 #include <nlohmann/json.hpp>
+#include <optional>
 #include <string>
 
 #include "runner/base/json_writer.h"
@@ -31,6 +32,10 @@ struct CaseRecord {
   /// A fresh worker's first reply with no ready signal: latency_ms includes its start-up, so it
   /// stays out of the latency distribution (it is the worker's first_call_ms).
   bool first_call = false;
+  /// A streamed reply's time to first token (CallResult::ttft_ms); journaled as "ttft_ms".
+  std::optional<double> ttft_ms;
+  /// What the reply cost at the pipeline's `price:` (runner/run/token_cost.h); "cost".
+  std::optional<double> cost;
   int attempts = 1;
   std::string error;  // empty when the reply was valid
   std::string stdout_excerpt;

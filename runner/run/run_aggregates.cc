@@ -1,11 +1,14 @@
 #include "runner/run/run_aggregates.h"
 
 #include <algorithm>
+#include <cmath>
 #include <map>
 #include <set>
 #include <utility>
 
+#include "metrics/percentile_bootstrap.h"
 #include "runner/base/parallel_chunks.h"
+#include "runner/suite/pipeline_config_loader.h"
 
 namespace plumb {
 namespace {
@@ -172,8 +175,10 @@ const metrics::MetricSummary* RunAggregates::Find(const std::string& metric,
 RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& outcomes) {
   RunAggregates run;
   std::vector<CaseValues> per_case(suite.cases.size());
-  std::vector<double> latencies, lower_bounds;
+  std::vector<double> latencies, lower_bounds, ttfts;
   latencies.reserve(outcomes.size());
+  std::vector<double> cost_sum(suite.cases.size(), 0.0);
+  std::vector<int> cost_count(suite.cases.size(), 0);
   for (const CaseOutcome& o : outcomes) {
     CaseValues& v = per_case[o.case_index];
     (v.first_values == nullptr ? v.first_values : v.more_values.emplace_back()) = &o.scores.values;
@@ -197,8 +202,28 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
     }
     run.input_tokens += o.input_tokens;
     run.output_tokens += o.output_tokens;
+    run.usage_items += o.has_usage ? 1 : 0;
+    if (o.ttft_ms && !o.scores.errored) ttfts.push_back(*o.ttft_ms);
+    if (o.cost) {
+      run.cost_items += 1;
+      run.cost_total += *o.cost;
+      cost_sum[o.case_index] += *o.cost;
+      cost_count[o.case_index] += 1;
+    }
   }
   run.latency = metrics::SummarizeLatency(std::move(latencies), std::move(lower_bounds));
+  if (!ttfts.empty()) {
+    run.ttft_p50_interval = metrics::BootstrapPercentileInterval(ttfts, 50);
+    run.ttft_p95_interval = metrics::BootstrapPercentileInterval(ttfts, 95);
+  }
+  run.ttft = metrics::SummarizeLatency(std::move(ttfts));
+  if (run.cost_items > 0) {
+    std::vector<double> per_case;  // each case's mean over its repeats with a cost
+    for (size_t i = 0; i < cost_sum.size(); ++i) {
+      if (cost_count[i] > 0) per_case.push_back(cost_sum[i] / cost_count[i]);
+    }
+    run.cost_per_case = metrics::SummarizeMetric(per_case, /*binary=*/false);
+  }
 
   // groups[0] holds the whole run's cases, then one group per tag in order of first
   // appearance (tag_groups has them sorted); each is summarized on its own.
@@ -256,6 +281,29 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
     run.tags.push_back(std::move(t));
   }
   return run;
+}
+
+std::optional<TokenPrice> PriceFromConfig(const nlohmann::json& config) {
+  if (!config.is_object()) return std::nullopt;
+  auto it = config.find("price");
+  if (it == config.end() || !it->is_object()) return std::nullopt;
+  const nlohmann::json& p = *it;
+  TokenPrice price;
+  auto amount = [&](const char* key, double* out) {
+    auto v = p.find(key);
+    if (v == p.end() || !v->is_number()) return false;
+    *out = v->get<double>();
+    return *out >= 0;
+  };
+  if (!amount("input", &price.input) || !amount("output", &price.output)) return std::nullopt;
+  if (auto per = p.find("per"); per != p.end()) {
+    const std::string text = per->is_string() ? per->get<std::string>() : per->dump();
+    if (!ParseTokenCount(text, &price.per)) return std::nullopt;
+  }
+  if (auto currency = p.find("currency"); currency != p.end() && currency->is_string()) {
+    price.currency = currency->get<std::string>();
+  }
+  return price;
 }
 
 WarmupSummary SummarizeWarmups(const std::vector<WorkerWarmup>& warmups) {
@@ -386,6 +434,53 @@ nlohmann::json WarmupToJson(const std::vector<WorkerWarmup>& warmups) {
           {"mean_ms", s.mean_ms}, {"max_ms", s.max_ms}, {"workers", workers}};
 }
 
+nlohmann::json IntervalToJson(const metrics::Interval& interval) {
+  if (!std::isfinite(interval.low) || !std::isfinite(interval.high)) return nullptr;
+  return {interval.low, interval.high};
+}
+
+/// Token totals, the items that carried a count, and the means per such item.
+nlohmann::json UsageToJson(const RunAggregates& run) {
+  const double items = static_cast<double>(run.usage_items);
+  return {{"input_tokens", run.input_tokens},
+          {"output_tokens", run.output_tokens},
+          {"items", run.usage_items},
+          {"mean_input_tokens", run.usage_items > 0 ? run.input_tokens / items : 0.0},
+          {"mean_output_tokens", run.usage_items > 0 ? run.output_tokens / items : 0.0}};
+}
+
+nlohmann::json TtftToJson(const RunAggregates& run) {
+  const metrics::LatencySummary& t = run.ttft;
+  return {{"n", t.n},
+          {"p50", t.p50},
+          {"p90", t.p90},
+          {"p95", t.p95},
+          {"p99", t.p99},
+          {"mean", t.mean},
+          {"max", t.max},
+          {"p50_interval", t.n > 0 ? IntervalToJson(run.ttft_p50_interval) : nullptr},
+          {"p95_interval", t.n > 0 ? IntervalToJson(run.ttft_p95_interval) : nullptr}};
+}
+
+/// null without a price; else the price, the items with a cost, their total, and the mean per
+/// case with its interval (and per 1,000 cases, the mean times 1,000).
+nlohmann::json CostToJson(const RunAggregates& run) {
+  if (!run.price) return nullptr;
+  const TokenPrice& p = *run.price;
+  const metrics::MetricSummary& c = run.cost_per_case;
+  const bool any = run.cost_items > 0;
+  return {{"currency", p.currency},
+          {"input", p.input},
+          {"output", p.output},
+          {"per", p.per},
+          {"items", run.cost_items},
+          {"total", run.cost_total},
+          {"n", any ? c.n : 0},
+          {"mean", any ? nlohmann::json(c.mean) : nlohmann::json(nullptr)},
+          {"interval", any ? IntervalToJson(c.interval) : nullptr},
+          {"per_1000_cases", any ? nlohmann::json(c.mean * 1000) : nlohmann::json(nullptr)}};
+}
+
 nlohmann::json MetricsToJson(const std::vector<MetricAggregate>& list) {
   nlohmann::json out = nlohmann::json::object();
   for (const MetricAggregate& m : list) out[m.metric] = SummaryToJson(m.summary);
@@ -416,7 +511,9 @@ nlohmann::json AggregatesToJson(const RunAggregates& run) {
             {"p99", l.p99},
             {"mean", l.mean},
             {"max", l.max}}},
-          {"usage", {{"input_tokens", run.input_tokens}, {"output_tokens", run.output_tokens}}},
+          {"usage", UsageToJson(run)},
+          {"ttft_ms", TtftToJson(run)},
+          {"cost", CostToJson(run)},
           {"unstable_cases", run.unstable_cases},
           {"warmup", WarmupToJson(run.warmups)}};
 }

@@ -43,6 +43,18 @@ struct RunAggregates {
   metrics::LatencySummary latency;       // items that did not error, and timeouts as lower bounds
   int64_t input_tokens = 0;
   int64_t output_tokens = 0;
+  int64_t usage_items = 0;  // items whose reply carried a token count
+  /// Streamed replies' time to first token (issue 21): percentiles as for latency_ms (no lower
+  /// bounds: a reply that errored has none), and bootstrap intervals of p50 and p95.
+  metrics::LatencySummary ttft;
+  metrics::Interval ttft_p50_interval, ttft_p95_interval;
+  /// What the replies cost at the pipeline's price (issue 21): the items with a cost, their sum,
+  /// and the mean per case (repeats averaged) with its bootstrap interval. `price` is the
+  /// pipeline's (FinishRun sets it from the recorded config); without one there is no cost.
+  std::optional<TokenPrice> price;
+  int64_t cost_items = 0;
+  double cost_total = 0;
+  metrics::MetricSummary cost_per_case;
   std::vector<std::string> unstable_cases;  // pass/fail differs between repeats
   /// Failed cases (not every repeat passed) by cause; a case's cause is its first failed
   /// repeat's.
@@ -66,6 +78,9 @@ struct WarmupSummary {
   double mean_ms = 0;
   double max_ms = 0;
 };
+/// The price a run's recorded pipeline config names (`price:` as written), or nullopt.
+std::optional<TokenPrice> PriceFromConfig(const nlohmann::json& pipeline_config);
+
 WarmupSummary SummarizeWarmups(const std::vector<WorkerWarmup>& warmups);
 /// run.json's aggregates.warmup back into records; entries it cannot read are skipped.
 std::vector<WorkerWarmup> WarmupsFromJson(const nlohmann::json& warmup);

@@ -8,6 +8,7 @@
 #include <charconv>
 #include <cmath>
 #include <limits>
+#include <optional>
 #include <string_view>
 #include <unordered_map>
 
@@ -203,6 +204,13 @@ void SizeRows(RunValues* values) {
   values->latency_sum.assign(rows, 0);
   values->latency_count.assign(rows, 0);
   values->latency_bounds.assign(rows, 0);
+  values->ttft_sum.assign(rows, 0);
+  values->ttft_count.assign(rows, 0);
+  values->input_tokens_sum.assign(rows, 0);
+  values->output_tokens_sum.assign(rows, 0);
+  values->usage_count.assign(rows, 0);
+  values->cost_sum.assign(rows, 0);
+  values->cost_count.assign(rows, 0);
   values->first_offset.assign(rows, -1);
   values->first_record.assign(rows, nullptr);
   values->first_failed_offset.assign(rows, -1);
@@ -240,6 +248,9 @@ struct RecordFields {
   bool errored = false;
   bool pass = false;
   std::vector<std::pair<std::string, double>> scores;
+  std::optional<double> ttft_ms;
+  std::optional<double> cost;
+  std::optional<double> input_tokens, output_tokens;
 };
 
 void Fold(uint32_t row, const RecordFields& f, MetricInterner* interner, RunValues* values) {
@@ -256,6 +267,20 @@ void Fold(uint32_t row, const RecordFields& f, MetricInterner* interner, RunValu
     values->latency_sum[row] += f.latency_ms;
     values->latency_count[row] += 1;
     values->latency_bounds[row] += f.latency_lower_bound ? 1 : 0;
+  }
+  if (f.errored) return;
+  if (f.ttft_ms) {
+    values->ttft_sum[row] += *f.ttft_ms;
+    values->ttft_count[row] += 1;
+  }
+  if (f.input_tokens || f.output_tokens) {
+    values->input_tokens_sum[row] += f.input_tokens.value_or(0);
+    values->output_tokens_sum[row] += f.output_tokens.value_or(0);
+    values->usage_count[row] += 1;
+  }
+  if (f.cost) {
+    values->cost_sum[row] += *f.cost;
+    values->cost_count[row] += 1;
   }
 }
 
@@ -395,7 +420,10 @@ bool QuickLine(std::string_view line, RecordFields* f) {
     kAnswer = 64,
     kBound = 128,
     kCause = 256,
-    kFirstCall = 512
+    kFirstCall = 512,
+    kTtft = 1024,
+    kCost = 2048,
+    kUsage = 4096
   };
   int seen = 0;
   auto once = [&](int bit) {
@@ -407,6 +435,10 @@ bool QuickLine(std::string_view line, RecordFields* f) {
   f->pass = false;
   f->errored = false;
   f->latency_lower_bound = false;
+  f->ttft_ms.reset();
+  f->cost.reset();
+  f->input_tokens.reset();
+  f->output_tokens.reset();
   bool first = true;
   std::string key, text;
   while (true) {
@@ -426,6 +458,28 @@ bool QuickLine(std::string_view line, RecordFields* f) {
     } else if (key == "first_call") {  // not folded; read so that a wrong type declines
       bool first_call;
       ok = once(kFirstCall) && s.Bool(&first_call);
+    } else if (key == "ttft_ms") {
+      double v;
+      ok = once(kTtft) && s.Number(&v);
+      f->ttft_ms = v;
+    } else if (key == "cost") {
+      double v;
+      ok = once(kCost) && s.Number(&v);
+      f->cost = v;
+    } else if (key == "usage") {
+      if (!once(kUsage) || !s.Expect('{')) return false;
+      bool first_member = true;
+      while (true) {
+        if (!s.NextKey(&first_member, &text)) return false;
+        if (s.ObjectDone()) break;
+        double v;
+        if (text == "input_tokens" || text == "output_tokens") {
+          if (!s.Number(&v)) return false;
+          (text == "input_tokens" ? f->input_tokens : f->output_tokens) = v;
+        } else if (!s.Skip()) {
+          return false;
+        }
+      }
     } else if (key == "cause") {  // any string: one this plumb does not know is left kNone
       ok = once(kCause) && s.String(&text);
     } else if (key == "answer") {
@@ -683,6 +737,12 @@ void RunValuesOf(const LoadedRun& run, RunValues* values) {
     f.errored = !r.error.empty();
     f.latency_ms = r.latency_ms;
     f.latency_lower_bound = r.latency_lower_bound;
+    f.ttft_ms = r.ttft_ms;
+    f.cost = r.cost;
+    f.input_tokens.reset();
+    f.output_tokens.reset();
+    if (r.parsed.input_tokens) f.input_tokens = static_cast<double>(*r.parsed.input_tokens);
+    if (r.parsed.output_tokens) f.output_tokens = static_cast<double>(*r.parsed.output_tokens);
     Fold(row, f, &interner, values);
     const CaseRecord*& first = values->first_record[row];
     if (first == nullptr || r.repeat < first->repeat) first = &r;

@@ -43,6 +43,14 @@ struct RunValues {
   std::vector<double> latency_sum;
   std::vector<int> latency_count;   // records without an error, or timed out (at the timeout)
   std::vector<int> latency_bounds;  // of those, timeouts (a lower bound)
+  /// Issue 21, over the records without an error: streamed replies' time to first token, token
+  /// counts (records whose reply carried one) and cost (records with one).
+  std::vector<double> ttft_sum;
+  std::vector<int> ttft_count;
+  std::vector<double> input_tokens_sum, output_tokens_sum;
+  std::vector<int> usage_count;
+  std::vector<double> cost_sum;
+  std::vector<int> cost_count;
   /// The row's record with the lowest repeat (the first of equals), and its failed record with
   /// the lowest repeat: the byte offset in dir/cases.jsonl (LoadRunValues), or the address in
   /// the LoadedRun (RunValuesOf); -1 and nullptr when there is none.
@@ -84,7 +92,8 @@ struct RunValues {
 
 /// Reads `dir`/run.json and `dir`/cases.jsonl into *values in one pass over each, keeping only
 /// the values above. A member it reads (a case's "gold_hash" and "tags"; a record's "id",
-/// "repeat", "latency_ms", "latency_lower_bound", "error", "scores", "pass" and "cause") is read as
+/// "repeat", "latency_ms", "latency_lower_bound", "ttft_ms", "usage", "cost", "error", "scores",
+/// "pass" and "cause") is read as
 /// LoadRun reads it; the rest of each file is stepped over by its brackets, quotes and escapes, not
 /// checked as strictly as LoadRun checks it (a reply's citations, say, are not validated). Whenever
 /// that quick reading declines a file (any line it does not take as LoadRun would, a torn last line

@@ -4,6 +4,7 @@
 
 #include "runner/pipeline/excerpt.h"
 #include "runner/pipeline/reply_mapping.h"
+#include "runner/run/token_cost.h"
 
 namespace plumb {
 namespace {
@@ -26,6 +27,7 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
   record.latency_lower_bound = call.timed_out;
   record.first_call = call.first_call;
   record.attempts = call.attempts;
+  if (call.error.empty()) record.ttft_ms = call.ttft_ms;
   // A pipeline may echo a secret it was given, as is or JSON-escaped; nothing it says reaches a
   // file unredacted. The reply is parsed as sent and its decoded strings are redacted (a mask
   // put into the raw text could break its JSON); the raw text is redacted, escaped forms too,
@@ -61,6 +63,10 @@ CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
       record.response = RecordedBody(redacted_body(), nullptr);  // an excerpt of the text
     }
   }
+  if (record.error.empty() && pipeline.price) {
+    record.cost =
+        TokenCost(*pipeline.price, record.parsed.input_tokens, record.parsed.output_tokens);
+  }
   record.scores =
       scorer.Score(case_index, record.error.empty() ? &record.parsed : nullptr, pipeline.offsets);
   return record;
@@ -85,6 +91,9 @@ CaseOutcome OutcomeOf(const CaseRecord& record, size_t case_index) {
   outcome.attempts = record.attempts;
   outcome.input_tokens = record.parsed.input_tokens.value_or(0);
   outcome.output_tokens = record.parsed.output_tokens.value_or(0);
+  outcome.has_usage = record.parsed.input_tokens || record.parsed.output_tokens;
+  outcome.ttft_ms = record.ttft_ms;
+  outcome.cost = record.cost;
   return outcome;
 }
 

@@ -10,6 +10,7 @@
 #include <atomic>
 #include <cstdint>
 #include <functional>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -40,6 +41,9 @@ struct CaseOutcome {
   int attempts = 1;
   int64_t input_tokens = 0;
   int64_t output_tokens = 0;
+  bool has_usage = false;         // the reply carried a token count
+  std::optional<double> ttft_ms;  // a streamed reply's time to first token
+  std::optional<double> cost;     // at the pipeline's price
 };
 
 struct ScheduleResult {

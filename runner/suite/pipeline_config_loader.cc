@@ -15,12 +15,16 @@ namespace plumb {
 namespace {
 
 const std::vector<std::string> kSubprocessKeys = {"command", "mode", "env", "cwd", "ready"};
-const std::vector<std::string> kHttpKeys = {"url",     "method", "headers",  "request",
-                                            "retries", "rate",   "insecure", "ready_url"};
+const std::vector<std::string> kHttpKeys = {"url",  "method",   "headers",   "request", "retries",
+                                            "rate", "insecure", "ready_url", "stream"};
 // Keys an earlier format used; each is refused with its entry in the new form.
 const std::vector<std::string> kRetiredKeys = {"body", "map"};
-const std::vector<std::string> kCommonKeys = {"timeout", "jobs",    "max_response_bytes",
-                                              "reply",   "offsets", "startup_timeout"};
+const std::vector<std::string> kCommonKeys = {
+    "timeout", "jobs", "max_response_bytes", "reply", "offsets", "startup_timeout", "price"};
+
+// The answer of a streamed reply is the text delta of the common chat-completion streaming
+// shape unless `reply: {answer: ...}` names another (issue 21).
+constexpr const char* kDefaultStreamDelta = "/choices/0/delta/content";
 
 bool Contains(const std::vector<std::string>& names, const std::string& name) {
   return std::find(names.begin(), names.end(), name) != names.end();
@@ -237,6 +241,21 @@ class PipelineReader {
           check_.Error(value, "invalid max_response_bytes " + DescribeValue(value),
                        "write a size such as 16MiB or 512KiB, or a number of bytes");
         }
+      } else if (key == "stream") {
+        std::string format;
+        if (!check_.String(value, key, &format)) continue;
+        if (format == "sse") {
+          config->stream = StreamFormat::kSse;
+        } else if (format == "lines") {
+          config->stream = StreamFormat::kLines;
+        } else {
+          check_.Error(value, "unknown stream format '" + format + "'",
+                       "write 'stream: sse' for server-sent events or 'stream: lines' for one "
+                       "JSON object per line; " +
+                           DidYouMeanHint(format, {"sse", "lines"}, "formats"));
+        }
+      } else if (key == "price") {
+        ReadPrice(value, config);
       } else if (key == "offsets") {
         std::string unit;
         if (!check_.String(value, key, &unit)) continue;
@@ -251,6 +270,9 @@ class PipelineReader {
                    "a per-case process starts for every case, so its start-up is part of each "
                    "case's latency; remove 'ready' or use mode: persistent");
     }
+    if (config->stream != StreamFormat::kNone && config->reply.answer.empty()) {
+      config->reply.answer = kDefaultStreamDelta;
+    }
     std::sort(config->secrets.begin(), config->secrets.end());
     config->secrets.erase(std::unique(config->secrets.begin(), config->secrets.end()),
                           config->secrets.end());
@@ -259,6 +281,58 @@ class PipelineReader {
  private:
   static std::string DescribeValue(const SourceNode& value) {
     return value.IsScalar() ? "'" + value.scalar + "'" : "(" + DescribeNode(value) + ")";
+  }
+
+  /// `price: {input: 0.50, output: 1.50, per: 1M, currency: EUR}`.
+  void ReadPrice(const SourceNode& node, PipelineConfig* config) {
+    auto keys = check_.Keys(node, {"input", "output", "per", "currency"},
+                            "in the price of pipeline '" + config->name + "'", "a price");
+    if (!node.IsMapping()) return;
+    TokenPrice price;
+    bool ok = true;
+    for (const char* side : {"input", "output"}) {
+      auto it = keys.find(side);
+      if (it == keys.end()) {
+        check_.Error(node, std::string("the price has no '") + side + "'",
+                     "give the price of input and output tokens, e.g. price: {input: 0.50, "
+                     "output: 1.50, per: 1M, currency: EUR}");
+        ok = false;
+        continue;
+      }
+      double amount = 0;
+      if (!check_.Number(it->second->value, side, &amount)) {
+        ok = false;
+        continue;
+      }
+      if (!(amount >= 0) || !std::isfinite(amount)) {
+        check_.Error(it->second->value,
+                     std::string("'") + side + "' must be a price at or above 0");
+        ok = false;
+        continue;
+      }
+      (std::string(side) == "input" ? price.input : price.output) = amount;
+    }
+    if (auto it = keys.find("per"); it != keys.end()) {
+      std::string text;
+      if (!ScalarAsString(it->second->value, &text) || !ParseTokenCount(text, &price.per)) {
+        check_.Error(it->second->value, "invalid 'per' " + DescribeValue(it->second->value),
+                     "write how many tokens the prices are for: 1M, 1K or a number such as 1000");
+        ok = false;
+      }
+    }
+    if (auto it = keys.find("currency"); it != keys.end()) {
+      if (!check_.String(it->second->value, "currency", &price.currency)) {
+        ok = false;
+      } else if (price.currency.size() > 16 ||
+                 !std::all_of(price.currency.begin(), price.currency.end(), [](char c) {
+                   return std::isalpha(static_cast<unsigned char>(c)) != 0;
+                 })) {
+        check_.Error(it->second->value, "invalid currency '" + price.currency + "'",
+                     "write a currency code in letters, such as EUR or USD");
+        ok = false;
+      }
+    }
+    if (ok) config->price = price;
   }
 
   bool ReadExpanded(const SourceNode& node, const std::string& field, PipelineConfig* config,
@@ -398,6 +472,22 @@ bool ParseByteSize(std::string_view text, int64_t* bytes) {
   double total = value * scale;
   if (total < 1 || total > 9e15) return false;
   *bytes = int64_t(total);
+  return true;
+}
+
+bool ParseTokenCount(std::string_view text, double* tokens) {
+  double value;
+  std::string_view unit;
+  if (!LeadingNumber(text, &value, &unit)) return false;
+  if (unit == "K" || unit == "k") {
+    value *= 1e3;
+  } else if (unit == "M") {
+    value *= 1e6;
+  } else if (!unit.empty()) {
+    return false;
+  }
+  if (!(value >= 1) || value > 1e15) return false;
+  *tokens = value;
   return true;
 }
 

@@ -6,8 +6,9 @@
 /// values, and keeps a redacted copy of the config for run.json. Called by the suite loader.
 ///
 /// Keys: subprocess pipelines (`command`) take mode, env, cwd; HTTP pipelines (`url`) take
-/// method, headers, request, retries, rate, insecure; both take timeout, jobs, max_response_bytes,
-/// reply and offsets (the last two describe the reply, which both adapters parse the same way).
+/// method, headers, request, retries, rate, insecure, ready_url and stream; both take timeout,
+/// jobs, max_response_bytes, reply, offsets (the last two describe the reply, which both adapters
+/// parse the same way), startup_timeout and price.
 
 #include <cstdint>
 #include <string>
@@ -40,6 +41,8 @@ void ReadPipelines(const SourceNode& pipelines, const PipelineExpansion& expansi
 bool ParseDuration(std::string_view text, int64_t* milliseconds);
 /// "16MiB", "512KiB", "1GiB", "100B" or a bare number of bytes, > 0. False otherwise.
 bool ParseByteSize(std::string_view text, int64_t* bytes);
+/// "1M", "1K" (or "1k") or a bare number of tokens, at least 1. False otherwise.
+bool ParseTokenCount(std::string_view text, double* tokens);
 /// "20/s" or "100/m" (decimals allowed), > 0, as requests per second. False otherwise.
 bool ParseRate(std::string_view text, double* per_second);
 

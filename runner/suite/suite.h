@@ -107,6 +107,17 @@ struct ReplyFields {
 };
 
 enum class PipelineKind { kSubprocess, kHttp };
+/// `stream:` of an HTTP pipeline (issue 21): the reply arrives as server-sent events (`sse`) or as
+/// one JSON object per line (`lines`), read as they arrive; kNone: one body.
+enum class StreamFormat { kNone, kSse, kLines };
+
+/// `price:` (issue 21): what a pipeline's tokens cost, `input` and `output` per `per` tokens.
+struct TokenPrice {
+  double input = 0;
+  double output = 0;
+  double per = 1e6;      // `per: 1M`
+  std::string currency;  // as written ("EUR"); may be empty
+};
 enum class SubprocessMode { kPersistent, kPerCase };
 
 struct PipelineConfig {
@@ -138,6 +149,8 @@ struct PipelineConfig {
   bool insecure = false;       // `insecure: true`: skip TLS certificate verification
   /// `ready_url:`: polled with GET until it answers 2xx before the first request is sent.
   std::optional<ExpandedString> ready_url;
+  /// `stream:`: read the reply as events; the answer is joined from reply.answer in each event.
+  StreamFormat stream = StreamFormat::kNone;
 
   // Both adapters.
   ReplyFields reply;  // `reply:`; where the values plumb scores are in the reply
@@ -149,6 +162,8 @@ struct PipelineConfig {
   /// Unit of the offsets in the reply's citations and retrieved items (`offsets:`); the runner
   /// converts them to code points before scoring.
   metrics::OffsetUnit offsets = metrics::OffsetUnit::kCodePoints;
+  /// `price:`; absent: the run reports tokens but no cost.
+  std::optional<TokenPrice> price;
 
   /// Every secret value that `${VAR}` expansion produced, for redaction of excerpts.
   std::vector<std::string> secrets;
