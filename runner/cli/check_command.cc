@@ -9,6 +9,7 @@
 #include <sstream>
 
 #include "runner/base/sha256.h"
+#include "runner/cli/grader_session.h"
 #include "runner/run/prepared_suite.h"
 
 namespace plumb {
@@ -227,6 +228,7 @@ int CheckCommand(const CheckOptions& options) {
                     /*keep_unlocated_quotes=*/since)) {
     return 2;
   }
+  if (!RefuseUncalibratedGates(prepared.suite)) return 2;
   std::vector<StaleSpan> stale;
   std::vector<StaleSpan> moved;
   if (since) {

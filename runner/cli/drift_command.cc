@@ -7,11 +7,41 @@
 
 #include "runner/compare/drift_json.h"
 #include "runner/compare/drift_table.h"
+#include "runner/run/calibration.h"
 #include "runner/run/exit_code.h"
 #include "runner/suite/did_you_mean.h"
 
 namespace plumb {
 namespace {
+
+/// A grade gates a drift only when the candidate run recorded its grader as calibrated (a fresh
+/// record with enough labels and kappa's lower bound at min_kappa; runner/run/calibration.h).
+bool GradeMayGate(const std::string& metric, const RunValues& cand, std::string* error) {
+  const std::string name = metric.substr(6);
+  const nlohmann::json grading = cand.record.value("grading", nlohmann::json());
+  nlohmann::json grader;
+  if (grading.is_object() && grading.value("graders", nlohmann::json()).is_object()) {
+    grader = grading["graders"].value(name, nlohmann::json());
+  }
+  if (!grader.is_object()) return true;  // not a grade of this run: reported as not measured
+  const nlohmann::json calibration = grader.value("calibration", nlohmann::json());
+  if (calibration.is_object() && calibration.value("gate", false)) return true;
+  const nlohmann::json suite = cand.record.value("suite", nlohmann::json::object());
+  const std::string suite_path =
+      suite.is_object() ? suite.value("path", std::string("SUITE")) : std::string("SUITE");
+  const std::string why = calibration.is_object()
+                              ? calibration.value("why_not", std::string("is not calibrated"))
+                              : std::string("has no calibration recorded in the run");
+  *error = "--gate " + metric + ": a grade may gate only once it is calibrated, and in " +
+           cand.dir + " grader '" + name + "' " + why +
+           ". Label answers (plumb label RUN_DIR "
+           "--out FILE), run `" +
+           CalibrateCommandLine(suite_path, name) +
+           " --labels FILE`, "
+           "then `plumb grade " +
+           cand.dir + "` to record it; or take " + metric + " out of --gate";
+  return false;
+}
 
 /// A gated metric must be one plumb can measure; one the runs do not measure (citation_recall
 /// on a suite without gold spans) is allowed and reported as "not measured".
@@ -26,6 +56,7 @@ bool CheckGateAgainstRuns(const DriftOptions& options, const RunValues& base, co
     }
   }
   for (const std::string& metric : options.gate) {
+    if (metric.rfind("grade.", 0) == 0 && !GradeMayGate(metric, cand, error)) return false;
     if (metric == kLatencyGate || IsKnownCaseMetric(metric) ||
         std::find(measured.begin(), measured.end(), metric) != measured.end()) {
       continue;

@@ -34,6 +34,7 @@ int GradeCommand(const GradeOptions& options) {
     return kExitUsage;
   }
   const Suite& suite = prepared.suite;
+  if (!RefuseUncalibratedGates(suite)) return kExitUsage;
   if (suite.graders.empty()) {
     return Fail(suite.path + " defines no graders; add a graders: block (README, \"Graders\")");
   }

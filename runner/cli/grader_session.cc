@@ -1,9 +1,11 @@
 #include "runner/cli/grader_session.h"
 
 #include <algorithm>
+#include <cstdio>
 #include <filesystem>
 
 #include "runner/pipeline/adapter_factory.h"
+#include "runner/run/calibration.h"
 #include "runner/run/grader_identity.h"
 
 namespace plumb {
@@ -78,6 +80,8 @@ bool StartGraders(const PreparedSuite& prepared, const std::vector<std::string>&
     runtime.pipeline = pipeline;
     runtime.adapter = adapter.get();
     runtime.identity = GraderIdentity(*grader, *pipeline);
+    runtime.calibration =
+        CalibrationSummary(AssessCalibration(suite.path, *grader, runtime.identity), *grader);
     session->inputs.graders.push_back(runtime);
     session->adapters.push_back(std::move(adapter));
   }
@@ -103,6 +107,20 @@ std::string GradingSummaryLine(const GradingCounts& counts) {
             (failed == 1 ? "" : "s") + " (left undefined; reasons in cases.jsonl)";
   }
   return line;
+}
+
+}  // namespace plumb
+
+namespace plumb {
+
+bool RefuseUncalibratedGates(const Suite& suite, const std::vector<std::string>& extra_gates) {
+  if (suite.graders.empty()) return true;
+  const std::vector<std::string> problems =
+      UncalibratedGates(suite, AssessSuiteCalibrations(suite), extra_gates);
+  for (const std::string& problem : problems) {
+    std::fprintf(stderr, "%s: error: %s\n", suite.path.c_str(), problem.c_str());
+  }
+  return problems.empty();
 }
 
 }  // namespace plumb

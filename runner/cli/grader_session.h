@@ -52,6 +52,12 @@ bool StartGraders(const PreparedSuite& prepared, const std::vector<std::string>&
 /// grade.correctness failed on 2 answers (see cases.jsonl)".
 std::string GradingSummaryLine(const GradingCounts& counts);
 
+/// The fail-closed gate on grades: prints, for every grade metric the suite gates on (floors,
+/// case_pass, correct_from) or `extra_gates` names, whose grader is not calibrated (no fresh
+/// record with enough labels and kappa's lower bound at min_kappa), a sentence naming the
+/// command that calibrates it. False when it printed any: the command exits 2, nothing run.
+bool RefuseUncalibratedGates(const Suite& suite, const std::vector<std::string>& extra_gates = {});
+
 }  // namespace plumb
 
 #endif  // PLUMB_RUNNER_CLI_GRADER_SESSION_H_

@@ -56,6 +56,8 @@ std::string CommandExample(const std::string& command) {
       {"report", "plumb report plumb-out/pr --html report.html --junit junit.xml"},
       {"merge", "plumb merge shard-1 shard-2 shard-3 -o merged"},
       {"grade", "plumb grade plumb-out/pr --grader correctness"},
+      {"label", "plumb label plumb-out/pr --out labels.jsonl --sample 100 --seed 7"},
+      {"calibrate", "plumb calibrate suites/ferry.yaml --grader correctness --repeat 3"},
       {"help", "plumb help run"},
       {"completion", "plumb completion bash > /etc/bash_completion.d/plumb"}};
   auto found = examples->find(command);

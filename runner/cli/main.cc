@@ -11,11 +11,13 @@
 #include "runner/base/interrupt.h"
 #include "runner/base/report_stdout.h"
 #include "runner/base/terminal_palette.h"
+#include "runner/cli/calibrate_command.h"
 #include "runner/cli/check_command.h"
 #include "runner/cli/compare_command.h"
 #include "runner/cli/drift_command.h"
 #include "runner/cli/grade_command.h"
 #include "runner/cli/help_text.h"
+#include "runner/cli/label_command.h"
 #include "runner/cli/merge_command.h"
 #include "runner/cli/parse_failure.h"
 #include "runner/cli/report_command.h"
@@ -216,6 +218,40 @@ int main(int argc, char** argv) {
                       "Grade without the verdict cache (every grade is requested)");
   grade_cmd->add_flag("--json", grade.json, "Print the run record as JSON on stdout");
 
+  plumb::LabelOptions label;
+  CLI::App* label_cmd = app.add_subcommand(
+      "label", "Write a blind labelling sheet (JSONL) from a stored run, for plumb calibrate");
+  label_cmd->add_option("RUN_DIR", label.run_dir, "Run directory")->required();
+  label_cmd->add_option("-o,--out", label.out_path, "The sheet to write (a new file)")->required();
+  label_cmd
+      ->add_option("--sample", label.sample,
+                   "Draw N answers, stratified by the grader's verdict and tag (default: all)")
+      ->check(plumb::AtLeast(1));
+  label_cmd->add_option("--seed", label.seed, "Seed of the sample and of the sheet's order");
+  label_cmd->add_option("--grader", label.grader,
+                        "Grader whose verdicts stratify the sample (default: the first)");
+  label_cmd->add_option("--suite", label.suite_path,
+                        "Suite file (default: the one the run recorded)");
+
+  plumb::CalibrateOptions calibrate;
+  CLI::App* calibrate_cmd = app.add_subcommand(
+      "calibrate", "Check a grader against human labels; write calibration/NAME.json");
+  calibrate_cmd->add_option("SUITE", calibrate.suite_path, "Suite file (YAML)")->required();
+  calibrate_cmd->add_option("--grader", calibrate.grader, "The grader to calibrate")->required();
+  calibrate_cmd->add_option("--labels", calibrate.labels_path,
+                            "Human labels (JSONL; default: the grader's labels: file)");
+  calibrate_cmd
+      ->add_option("--repeat", calibrate.repeat,
+                   "Grade every answer K times and report self-consistency")
+      ->check(plumb::AtLeast(1));
+  calibrate_cmd->add_option("--pipelines", calibrate.pipelines_file,
+                            "YAML file whose `pipelines:` replace the suite's");
+  calibrate_cmd->add_option("--grade-cache", calibrate.cache.path,
+                            "Verdict cache file (default: .plumb/grades.sqlite beside the suite)");
+  calibrate_cmd->add_flag("--no-grade-cache", calibrate.cache.disabled,
+                          "Grade without the verdict cache (every grade is requested)");
+  calibrate_cmd->add_flag("--json", calibrate.json, "Print the calibration record as JSON");
+
   std::string help_topic;
   CLI::App* help_cmd = app.add_subcommand("help", "Describe a command: its options, an example");
   help_cmd->add_option("COMMAND", help_topic, "The command to describe (default: all)");
@@ -263,6 +299,8 @@ int main(int argc, char** argv) {
     return 0;
   }
   if (*grade_cmd) return plumb::GradeCommand(grade);
+  if (*label_cmd) return plumb::LabelCommand(label);
+  if (*calibrate_cmd) return plumb::CalibrateCommand(calibrate);
   if (*man_cmd) {
     std::fputs(plumb::ManPage(app, PLUMB_VERSION).c_str(), stdout);
     return 0;

@@ -4,6 +4,7 @@
 
 #include "runner/compare/drift.h"
 #include "runner/report/summary_table.h"
+#include "runner/run/calibration.h"
 #include "runner/run/error_reasons.h"
 #include "runner/run/exit_code.h"
 #include "runner/run/run_failures.h"
@@ -191,6 +192,7 @@ int ReportCommand(const ReportOptions& options) {
   header.pipeline = Text(At(r, "pipeline"), "name");
   header.seconds = SecondsBetween(Text(r, "started_at"), Text(r, "finished_at"));
   header.repeat = At(r, "repeat").is_number_integer() ? At(r, "repeat").get<int>() : 1;
+  header.grade_notes = GradeCalibrationNotes(r);
   RunVerdict verdict;
   verdict.code = static_cast<int>(Integer(At(r, "verdict"), "exit_code"));
   verdict.reason = Text(At(r, "verdict"), "reason");

@@ -454,6 +454,7 @@ int RunCommand(const RunOptions& options) {
     return kExitUsage;
   }
   const Suite& suite = prepared.suite;
+  if (!RefuseUncalibratedGates(suite)) return kExitUsage;
   std::vector<const PipelineConfig*> pipelines;
   if (options.pipelines.empty()) {
     if (suite.pipelines.empty()) {

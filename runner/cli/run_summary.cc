@@ -9,6 +9,7 @@
 #include "runner/base/atomic_file.h"
 #include "runner/base/terminal_palette.h"
 #include "runner/report/summary_table.h"
+#include "runner/run/calibration.h"
 #include "runner/run/error_reasons.h"
 
 namespace plumb {
@@ -49,7 +50,8 @@ bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, boo
   }
   if (json) finished->record = head + cases + tail;
   if (!json) {
-    SummaryHeader header{suite.name, context.pipeline_name, seconds, context.repeat};
+    SummaryHeader header{suite.name, context.pipeline_name, seconds, context.repeat, {}};
+    header.grade_notes = GradeCalibrationNotes({{"grading", context.grading}});
     const bool colour = UseColour(stdout);
     // The error reasons go under the errored cause, near the top.
     std::string reasons;

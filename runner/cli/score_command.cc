@@ -10,6 +10,7 @@
 
 #include "runner/base/interrupt.h"
 #include "runner/base/keep_until_exit.h"
+#include "runner/cli/grader_session.h"
 #include "runner/cli/run_command.h"
 #include "runner/cli/run_summary.h"
 #include "runner/run/prediction_reader.h"
@@ -28,6 +29,7 @@ int ScoreCommand(const ScoreOptions& options) {
   PreparedSuite& prepared = *owned;
   if (!PrepareSuite(options.suite_path, "", /*expand_env=*/false, &prepared)) return 2;
   const Suite& suite = prepared.suite;
+  if (!RefuseUncalibratedGates(suite)) return 2;
 
   const auto start = std::chrono::steady_clock::now();
   const std::string run_dir = RunDirectory(options.out_dir, suite.name, "predictions", false);

@@ -19,6 +19,7 @@
 #include "runner/report/source_excerpt.h"
 #include "runner/report/svg_latency_chart.h"
 #include "runner/report/text_language.h"
+#include "runner/run/calibration.h"
 #include "runner/run/run_failures.h"
 #include "runner/run/run_record.h"
 
@@ -209,6 +210,7 @@ std::optional<double> RunFloor(const nlohmann::json& record, const std::string& 
 void AppendScoresTable(std::string* out, const nlohmann::json& record) {
   const nlohmann::json aggregates = record.value("aggregates", nlohmann::json::object());
   const nlohmann::json metrics = aggregates.value("metrics", nlohmann::json::object());
+  const std::map<std::string, std::string> grade_notes = GradeCalibrationNotes(record);
   out->append(
       "<section id=\"scores\"><h2>Scores</h2><table><thead><tr><th>metric</th><th>mean</th>"
       "<th>95% interval</th><th></th><th>n</th><th>interval</th></tr></thead><tbody>");
@@ -227,6 +229,21 @@ void AppendScoresTable(std::string* out, const nlohmann::json& record) {
     out->append("</td><td class=\"num\">" + std::to_string(m.value("n", int64_t{0})) +
                 "</td><td class=\"note\">");
     AppendHtmlText(out, JsonString(m, "interval_method"));
+    if (metric.rfind("grade.", 0) == 0) {
+      // Beside every grade: how well its grader agrees with a person's labels, or that nobody
+      // has checked.
+      auto note = grade_notes.find(metric);
+      const std::string text = note != grade_notes.end() ? note->second : "uncalibrated";
+      const bool trusted = text.rfind("kappa", 0) == 0;
+      out->append(trusted ? "<br>grader vs. human labels: " : "<br><strong>");
+      const bool unchecked = text.rfind("uncalibrated", 0) == 0;
+      AppendHtmlText(out, trusted     ? text
+                          : unchecked ? text +
+                                            " (not checked against human labels; it may not "
+                                            "gate)"
+                                      : text + " (it may not gate)");
+      if (!trusted) out->append("</strong>");
+    }
     out->append("</td></tr>");
   }
   out->append("</tbody></table>");

@@ -8,6 +8,7 @@
 #include <map>
 
 #include "metrics/utf8.h"
+#include "runner/run/calibration.h"
 #include "runner/run/failure_reason.h"
 #include "runner/run/run_failures.h"
 #include "runner/run/run_record.h"
@@ -230,6 +231,7 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
     }
   }
   const nlohmann::json& table = JsonAt(aggregates, "metrics");
+  const std::map<std::string, std::string> grade_notes = GradeCalibrationNotes(r);
   std::vector<std::string> names;
   if (table.is_object()) {
     for (auto it = table.begin(); it != table.end(); ++it) names.push_back(it.key());
@@ -244,8 +246,13 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
       i = {interval[0].get<double>(), interval[1].get<double>()};
     }
     auto floor = floors.find(metric);
-    out += fmt::format("| {} | {} | {} | {} | {} |\n", Code(metric),
-                       Fixed(JsonNumber(m, "mean"), 3), IntervalText(i, false), Count(m, "n"),
+    std::string name = Code(metric);
+    if (metric.rfind("grade.", 0) == 0) {
+      auto note = grade_notes.find(metric);
+      name += " (" + (note != grade_notes.end() ? note->second : std::string("uncalibrated")) + ")";
+    }
+    out += fmt::format("| {} | {} | {} | {} | {} |\n", name, Fixed(JsonNumber(m, "mean"), 3),
+                       IntervalText(i, false), Count(m, "n"),
                        floor == floors.end() ? "" : floor->second);
   }
   for (const auto& [metric, text] : floors) {

@@ -19,12 +19,23 @@ std::string ThresholdCell(const std::vector<ThresholdOutcome>& thresholds, const
 
 void AppendMetricRows(std::string* out, const std::vector<MetricAggregate>& metrics,
                       const std::vector<ThresholdOutcome>& thresholds, const std::string& tag,
-                      const std::string& indent, const Palette& p) {
+                      const std::string& indent, const Palette& p,
+                      const std::map<std::string, std::string>& grade_notes = {}) {
   for (const MetricAggregate& m : metrics) {
     const metrics::MetricSummary& s = m.summary;
-    *out += fmt::format("{}{:<20} {:>7.3f}   [{:.3f}, {:.3f}] {:>6}   {}\n", indent, m.metric,
-                        s.mean, s.interval.low, s.interval.high, s.n,
-                        ThresholdCell(thresholds, tag, m.metric, p));
+    std::string row = fmt::format("{}{:<20} {:>7.3f}   [{:.3f}, {:.3f}] {:>6}   {}", indent,
+                                  m.metric, s.mean, s.interval.low, s.interval.high, s.n,
+                                  ThresholdCell(thresholds, tag, m.metric, p));
+    // A grade shows how far its grader can be trusted: kappa and the base rate, or that it
+    // was never checked against a person's labels.
+    if (auto note = grade_notes.find(m.metric); note != grade_notes.end()) {
+      const bool trusted = note->second.rfind("kappa", 0) == 0;
+      row += fmt::format("{}{}{}{}", row.back() == ' ' ? "" : "   ", trusted ? p.dim : p.bad,
+                         note->second, p.reset);
+    } else if (m.metric.rfind("grade.", 0) == 0) {
+      row += fmt::format("{}{}uncalibrated{}", row.back() == ' ' ? "" : "   ", p.bad, p.reset);
+    }
+    *out += row + "\n";
   }
 }
 
@@ -75,7 +86,7 @@ std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
   out += "\n";
   out += fmt::format("  {}{:<20} {:>7}   {:<16} {:>6}   {}{}\n", p.dim, "metric", "mean",
                      "95% interval", "n", "floor / ceiling", p.reset);
-  AppendMetricRows(&out, run.metrics, thresholds, "", "  ", p);
+  AppendMetricRows(&out, run.metrics, thresholds, "", "  ", p, h.grade_notes);
 
   const metrics::LatencySummary& l = run.latency;
   if (l.n > 0) {

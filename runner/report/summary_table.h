@@ -9,6 +9,7 @@
 /// only when writing to a terminal and NO_COLOR is unset (https://no-color.org convention).
 
 #include <cstdio>
+#include <map>
 #include <string>
 #include <vector>
 
@@ -23,6 +24,9 @@ struct SummaryHeader {
   std::string pipeline;
   double seconds = 0;
   int repeat = 1;
+  /// Per grade metric ("grade.NAME"), its calibration in a few words (GradeCalibrationNotes:
+  /// kappa with its interval and the base rate, or "uncalibrated"), shown beside its row.
+  std::map<std::string, std::string> grade_notes;
 };
 
 /// Without `exit_line` the table ends before the verdict line (the caller prints it, last).

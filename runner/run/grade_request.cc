@@ -4,7 +4,6 @@
 #include "runner/base/json_writer.h"
 
 namespace plumb {
-namespace {
 
 std::string CitedText(const SourceRef& ref, Corpus* corpus) {
   if (ref.quote && !(ref.start && ref.end)) return *ref.quote;
@@ -21,8 +20,6 @@ std::string CitedText(const SourceRef& ref, Corpus* corpus) {
   }
   return std::string(text);
 }
-
-}  // namespace
 
 std::string GradeRequestLine(const GraderConfig& grader, const Case& c, const Response& answer,
                              Corpus* corpus, int repeat) {

@@ -17,6 +17,10 @@ namespace plumb {
 /// `answer` is the reply (its answer null when it abstained). Cited spans carry the corpus
 /// text of [start, end) in code points (a quote carries its quote; a doc-only citation, or one
 /// the corpus cannot place, an empty text). `corpus` may be null.
+/// The text a citation points at, as the grader request's "cited" carries it: the corpus text
+/// of [start, end) in code points, a quote's own text, or "" (doc-only, or not placeable).
+std::string CitedText(const SourceRef& ref, Corpus* corpus);
+
 std::string GradeRequestLine(const GraderConfig& grader, const Case& c, const Response& answer,
                              Corpus* corpus, int repeat);
 

@@ -361,6 +361,7 @@ nlohmann::json GradingRecord(const GradingInputs& in, const GradingCounts& count
                        {"rubric", c.rubric_path},
                        {"graded", count(counts.graded, c.name)},
                        {"failed", count(counts.failed, c.name)}};
+    if (!grader.calibration.is_null()) graders[c.name]["calibration"] = grader.calibration;
   }
   nlohmann::json cache = in.cache != nullptr ? nlohmann::json(in.cache->path()) : nlohmann::json();
   return {{"cache", cache},

@@ -43,6 +43,9 @@ struct GraderRuntime {
   Adapter* adapter = nullptr;
   const ReplyMapping* reply = nullptr;
   std::string identity;
+  /// CalibrationSummary of the grader (runner/run/calibration.h), written into run.json's
+  /// grading member; null when not assessed.
+  nlohmann::json calibration;
 };
 
 struct GradingInputs {

@@ -193,6 +193,14 @@ struct GraderConfig {
   /// RE2 pattern whose first group, found in a reply that is not a JSON grade, is the verdict
   /// or the score.
   std::string verdict_pattern;
+  /// The human labels file (`labels:`, resolved against the suite's directory; "" when not
+  /// named) that `plumb calibrate` reads when no --labels is given.
+  std::string labels_path;
+  /// The calibration a grade needs before it may gate (thresholds, case_pass, correct_from,
+  /// drift --gate): at least this many labelled answers, and kappa's lower 95% bound at least
+  /// min_kappa.
+  int64_t min_labels = 50;
+  double min_kappa = 0.6;
   SourcePos pos;
 };
 

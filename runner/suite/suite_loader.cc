@@ -40,7 +40,8 @@ const std::vector<std::string> kSuiteKeys = {
 // Top-level keys an earlier format used; each is refused with its entry in the new form.
 const std::vector<std::string> kRetiredSuiteKeys = {"thresholds"};
 const std::vector<std::string> kGraderKeys = {"pipeline", "rubric",           "scale",
-                                              "repeat",   "same_as_pipeline", "verdict_pattern"};
+                                              "repeat",   "same_as_pipeline", "verdict_pattern",
+                                              "labels",   "min_labels",       "min_kappa"};
 const std::vector<std::string> kCaseKeys = {"id",     "question", "answers", "patterns",
                                             "number", "sources",  "tags",    "input"};
 const std::vector<std::string> kSourceKeys = {"doc", "quote", "start", "end"};
@@ -585,6 +586,37 @@ class SuiteLoader {
           } else if (re.NumberOfCapturingGroups() < 1) {
             check->Error(it->second->value, "'verdict_pattern' has no group",
                          "wrap the verdict in parentheses, e.g. 'VERDICT:\\s*(PASS|FAIL)'");
+          }
+        }
+      }
+      if (auto it = keys.find("labels"); it != keys.end()) {
+        std::string path;
+        if (check->NonEmptyString(it->second->value, field + ".labels", &path)) {
+          // Read by `plumb calibrate`, not here: a suite loads without its labels file.
+          grader.labels_path = ResolveAgainst(DirectoryOf(check->Pos(entry.key).file), path);
+        }
+      }
+      if (auto it = keys.find("min_labels"); it != keys.end()) {
+        int64_t min_labels = 0;
+        if (check->Int(it->second->value, field + ".min_labels", &min_labels)) {
+          if (min_labels < 1 || min_labels > 1000000) {
+            check->Error(it->second->value, "'" + field + ".min_labels' must be 1 to 1000000",
+                         "the fewest labelled answers a calibration needs before the grade may "
+                         "gate (default 50)");
+          } else {
+            grader.min_labels = min_labels;
+          }
+        }
+      }
+      if (auto it = keys.find("min_kappa"); it != keys.end()) {
+        double min_kappa = 0;
+        if (check->Number(it->second->value, field + ".min_kappa", &min_kappa)) {
+          if (!(min_kappa >= -1 && min_kappa <= 1)) {
+            check->Error(it->second->value, "'" + field + ".min_kappa' must lie in [-1, 1]",
+                         "the lower 95% bound of Cohen's kappa that lets the grade gate "
+                         "(default 0.6)");
+          } else {
+            grader.min_kappa = min_kappa;
           }
         }
       }
