@@ -131,51 +131,56 @@ Interval GroupedBootstrapMean(const std::vector<double>& values, int resamples, 
     const double mean = total / static_cast<double>(n);
     return {mean, mean};
   }
-  std::vector<DistinctValue> distinct;
-  const GroupedBootstrapPlan plan = MakePlan(values, &distinct);
-  if (plan.index_resampling) return PercentileBootstrapMean(values, resamples, seed, confidence);
-
-  const size_t chain = plan.binomial_values;
-  std::vector<BinomialOdds> odds;
-  odds.reserve(chain);
-  uint64_t remaining = n;
-  for (size_t j = 0; j < chain; ++j) {
-    odds.emplace_back(static_cast<double>(distinct[j].count) / static_cast<double>(remaining));
-    remaining -= distinct[j].count;
+  const GroupedSum grouped(values);
+  if (grouped.plan().index_resampling) {
+    return PercentileBootstrapMean(values, resamples, seed, confidence);
   }
-  const BinomialTables tables(chain > 0 ? n : 0);
-  std::vector<double> tail_cases;
-  tail_cases.reserve(plan.tail_cases);
-  if (plan.tail_cases > 0) {
-    for (size_t j = chain; j < distinct.size(); ++j) {
-      tail_cases.insert(tail_cases.end(), distinct[j].count, distinct[j].value);
-    }
-  }
-  const double last_value = distinct.back().value;
-  const uint64_t tail_size = tail_cases.size();
-  const double* tail = tail_cases.data();
-
+  const BinomialTables tables(grouped.plan().binomial_values > 0 ? n : 0);
   SeededRandom random(seed);
   std::vector<double> means(static_cast<size_t>(resamples));
   for (double& resample_mean : means) {
-    double sum = 0;
-    uint64_t left = n;
-    for (size_t j = 0; j < chain; ++j) {
-      const uint64_t count = SampleBinomial(random, left, odds[j], tables);
-      sum += static_cast<double>(count) * distinct[j].value;
-      left -= count;
-    }
-    if (tail_size == 0) {
-      sum += static_cast<double>(left) * last_value;
-    } else {
-      sum += SumOfUniformDraws(tail, tail_size, left, random);
-    }
-    resample_mean = sum / static_cast<double>(n);
+    resample_mean = grouped.Sum(n, random, tables) / static_cast<double>(n);
   }
   std::sort(means.begin(), means.end());
   const double tail_share = (1 - confidence) / 2;
   return {PercentileSorted(means, 100 * tail_share),
           PercentileSorted(means, 100 * (1 - tail_share))};
+}
+
+GroupedSum::GroupedSum(const std::vector<double>& values) {
+  std::vector<DistinctValue> distinct;
+  plan_ = values.size() < 2 ? GroupedBootstrapPlan{} : MakePlan(values, &distinct);
+  if (plan_.index_resampling) {
+    values_ = values;
+    return;
+  }
+  const size_t chain = plan_.binomial_values;
+  uint64_t remaining = values.size();
+  for (size_t j = 0; j < chain; ++j) {
+    odds_.emplace_back(static_cast<double>(distinct[j].count) / static_cast<double>(remaining));
+    remaining -= distinct[j].count;
+  }
+  for (const DistinctValue& d : distinct) values_.push_back(d.value);
+  if (plan_.tail_cases > 0) {
+    tail_.reserve(plan_.tail_cases);
+    for (size_t j = chain; j < distinct.size(); ++j) {
+      tail_.insert(tail_.end(), distinct[j].count, distinct[j].value);
+    }
+  }
+}
+
+double GroupedSum::Sum(uint64_t draws, SeededRandom& random, const BinomialTables& tables) const {
+  if (plan_.index_resampling)
+    return SumOfUniformDraws(values_.data(), values_.size(), draws, random);
+  double sum = 0;
+  uint64_t left = draws;
+  for (size_t j = 0; j < odds_.size(); ++j) {
+    const uint64_t count = SampleBinomial(random, left, odds_[j], tables);
+    sum += static_cast<double>(count) * values_[j];
+    left -= count;
+  }
+  if (tail_.empty()) return sum + static_cast<double>(left) * values_.back();
+  return sum + SumOfUniformDraws(tail_.data(), tail_.size(), left, random);
 }
 
 }  // namespace plumb::metrics

@@ -30,7 +30,9 @@
 #include <cstdint>
 #include <vector>
 
+#include "metrics/binomial_sampler.h"
 #include "metrics/interval.h"
+#include "metrics/seeded_random.h"
 
 namespace plumb::metrics {
 
@@ -67,6 +69,35 @@ GroupedBootstrapPlan PlanGroupedBootstrap(const std::vector<double>& values);
 /// Equal input gives an equal interval wherever std::log, std::log1p and std::exp agree.
 Interval GroupedBootstrapMean(const std::vector<double>& values, int resamples = 2000,
                               uint64_t seed = 20261201, double confidence = 0.95);
+
+/// The sum of `draws` values drawn uniformly with replacement from a fixed sample, drawn the
+/// grouped way: the plan PlanGroupedBootstrap gives for the sample (chosen for draws equal to its
+/// size), its binomial chain started from `draws` trials instead of n. By the argument above the
+/// sum has exactly the distribution of `draws` index draws, whatever `draws` is. The drift
+/// report's paired bootstrap (runner/compare/drift.h) uses it for a statistic over a case subset,
+/// whose number of draws in a resample is itself random. Immutable after construction; Sum is
+/// safe from several threads, each with its own SeededRandom.
+class GroupedSum {
+ public:
+  /// `values` must be finite and not empty.
+  explicit GroupedSum(const std::vector<double>& values);
+
+  /// The sum: the plan's binomial counts (SampleBinomial over `tables`, which must cover
+  /// `draws` trials) in plan order, each count times its value added to a sum that starts at 0,
+  /// then the tail (the remainder times the last value, or SumOfUniformDraws over the tail cases
+  /// laid out in plan order); with an index-resampling plan SumOfUniformDraws over `values` in
+  /// their given order. For draws == values.size() this is, draw for draw, the resample sum of
+  /// GroupedBootstrapMean (or PercentileBootstrapMean for an index plan).
+  double Sum(uint64_t draws, SeededRandom& random, const BinomialTables& tables) const;
+
+  const GroupedBootstrapPlan& plan() const { return plan_; }
+
+ private:
+  GroupedBootstrapPlan plan_;
+  std::vector<double> values_;  // index plan: the values; else the distinct values in plan order
+  std::vector<BinomialOdds> odds_;
+  std::vector<double> tail_;
+};
 
 }  // namespace plumb::metrics
 

@@ -3,24 +3,28 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <atomic>
 #include <cmath>
-#include <condition_variable>
 #include <cstring>
+#include <functional>
 #include <limits>
 #include <map>
-#include <mutex>
+#include <memory>
 #include <set>
 #include <system_error>
 #include <thread>
 #include <unordered_map>
 
+#include "metrics/binomial_sampler.h"
 #include "metrics/detectable_effect.h"
+#include "metrics/grouped_bootstrap.h"
 #include "metrics/paired_bootstrap.h"
 #include "metrics/paired_mean_ratio.h"
 #include "metrics/paired_tests.h"
 #include "metrics/percentile.h"
 #include "metrics/seeded_random.h"
 #include "metrics/unpaired_bootstrap.h"
+#include "metrics/windowed_quantile_ratio.h"
 #include "runner/base/parallel_chunks.h"
 #include "runner/run/exit_code.h"
 #include "runner/run/failure_reason.h"
@@ -116,203 +120,7 @@ RunCases SummarizeCases(const RunValues& run, const std::vector<std::string>& na
   return cases;
 }
 
-// --- The shared paired bootstrap --------------------------------------------------------------
-
-/// Every bootstrap interval of a drift report from one stream of resamples (see drift.h). A
-/// resample is a count per paired case (how often it was drawn), and every statistic is read off
-/// those counts: the mean over a case subset D is sum(count_i * d_i) / sum(count_i) over i in D.
-/// Only cases with a non-zero difference enter the numerator, so unchanged cases cost nothing
-/// there; statistics over the same subset share the denominator. Cost per resample: n draws,
-/// the non-zero differences, the subsets' sizes, and about n reads for the latency percentiles.
-class SharedBootstrap {
- public:
-  SharedBootstrap(size_t n, int resamples, uint64_t seed)
-      : n_(n), resamples_(resamples), seed_(seed) {}
-
-  /// Registers the scope `members` (ascending case positions) and returns its id; `whole` means
-  /// every case, and `members` is then ignored.
-  size_t AddScope(bool whole, std::vector<uint32_t> members) {
-    scopes_.push_back({whole, std::move(members)});
-    return scopes_.size() - 1;
-  }
-
-  /// Registers the mean of `differences` over `subset` (ascending positions within the scope's
-  /// members, differences aligned with them); returns the statistic's id.
-  size_t AddMean(size_t scope, const std::vector<uint32_t>& subset,
-                 const std::vector<double>& differences) {
-    Mean m;
-    m.scope = scope;
-    m.subset = subset;
-    for (size_t k = 0; k < subset.size(); ++k) {
-      if (differences[k] == 0) continue;
-      m.positions.push_back(subset[k]);
-      m.values.push_back(differences[k]);
-    }
-    means_.push_back(std::move(m));
-    return means_.size() - 1;
-  }
-
-  /// Registers the latency ratios over `subset`, with the cases' latencies in each run.
-  void SetLatency(const std::vector<uint32_t>& subset, const std::vector<double>& base,
-                  const std::vector<double>& cand) {
-    latency_subset_ = subset;
-    for (int run = 0; run < 2; ++run) {
-      const std::vector<double>& v = run == 0 ? base : cand;
-      std::vector<uint32_t> order(subset.size());
-      for (uint32_t k = 0; k < order.size(); ++k) order[k] = k;
-      std::stable_sort(order.begin(), order.end(),
-                       [&](uint32_t a, uint32_t b) { return v[a] < v[b]; });
-      latency_[run].sorted.resize(order.size());
-      latency_[run].order.resize(order.size());
-      for (size_t k = 0; k < order.size(); ++k) {
-        latency_[run].sorted[k] = v[order[k]];
-        latency_[run].order[k] = subset[order[k]];
-      }
-    }
-  }
-
-  void Run();
-
-  metrics::Interval MeanInterval(size_t id) const { return means_[id].interval; }
-  metrics::Interval LatencyInterval(int which) const { return latency_interval_[which]; }
-
- private:
-  struct Scope {
-    bool whole;
-    std::vector<uint32_t> members;
-  };
-  struct Mean {
-    size_t scope = 0;
-    std::vector<uint32_t> subset;
-    std::vector<uint32_t> positions;  // where the difference is not 0
-    std::vector<double> values;
-    metrics::Interval interval{kNaN, kNaN};
-  };
-  /// The statistics over one subset of one scope, and how to count the subset's draws: the
-  /// scope's total (less the scope members outside the subset, when those are fewer), or the
-  /// subset's own sum.
-  struct Domain {
-    size_t scope;
-    enum Kind { kWholeScope, kScopeExcept, kListed } kind;
-    std::vector<uint32_t> list;
-    std::vector<size_t> stats;
-  };
-  /// One run's latencies in ascending order, and the case position of each.
-  struct SortedLatency {
-    std::vector<double> sorted;
-    std::vector<uint32_t> order;
-  };
-
-  std::vector<Domain> BuildDomains(size_t first, size_t last) const;
-  void Pass(size_t first, size_t last, bool latency);
-
-  size_t n_;
-  int resamples_;
-  uint64_t seed_;
-  std::vector<Scope> scopes_;
-  std::vector<Mean> means_;
-  std::vector<uint32_t> latency_subset_;
-  SortedLatency latency_[2];
-  metrics::Interval latency_interval_[2] = {{kNaN, kNaN}, {kNaN, kNaN}};
-};
-
-std::vector<SharedBootstrap::Domain> SharedBootstrap::BuildDomains(size_t first,
-                                                                   size_t last) const {
-  std::vector<Domain> domains;
-  for (size_t id = first; id < last; ++id) {
-    const Mean& m = means_[id];
-    auto same = std::find_if(domains.begin(), domains.end(), [&](const Domain& d) {
-      return d.scope == m.scope && means_[d.stats.front()].subset == m.subset;
-    });
-    if (same != domains.end()) {
-      same->stats.push_back(id);
-      continue;
-    }
-    const Scope& scope = scopes_[m.scope];
-    Domain d;
-    d.scope = m.scope;
-    d.stats = {id};
-    const size_t scope_size = scope.whole ? n_ : scope.members.size();
-    if (m.subset.size() == scope_size) {
-      d.kind = Domain::kWholeScope;
-    } else if (scope_size - m.subset.size() < m.subset.size()) {
-      d.kind = Domain::kScopeExcept;
-      if (scope.whole) {
-        size_t k = 0;
-        for (uint32_t i = 0; i < n_; ++i) {
-          if (k < m.subset.size() && m.subset[k] == i) {
-            ++k;
-          } else {
-            d.list.push_back(i);
-          }
-        }
-      } else {
-        std::set_difference(scope.members.begin(), scope.members.end(), m.subset.begin(),
-                            m.subset.end(), std::back_inserter(d.list));
-      }
-    } else {
-      d.kind = Domain::kListed;
-      d.list = m.subset;
-    }
-    domains.push_back(std::move(d));
-  }
-  return domains;
-}
-
-/// Sum of count[i] over the listed positions.
-uint64_t CountOf(const std::vector<uint32_t>& count, const std::vector<uint32_t>& positions) {
-  uint64_t a0 = 0, a1 = 0;
-  size_t k = 0;
-  for (; k + 2 <= positions.size(); k += 2) {
-    a0 += count[positions[k]];
-    a1 += count[positions[k + 1]];
-  }
-  if (k < positions.size()) a0 += count[positions[k]];
-  return a0 + a1;
-}
-
-/// Sum of count[positions[k]] * values[k]. Four partial sums let the multiply-adds overlap; for
-/// 0/1 metrics every partial sum is an integer, so the result is exact.
-double WeightedSum(const std::vector<uint32_t>& count, const std::vector<uint32_t>& positions,
-                   const std::vector<double>& values) {
-  double a0 = 0, a1 = 0, a2 = 0, a3 = 0;
-  const size_t size = positions.size();
-  size_t k = 0;
-  for (; k + 4 <= size; k += 4) {
-    a0 += count[positions[k]] * values[k];
-    a1 += count[positions[k + 1]] * values[k + 1];
-    a2 += count[positions[k + 2]] * values[k + 2];
-    a3 += count[positions[k + 3]] * values[k + 3];
-  }
-  for (; k < size; ++k) a0 += count[positions[k]] * values[k];
-  return (a0 + a1) + (a2 + a3);
-}
-
-/// The definition-7 percentile of the resample in which the case at sorted position k (case
-/// order[k]) was drawn count[order[k]] times, `total` draws in all; read off the running count
-/// from the nearer end, as metrics/paired_bootstrap.cc does for its single statistic.
-double ResamplePercentile(const std::vector<double>& sorted, const std::vector<uint32_t>& order,
-                          const std::vector<uint32_t>& count, uint64_t total,
-                          const metrics::PercentileRank& rank) {
-  const uint64_t want_above = std::min<uint64_t>(rank.lower + 1, total - 1);
-  double below = 0, above = 0;
-  uint64_t seen = 0;
-  if (rank.lower < total / 2) {
-    size_t k = 0;
-    while (seen + count[order[k]] <= rank.lower) seen += count[order[k++]];
-    below = sorted[k];
-    while (seen + count[order[k]] <= want_above) seen += count[order[k++]];
-    above = sorted[k];
-  } else {
-    size_t k = sorted.size() - 1;
-    while (seen + count[order[k]] <= total - 1 - want_above) seen += count[order[k--]];
-    above = sorted[k];
-    while (seen + count[order[k]] <= total - 1 - rank.lower) seen += count[order[k--]];
-    below = sorted[k];
-  }
-  if (rank.lower + 1 >= total) return below;
-  return metrics::InterpolateBetween(below, above, rank.gamma);
-}
+// --- The paired bootstrap ---------------------------------------------------------------------
 
 metrics::Interval PercentileInterval(std::vector<double>* values) {
   // Resamples that drew no case of the statistic's subset have no value (NaN) and are left out.
@@ -326,154 +134,126 @@ metrics::Interval PercentileInterval(std::vector<double>* values) {
           metrics::PercentileSorted(*values, 100 * (1 - tail))};
 }
 
-void SharedBootstrap::Pass(size_t first, size_t last, bool latency) {
-  const std::vector<Domain> domains = BuildDomains(first, last);
+/// Every bootstrap interval of a drift report (see drift.h), each drawn the grouped way: for a
+/// mean over a case subset, how many of a resample's n draws land in the subset (one binomial,
+/// shared by the statistics over the same subset), then how often each distinct difference is
+/// drawn (metrics::GroupedSum); for a latency ratio, metrics::WindowedQuantileRatio. Each subset
+/// and each latency percentile is a job with its own stream, metrics::SeededRandom(seed), so the
+/// jobs run on as many threads as there are CPUs and the intervals are the same either way.
+class SharedBootstrap {
+ public:
+  SharedBootstrap(size_t n, int resamples, uint64_t seed)
+      : n_(n), resamples_(resamples), seed_(seed) {}
+
+  /// Registers the mean of `differences` over `subset` (ascending paired positions, differences
+  /// aligned with them); returns the statistic's id.
+  size_t AddMean(const std::vector<uint32_t>& subset, const std::vector<double>& differences) {
+    Mean m;
+    bool finite = true;
+    for (double d : differences) finite = finite && std::isfinite(d);
+    if (finite && !differences.empty()) m.sum = std::make_unique<metrics::GroupedSum>(differences);
+    auto same = std::find_if(domains_.begin(), domains_.end(),
+                             [&](const Domain& d) { return d.subset == subset; });
+    if (same == domains_.end()) {
+      domains_.push_back({subset, {}});
+      same = domains_.end() - 1;
+    }
+    same->stats.push_back(means_.size());
+    means_.push_back(std::move(m));
+    return means_.size() - 1;
+  }
+
+  /// Registers the latency ratios over `subset`, with the cases' latencies in each run.
+  void SetLatency(const std::vector<uint32_t>& subset, const std::vector<double>& base,
+                  const std::vector<double>& cand) {
+    latency_size_ = subset.size();
+    latency_base_ = base;
+    latency_cand_ = cand;
+  }
+
+  void Run();
+
+  metrics::Interval MeanInterval(size_t id) const { return means_[id].interval; }
+  metrics::Interval LatencyInterval(int which) const { return latency_interval_[which]; }
+
+ private:
+  struct Mean {
+    std::unique_ptr<metrics::GroupedSum> sum;  // null: a difference is not finite
+    metrics::Interval interval{kNaN, kNaN};
+  };
+  struct Domain {
+    std::vector<uint32_t> subset;
+    std::vector<size_t> stats;
+  };
+
+  void RunDomain(const Domain& domain, const metrics::BinomialTables& tables);
+  void RunLatency(int which, const metrics::BinomialTables& tables);
+
+  size_t n_;
+  int resamples_;
+  uint64_t seed_;
+  std::vector<Mean> means_;
+  std::vector<Domain> domains_;
+  size_t latency_size_ = 0;
+  std::vector<double> latency_base_, latency_cand_;
+  metrics::Interval latency_interval_[2] = {{kNaN, kNaN}, {kNaN, kNaN}};
+};
+
+void SharedBootstrap::RunDomain(const Domain& domain, const metrics::BinomialTables& tables) {
   const size_t resamples = static_cast<size_t>(resamples_);
-  std::vector<double> values((last - first) * resamples, kNaN);
-  std::vector<double> ratios[2];
-  // The draws that land in the latency subset: all of them, or n less those outside it.
-  std::vector<uint32_t> latency_outside;
-  if (latency) {
-    ratios[0].reserve(resamples);
-    ratios[1].reserve(resamples);
-    size_t k = 0;
-    for (uint32_t i = 0; i < n_; ++i) {
-      if (k < latency_subset_.size() && latency_subset_[k] == i) {
-        ++k;
-      } else {
-        latency_outside.push_back(i);
-      }
-    }
-  }
-
-  std::vector<uint64_t> scope_total(scopes_.size());
-  std::vector<bool> scope_needed(scopes_.size(), false);
-  for (const Domain& d : domains) {
-    if (d.kind != Domain::kListed) scope_needed[d.scope] = true;
-  }
+  const uint64_t size = domain.subset.size();
+  const metrics::BinomialOdds in_subset(static_cast<double>(size) / static_cast<double>(n_));
+  std::vector<std::vector<double>> values(domain.stats.size(),
+                                          std::vector<double>(resamples, kNaN));
   metrics::SeededRandom random(seed_);
-  const uint64_t n = n_;
-
-  // Resample r: its counts drawn from the one stream, in order, and the latency ratios read off
-  // them (both on the drawing thread); then every mean read off the same counts (on the calling
-  // thread). With two CPUs the two run side by side over a ring of count vectors; the draws and
-  // every value are the same either way.
-  auto draw = [&](std::vector<uint32_t>& count) {
-    std::memset(count.data(), 0, count.size() * sizeof(uint32_t));
-    for (uint64_t k = 0; k < n; ++k) ++count[random.UniformIndex(n)];
-    if (!latency) return;
-    const uint64_t drawn = n - CountOf(count, latency_outside);
-    if (drawn == 0) return;
-    for (int which = 0; which < 2; ++which) {
-      const metrics::PercentileRank rank =
-          metrics::PercentileRankType7(static_cast<size_t>(drawn), which == 0 ? 50.0 : 95.0);
-      ratios[which].push_back(
-          ResamplePercentile(latency_[1].sorted, latency_[1].order, count, drawn, rank) /
-          ResamplePercentile(latency_[0].sorted, latency_[0].order, count, drawn, rank));
-    }
-  };
-  auto read = [&](size_t r, const std::vector<uint32_t>& count) {
-    for (size_t s = 0; s < scopes_.size(); ++s) {
-      if (scope_needed[s])
-        scope_total[s] = scopes_[s].whole ? n : CountOf(count, scopes_[s].members);
-    }
-    for (const Domain& d : domains) {
-      uint64_t total = 0;
-      switch (d.kind) {
-        case Domain::kWholeScope:
-          total = scope_total[d.scope];
-          break;
-        case Domain::kScopeExcept:
-          total = scope_total[d.scope] - CountOf(count, d.list);
-          break;
-        case Domain::kListed:
-          total = CountOf(count, d.list);
-          break;
-      }
-      if (total == 0) continue;  // no case of the subset drawn: the values stay NaN
-      const double drawn = static_cast<double>(total);
-      for (size_t id : d.stats) {
-        const Mean& m = means_[id];
-        values[(id - first) * resamples + r] = WeightedSum(count, m.positions, m.values) / drawn;
-      }
-    }
-  };
-
-  auto one_thread = [&] {
-    std::vector<uint32_t> count(n_);
-    for (size_t r = 0; r < resamples; ++r) {
-      draw(count);
-      read(r, count);
-    }
-  };
-  if (WorkerCount() < 2 || resamples < 2) {
-    one_thread();
-  } else {
-    constexpr size_t kRing = 8;
-    std::vector<std::vector<uint32_t>> ring(kRing, std::vector<uint32_t>(n_));
-    std::mutex mutex;
-    std::condition_variable changed;
-    size_t drawn = 0, read_done = 0;  // resamples drawn, and read (their slot free again)
-    std::thread drawer;
-    auto drawing = [&] {
-      for (size_t r = 0; r < resamples; ++r) {
-        {
-          std::unique_lock<std::mutex> lock(mutex);
-          changed.wait(lock, [&] { return r - read_done < kRing; });
-        }
-        draw(ring[r % kRing]);
-        {
-          std::lock_guard<std::mutex> lock(mutex);
-          drawn = r + 1;
-        }
-        changed.notify_all();
-      }
-    };
-    try {
-      drawer = std::thread(drawing);
-    } catch (const std::system_error&) {  // no thread to be had: nothing drawn yet
-      one_thread();
-    }
-    for (size_t r = 0; r < resamples && drawer.joinable(); ++r) {
-      {
-        std::unique_lock<std::mutex> lock(mutex);
-        changed.wait(lock, [&] { return drawn > r; });
-      }
-      read(r, ring[r % kRing]);
-      {
-        std::lock_guard<std::mutex> lock(mutex);
-        read_done = r + 1;
-      }
-      changed.notify_all();
-    }
-    if (drawer.joinable()) drawer.join();
-  }
-
-  for (size_t id = first; id < last; ++id) {
-    const size_t k = id - first;
-    std::vector<double> v(values.begin() + static_cast<std::ptrdiff_t>(k * resamples),
-                          values.begin() + static_cast<std::ptrdiff_t>((k + 1) * resamples));
-    means_[id].interval = PercentileInterval(&v);
-  }
-  if (latency) {
-    for (int which = 0; which < 2; ++which) {
-      latency_interval_[which] = PercentileInterval(&ratios[which]);
+  for (size_t r = 0; r < resamples; ++r) {
+    const uint64_t drawn = size == n_ ? n_ : metrics::SampleBinomial(random, n_, in_subset, tables);
+    if (drawn == 0) continue;  // no case of the subset drawn: the values stay NaN
+    for (size_t k = 0; k < domain.stats.size(); ++k) {
+      const Mean& m = means_[domain.stats[k]];
+      if (m.sum == nullptr) continue;
+      values[k][r] = m.sum->Sum(drawn, random, tables) / static_cast<double>(drawn);
     }
   }
+  for (size_t k = 0; k < domain.stats.size(); ++k) {
+    if (means_[domain.stats[k]].sum == nullptr) continue;
+    means_[domain.stats[k]].interval = PercentileInterval(&values[k]);
+  }
+}
+
+void SharedBootstrap::RunLatency(int which, const metrics::BinomialTables& tables) {
+  const metrics::WindowedQuantileRatio ratio(latency_base_, latency_cand_, n_,
+                                             which == 0 ? 50.0 : 95.0);
+  std::vector<double> ratios(static_cast<size_t>(resamples_));
+  metrics::SeededRandom random(seed_);
+  for (double& r : ratios) r = ratio.Draw(random, tables);
+  latency_interval_[which] = PercentileInterval(&ratios);
 }
 
 void SharedBootstrap::Run() {
   if (n_ == 0 || resamples_ < 1 || n_ > std::numeric_limits<uint32_t>::max()) return;
-  // Resampled values are kept until the end of a pass (for the percentiles); a pass holds at
-  // most this many statistics, about 256 MB at B = 10000, and the next pass replays the draws.
-  const size_t per_pass =
-      std::max<size_t>(1, (size_t{256} << 20) / (sizeof(double) * static_cast<size_t>(resamples_)));
-  size_t first = 0;
-  do {
-    const size_t last = std::min(means_.size(), first + per_pass);
-    Pass(first, last, /*latency=*/first == 0 && !latency_subset_.empty());
-    first = last;
-  } while (first < means_.size());
+  const metrics::BinomialTables tables(n_);
+  std::vector<std::function<void()>> jobs;
+  if (latency_size_ > 0) {
+    for (int which = 0; which < 2; ++which)
+      jobs.push_back([&, which] { RunLatency(which, tables); });
+  }
+  for (const Domain& d : domains_) jobs.push_back([&] { RunDomain(d, tables); });
+  std::atomic<size_t> next{0};
+  auto work = [&] {
+    for (size_t j = next++; j < jobs.size(); j = next++) jobs[j]();
+  };
+  std::vector<std::thread> helpers;
+  const size_t threads = std::min<size_t>(static_cast<size_t>(WorkerCount()), jobs.size());
+  for (size_t t = 1; t < threads; ++t) {
+    try {
+      helpers.emplace_back(work);
+    } catch (const std::system_error&) {  // no thread to be had: this one does the rest
+      break;
+    }
+  }
+  work();
+  for (std::thread& h : helpers) h.join();
 }
 
 // --- Report assembly ------------------------------------------------------------------------
@@ -580,9 +360,8 @@ struct PendingMetric {
   size_t stat = 0;  // SharedBootstrap id
 };
 
-/// Registers every metric over `members` (nullptr: every paired case) as bootstrap scope
-/// `scope`.
-std::vector<PendingMetric> RegisterScope(const PairedCases& paired, size_t scope,
+/// Registers every metric over `members` (nullptr: every paired case) with the bootstrap.
+std::vector<PendingMetric> RegisterScope(const PairedCases& paired,
                                          const std::vector<uint32_t>* members,
                                          SharedBootstrap* bootstrap) {
   std::vector<PendingMetric> pending;
@@ -604,7 +383,7 @@ std::vector<PendingMetric> RegisterScope(const PairedCases& paired, size_t scope
     if (p.subset.empty()) continue;
     std::vector<double> differences(p.subset.size());
     for (size_t k = 0; k < differences.size(); ++k) differences[k] = p.cand[k] - p.base[k];
-    p.stat = bootstrap->AddMean(scope, p.subset, differences);
+    p.stat = bootstrap->AddMean(p.subset, differences);
     pending.push_back(std::move(p));
   }
   return pending;
@@ -1158,12 +937,10 @@ bool ComputeDrift(const RunValues& base, const RunValues& cand, const DriftOptio
     }
   }
   SharedBootstrap bootstrap(paired.size(), options.resamples, options.seed);
-  const std::vector<PendingMetric> run_level =
-      RegisterScope(paired, bootstrap.AddScope(true, {}), nullptr, &bootstrap);
+  const std::vector<PendingMetric> run_level = RegisterScope(paired, nullptr, &bootstrap);
   std::vector<std::vector<PendingMetric>> per_tag;
   for (const auto& [tag, members] : tag_members) {
-    per_tag.push_back(
-        RegisterScope(paired, bootstrap.AddScope(false, members), &members, &bootstrap));
+    per_tag.push_back(RegisterScope(paired, &members, &bootstrap));
   }
   RegisterLatency(paired, base_cases, cand_cases, report, &bootstrap);
   bootstrap.Run();

@@ -21,16 +21,24 @@
 ///   pattern_match, number_match, pass_rate and every paired value is exactly 0 or 1; otherwise
 ///   with the Wilcoxon signed-rank test on the differences (cand - base). See
 ///   metrics/paired_tests.h for both.
-/// - One paired bootstrap serves every interval: resample after resample, n paired-case indices
-///   are drawn with metrics::SeededRandom(seed).UniformIndex(n), the stream
-///   metrics::PairedBootstrapMeanDelta uses. A statistic over a subset of the cases (a tag, or a
-///   metric defined on some cases only) is its mean over the drawn cases of that subset
-///   (each counted as often as drawn); a resample that draws none of them is left out. Interval
-///   ends are the definition-7 percentiles at 2.5 and 97.5 of the kept resamples. For a metric
-///   defined on every paired case this is exactly PairedBootstrapMeanDelta(base, cand, B, seed);
-///   for latency over every paired case, exactly PairedBootstrapQuantileRatio. Sharing the draws
-///   keeps the cost at n * B index draws for the whole report, whatever the number of metrics
-///   and tags.
+/// - Paired bootstrap: B resamples of the n paired cases, each n case indices drawn uniformly
+///   with replacement; a statistic over a subset of the cases (a tag, or a metric defined on
+///   some cases only) is its mean over the drawn cases of that subset (each counted as often as
+///   drawn), and a resample that draws none of them is left out. Interval ends are the
+///   definition-7 percentiles at 2.5 and 97.5 of the kept resamples. Only each statistic's own
+///   resample distribution enters its interval, and that is drawn without drawing n indices:
+///   the number of draws landing in a subset of s cases is Binomial(n, s / n) (none drawn when
+///   s == n), and given that number K the draws are uniform over the subset, so the mean is the
+///   mean of K draws from its differences, drawn by counts per distinct difference
+///   (metrics::GroupedSum, grouped_bootstrap.h); the latency p50 and p95 ratios come from
+///   metrics::WindowedQuantileRatio, which draws one by one only the cases near the percentile.
+///   Both have exactly the index bootstrap's distribution (their headers say why). Streams: each
+///   distinct subset has its own metrics::SeededRandom(seed), which per resample draws K, then
+///   each statistic over that subset in registration order (the run-level metrics in display
+///   order, then tag by tag); each latency percentile has its own SeededRandom(seed). So the
+///   first statistic over every paired case has exactly metrics::GroupedBootstrapMean(its
+///   differences, B, seed). The subsets and percentiles run on up to WorkerCount() threads with
+///   the same values as on one. tests/reference/drift_reference.py transcribes every draw.
 /// - Missing cases: a case in the base but not in the candidate is, unless
 ///   DriftOptions::allow_missing, paired with a candidate that scored 0 on every metric the base
 ///   defines there and failed (as an errored case scores): it counts as lost, and the report lists

@@ -18,11 +18,12 @@ and latencies), following the definitions in runner/compare/drift.h, with the re
   - Holm: statsmodels.stats.multitest.multipletests(method="holm"), over the gated run-level
     metrics with at least six paired cases, and per metric over the tags with at least six,
   - verdicts: interval, min_effect and the (adjusted) p <= 0.05; "too few cases" below six,
-  - bootstrap intervals: numpy over the SAME resamples (the generator transcription in
-    statistics_reference.py, itself checked there against published vectors): per resample the
-    count of each paired case, a statistic over a case subset = sum(count * d) / sum(count) over
-    the subset, resamples without a case of the subset left out; latency = the type-7
-    percentile (numpy method="linear") of the drawn cases' latencies, ratio cand / base,
+  - bootstrap intervals: the draws of runner/compare/drift.h transcribed below (per case
+    subset one seeded stream: the draws landing in the subset, then each statistic's grouped
+    counts, metrics::GroupedSum; per latency percentile metrics::WindowedQuantileRatio), with
+    the generator and binomial sampler of statistics_reference.py (itself checked there against
+    published vectors and, for these draws, against numpy's index bootstrap within Monte Carlo
+    error); interval ends by numpy.percentile(method="linear"),
   - detectable effect at the level l = 0.05 / (gated family size) for a family member, 0.05
     otherwise: 0/1 metrics by exact power (noise (D + 1/2) / n for D of n pairs discordant) (the discordant count's scipy.stats.binom weights times
     the lost count's binomial upper tail beyond critical values found with
@@ -47,7 +48,9 @@ from statsmodels.stats.contingency_tables import mcnemar
 from statsmodels.stats.multitest import multipletests
 
 sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
-from statistics_reference import resample_indices  # noqa: E402
+from statistics_reference import (BinomialOdds, BinomialTables,  # noqa: E402
+                                  Xoshiro256StarStar, grouped_plan, resample_indices,
+                                  sample_binomial)
 
 BINARY_KIND = {"exact_match", "correct", "pattern_match", "number_match", "covers_gold", "pass_rate"}
 failures = []
@@ -163,16 +166,215 @@ def percentiles(values):
     return float(low), float(high)
 
 
+# --- The drift bootstrap, transcribed from runner/compare/drift.h ------------------------------
+# Per case subset one stream Xoshiro256StarStar(seed): per resample, the draws landing in the
+# subset (binomial, none when the subset is every paired case), then each statistic over that
+# subset, in the order drift.cc registers them, as metrics::GroupedSum (grouped_bootstrap.h);
+# per latency percentile one stream for metrics::WindowedQuantileRatio
+# (windowed_quantile_ratio.h). Same doubles, same C library log/exp: the same intervals to the
+# bit. COSTS: grouped_bootstrap.h's kBinomialDrawCost and kBinomialSdCost.
+
+def header_costs():
+    header = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "metrics",
+                          "grouped_bootstrap.h")
+    with open(header, encoding="utf-8") as f:
+        text = f.read()
+    value = {}
+    for name in ("kBinomialDrawCost", "kBinomialSdCost"):
+        value[name] = float(text.split(f"double {name} = ")[1].split(";")[0])
+    return value["kBinomialDrawCost"], value["kBinomialSdCost"]
+
+
+def sum_of_uniform_draws(data, draws, rng):
+    s = [0.0, 0.0, 0.0, 0.0]
+    i = 0
+    while i + 4 <= draws:
+        for k in range(4):
+            s[k] += data[rng.index(len(data))]
+        i += 4
+    while i < draws:
+        s[0] += data[rng.index(len(data))]
+        i += 1
+    return (s[0] + s[1]) + (s[2] + s[3])
+
+
+def grouped_sum(values, costs):
+    """metrics::GroupedSum: a function (draws, rng, tables) -> the sum of the draws."""
+    values = [float(v) for v in values]
+    index, distinct, chain, tail_cases = grouped_plan(values, costs) if len(values) >= 2 \
+        else (True, [], 0, 0)
+    if index:
+        return lambda draws, rng, tables: sum_of_uniform_draws(values, draws, rng)
+    odds, remaining = [], len(values)
+    for _, count in distinct[:chain]:
+        odds.append(BinomialOdds(float(count) / float(remaining)))
+        remaining -= count
+    tail = [v for v, count in distinct[chain:] for _ in range(count)] if tail_cases else []
+
+    def draw(draws, rng, tables):
+        total, left = 0.0, draws
+        for j in range(chain):
+            count = sample_binomial(rng, left, odds[j], tables)
+            total += float(count) * distinct[j][0]
+            left -= count
+        if not tail:
+            return total + float(left) * distinct[-1][0]
+        return total + sum_of_uniform_draws(tail, left, rng)
+    return draw
+
+
+def subset_intervals(n, size, differences, resamples, seed, costs, tables):
+    """The intervals of the statistics over one subset (each its differences, in order)."""
+    rng = Xoshiro256StarStar(seed)
+    in_subset = BinomialOdds(float(size) / float(n))
+    sums = [grouped_sum(d, costs) for d in differences]
+    means = [[] for _ in differences]
+    for _ in range(resamples):
+        drawn = n if size == n else sample_binomial(rng, n, in_subset, tables)
+        if drawn == 0:
+            continue
+        for k, draw in enumerate(sums):
+            means[k].append(draw(drawn, rng, tables) / drawn)
+    return [percentiles(m) if m else (None, None) for m in means]
+
+
+def rank_type7(t, p):
+    if t <= 1:
+        return 0, 0.0
+    h = float(t - 1) * (p / 100.0)
+    if not h > 0:
+        return 0, 0.0
+    if h >= float(t - 1):
+        return t - 1, 0.0
+    return int(math.floor(h)), h - math.floor(h)
+
+
+def interpolate(below, above, gamma):
+    difference = above - below
+    return above - difference * (1 - gamma) if gamma >= 0.5 else below + difference * gamma
+
+
+def windowed_ratio_interval(lb, lc, n, p, resamples, seed, tables):
+    """metrics::WindowedQuantileRatio's resamples, as its header orders the draws."""
+    size = len(lb)
+
+    def ranks(values):
+        order = sorted(range(size), key=lambda k: values[k])  # stable: ties by position
+        rank = [0] * size
+        for r, k in enumerate(order):
+            rank[k] = r
+        return rank, [values[k] for k in order]
+    brank, bsorted = ranks(lb)
+    crank, csorted = ranks(lc)
+    q = p / 100
+    half = math.ceil(7 * math.sqrt(float(size) * q * (1 - q))) + 2
+    center = math.floor(float(size - 1) * q)
+    a, b = int(max(0.0, center - half)), int(min(float(size), center + half + 2))
+
+    def cls(r):
+        return 0 if r < a else (1 if r < b else 2)
+    cells = {}
+    for k in range(size):
+        cells.setdefault(3 * cls(brank[k]) + cls(crank[k]), []).append(k)
+    chain = sorted(cells.items(), key=lambda item: (len(item[1]), item[0]))
+    odds, remaining = [], size
+    for _, cases in chain[:-1]:
+        odds.append(BinomialOdds(float(len(cases)) / float(remaining)))
+        remaining -= len(cases)
+    in_subset = BinomialOdds(float(size) / float(n))
+    rng = Xoshiro256StarStar(seed)
+    ratios = []
+
+    def quantile(counts, start, sorted_values, below, lower, upper, gamma, t):
+        seen, k = below, 0
+        while seen + counts[k] <= lower:
+            seen += counts[k]
+            k += 1
+        low = sorted_values[start + k]
+        while seen + counts[k] <= upper:
+            seen += counts[k]
+            k += 1
+        high = sorted_values[start + k]
+        return low if lower + 1 >= t else interpolate(low, high, gamma)
+
+    for _ in range(resamples):
+        t = n if size == n else sample_binomial(rng, n, in_subset, tables)
+        if t == 0:
+            continue
+        count, left = [0] * 9, t
+        for j, (number, _) in enumerate(chain):
+            c = left if j + 1 == len(chain) else sample_binomial(rng, left, odds[j], tables)
+            count[number] = c
+            left -= c
+        drawn = []
+
+        def draw_cell(number):
+            cases = cells.get(number)
+            if cases:
+                for _ in range(count[number]):
+                    drawn.append(cases[rng.index(len(cases))])
+        for number in range(9):
+            if number // 3 == 1 or number % 3 == 1:
+                draw_cell(number)
+        base_below = sum(count[x] for x in range(9) if x // 3 == 0)
+        base_inside = sum(count[x] for x in range(9) if x // 3 == 1)
+        cand_below = sum(count[x] for x in range(9) if x % 3 == 0)
+        cand_inside = sum(count[x] for x in range(9) if x % 3 == 1)
+        lower, gamma = rank_type7(t, p)
+        upper = min(lower + 1, t - 1)
+        if (base_below <= lower and upper < base_below + base_inside
+                and cand_below <= lower and upper < cand_below + cand_inside):
+            bc, cc = [0] * (b - a + 1), [0] * (b - a + 1)
+            for k in drawn:
+                if a <= brank[k] < b:
+                    bc[brank[k] - a] += 1
+                if a <= crank[k] < b:
+                    cc[crank[k] - a] += 1
+            ratios.append(quantile(cc, a, csorted, cand_below, lower, upper, gamma, t)
+                          / quantile(bc, a, bsorted, base_below, lower, upper, gamma, t))
+            continue
+        for number in range(9):
+            if number // 3 != 1 and number % 3 != 1:
+                draw_cell(number)
+        bc, cc = [0] * size, [0] * size
+        for k in drawn:
+            bc[brank[k]] += 1
+            cc[crank[k]] += 1
+        ratios.append(quantile(cc, 0, csorted, 0, lower, upper, gamma, t)
+                      / quantile(bc, 0, bsorted, 0, lower, upper, gamma, t))
+    return percentiles(ratios)
+
+
+def display_order(metrics):
+    """MetricDisplayOrder (runner/compare/drift.cc)."""
+    first = ["correct", "exact_match", "token_f1", "token_recall", "covers_gold", "knowledge_f1",
+             "cited_support", "pattern_match", "number_match", "grade.", "citation_precision",
+             "citation_recall", "citation_f1"]
+
+    def rank(m):
+        for i, f in enumerate(first):
+            if f == m or (f == "grade." and m.startswith("grade.")):
+                return (0, i, m)
+        if m.startswith("recall@") and m[7:].isdigit():
+            return (1, int(m[7:]), m)
+        if m == "mrr":
+            return (2, 0, m)
+        if m == "pass_rate":
+            return (3, 0, m)
+        return (4, 0, m)
+    return sorted(set(metrics), key=rank)
+
+
 def recompute(base_dir, cand_dir, resamples, seed, min_effect, gate):
     base_record, base = load_run(base_dir)
     _, cand = load_run(cand_dir)
     paired = sorted(i for i in base if i in cand and base[i]["gold_hash"] == cand[i]["gold_hash"])
     n = len(paired)
     metrics = sorted({m for c in list(base.values()) + list(cand.values()) for m in c["values"]})
-    idx = resample_indices(n, resamples, seed)
-    counts = np.zeros((resamples, n), dtype=np.int64)
-    for r in range(resamples):
-        counts[r] = np.bincount(idx[r], minlength=n)
+    metrics = display_order(metrics)  # drift.cc's registration order within a subset
+    tables = BinomialTables(n)
+    costs = header_costs()
+    registered = {}  # subset -> [(differences, statistic)], in registration order
 
     def binary(metric):
         if metric not in BINARY_KIND:
@@ -202,11 +404,7 @@ def recompute(base_dir, cand_dir, resamples, seed, min_effect, gate):
         else:
             out["p_value"], out["p_tolerance"] = wilcoxon_p(d)
         out["too_few"] = len(subset) < 6
-        sub_counts = counts[:, subset]
-        drawn = sub_counts.sum(axis=1)
-        keep = drawn > 0
-        means = (sub_counts[keep] @ d) / drawn[keep]
-        out["interval"] = percentiles(means) if len(means) else (None, None)
+        registered.setdefault(tuple(subset), []).append((d, out))
         out["p_holm"] = out["p_value"]
         return out
 
@@ -230,6 +428,11 @@ def recompute(base_dir, cand_dir, resamples, seed, min_effect, gate):
     for t in tags:
         members = [k for k in everyone if t in base[paired[k]]["tags"]]
         tag_level[t] = {m: s for m in metrics if (s := stat(m, members)) is not None}
+    for subset, stats in registered.items():
+        intervals = subset_intervals(n, len(subset), [d for d, _ in stats], resamples, seed,
+                                     costs, tables)
+        for (_, out), interval in zip(stats, intervals):
+            out["interval"] = interval
     for m in metrics:
         family = [t for t in tags if m in tag_level[t] and not tag_level[t][m]["too_few"]]
         if family:
@@ -273,18 +476,13 @@ def recompute(base_dir, cand_dir, resamples, seed, min_effect, gate):
     if latency_subset:
         lb = np.array([base[paired[k]]["latency"] for k in latency_subset])
         lc = np.array([cand[paired[k]]["latency"] for k in latency_subset])
-        sub_counts = counts[:, latency_subset]
         for p in (50, 95):
-            ratios = []
-            for r in range(resamples):
-                if sub_counts[r].sum() == 0:
-                    continue
-                ratios.append(np.percentile(np.repeat(lc, sub_counts[r]), p, method="linear")
-                              / np.percentile(np.repeat(lb, sub_counts[r]), p, method="linear"))
+            interval = windowed_ratio_interval(list(lb), list(lc), n, float(p), resamples, seed,
+                                               tables)
             base_q = np.percentile(lb, p, method="linear")
             cand_q = np.percentile(lc, p, method="linear")
             latency[f"p{p}"] = {"base": base_q, "cand": cand_q, "ratio": cand_q / base_q,
-                                "interval": percentiles(ratios)}
+                                "interval": interval}
 
     lost = [i for i in paired if base[i]["pass"] and not cand[i]["pass"]]
     gained = [i for i in paired if not base[i]["pass"] and cand[i]["pass"]]

@@ -25,6 +25,12 @@
 //   mcnemarpower N LOST GAINED LEVEL MIN_EFFECT  -> McNemarPower
 //   mcnemardrop N DISCORDANT LEVEL MIN_EFFECT POWER MAX -> McNemarDetectableDrop
 //   binomtail K N P                          -> BinomialProbability(K; N, P) BinomialUpperTail
+//   subsetmean RESAMPLES SEED N_ALL K V...   -> low high: 95% percentile interval of the drift
+//                                               bootstrap's mean over a K-case subset of N_ALL
+//                                               (draws in the subset ~ Binomial(N_ALL, K/N_ALL),
+//                                               then GroupedSum; resamples drawing none left out)
+//   windowed P RESAMPLES SEED N_ALL K BASE... CAND... -> low high: the same for
+//                                               WindowedQuantileRatio's resamples
 #include <algorithm>
 #include <cinttypes>
 #include <cstdio>
@@ -44,6 +50,7 @@
 #include "metrics/paired_tests.h"
 #include "metrics/percentile.h"
 #include "metrics/seeded_random.h"
+#include "metrics/windowed_quantile_ratio.h"
 
 namespace {
 
@@ -159,6 +166,33 @@ bool Run(const std::string& line) {
     Print({WilcoxonSignedRankP(ReadValues(in))});
   } else if (command == "holm") {
     Print(HolmAdjust(ReadValues(in)));
+  } else if (command == "subsetmean" || command == "windowed") {
+    const double p = command == "windowed" ? ReadDouble(in) : 0;
+    int resamples = 0;
+    uint64_t seed = 0, n_all = 0;
+    size_t k = 0;
+    in >> resamples >> seed >> n_all >> k;
+    const std::vector<double> base = ReadCount(in, k);
+    const BinomialTables tables(n_all);
+    SeededRandom random(seed);
+    std::vector<double> stats;
+    if (command == "windowed") {
+      const WindowedQuantileRatio ratio(base, ReadCount(in, k), n_all, p);
+      for (int r = 0; r < resamples; ++r) {
+        const double x = ratio.Draw(random, tables);
+        if (x == x) stats.push_back(x);
+      }
+    } else {
+      const GroupedSum sum(base);
+      const BinomialOdds in_subset(static_cast<double>(k) / static_cast<double>(n_all));
+      for (int r = 0; r < resamples; ++r) {
+        const uint64_t drawn =
+            k == n_all ? n_all : SampleBinomial(random, n_all, in_subset, tables);
+        if (drawn > 0) stats.push_back(sum.Sum(drawn, random, tables) / static_cast<double>(drawn));
+      }
+    }
+    std::sort(stats.begin(), stats.end());
+    Print({PercentileSorted(stats, 2.5), PercentileSorted(stats, 97.5)});
   } else if (command == "delta" || command == "ratio") {
     const double p = command == "ratio" ? ReadDouble(in) : 0;
     int resamples = 0;

@@ -601,6 +601,66 @@ def main():
         if got[2] != 0:
             failures.append(f"grouped {label}: expected a grouped plan, got {got[2:]}")
 
+    # The drift bootstrap's grouped draws (runner/compare/drift.h; exact transcription in
+    # drift_reference.py): its intervals against numpy's own case-index bootstrap (default_rng,
+    # an independent stream; n_all indices per resample, the statistic over the drawn cases of
+    # the subset) within Monte Carlo error. Both use B = 20,000. The allowance for each end a is
+    # read off the reference's own resamples: the distance between its empirical quantiles at
+    # a -+ 5 sqrt(a (1 - a) / B) (the percentile estimate's rank spread, 5 standard errors),
+    # times sqrt(2) for two independent estimates. Covered: a subset mean (2,000 of 3,000 cases:
+    # random draws per subset) of token-F1-like and of 0/1 differences, and the p50 and p95
+    # latency ratios over 3,000 cases, whose rank windows (about 390 and 170 ranks) leave most
+    # cases to the counted cells.
+    drift_b = 20000
+    drng = np.random.default_rng(11)
+    n_all, k = 3000, 2000
+
+    def allowance(ref, a):
+        step = 5 * math.sqrt(a * (1 - a) / drift_b)
+        lo, hi = np.percentile(ref, [100 * max(0.0, a - step), 100 * min(1.0, a + step)])
+        return math.sqrt(2) * (hi - lo) / 2
+
+    def compare_ends(label, got, ref):
+        want = bootstrap_percentiles(ref, 0.95)
+        done = 0
+        for end, g, w, a in [("low", got[0], want[0], 0.025), ("high", got[1], want[1], 0.975)]:
+            tol = allowance(ref, a)
+            done += 1
+            print(f"drift bootstrap vs numpy index bootstrap, {label}, B={drift_b}, {end}: "
+                  f"plumb {g:.6f}, reference {w:.6f}, |difference| {abs(g - w):.2e} <= {tol:.2e}")
+            if not abs(g - w) <= tol:
+                failures.append(f"drift bootstrap {label} {end}: plumb {g!r}, reference {w!r} "
+                                f"(tolerance {tol:.3g})")
+        return done
+
+    f1_diffs = list(np.where(drng.random(k) < 0.6,
+                             np.round(drng.uniform(-0.3, 0.25, k), 3), 0.0))
+    binary_diffs = list(np.where(drng.random(k) < 0.05, -1.0, 0.0)
+                        + np.where(drng.random(k) < 0.03, 1.0, 0.0))
+    for diffs, label in [(f1_diffs, "subset mean, token-F1-like"),
+                         (binary_diffs, "subset mean, 0/1")]:
+        got = run_driver(driver, [f"subsetmean {drift_b} {SEED} {n_all} {k} "
+                                  + " ".join(repr(float(x)) for x in diffs)])[0]
+        padded = np.concatenate([np.array(diffs), np.zeros(n_all - k)])
+        ref = []
+        for _ in range(drift_b // 1000):
+            idx = drng.integers(0, n_all, size=(1000, n_all))
+            drawn = (idx < k).sum(axis=1)
+            ref.append(padded[idx].sum(axis=1) / drawn)
+        checks += compare_ends(label, got, np.concatenate(ref))
+    lat_base = drng.lognormal(5.5, 0.4, n_all).round(1)
+    lat_cand = (lat_base * drng.uniform(0.9, 1.2, n_all)).round(1)
+    for p in (50, 95):
+        got = run_driver(driver, [f"windowed {p} {drift_b} {SEED} {n_all} {n_all} "
+                                  + " ".join(repr(float(x)) for x in lat_base) + " "
+                                  + " ".join(repr(float(x)) for x in lat_cand)])[0]
+        ref = []
+        for _ in range(drift_b // 1000):
+            idx = drng.integers(0, n_all, size=(1000, n_all))
+            ref.append(np.percentile(lat_cand[idx], p, axis=1, method="linear")
+                       / np.percentile(lat_base[idx], p, axis=1, method="linear"))
+        checks += compare_ends(f"latency p{p} ratio", got, np.concatenate(ref))
+
     # Exact McNemar.
     mcnemar_cases = [(b, c) for b in range(0, 26) for c in range(0, 26)]
     mcnemar_cases += [(0, 100), (0, 1074), (0, 1100), (1, 60), (40, 70), (400, 480), (1000, 1100),

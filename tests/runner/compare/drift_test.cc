@@ -13,6 +13,7 @@
 #include <vector>
 
 #include "metrics/detectable_effect.h"
+#include "metrics/grouped_bootstrap.h"
 #include "metrics/paired_bootstrap.h"
 
 using plumb::CaseRecord;
@@ -162,12 +163,15 @@ TEST_CASE("runs of different suites are refused") {
   CHECK(error.find("'harbour'") != std::string::npos);
 }
 
-TEST_CASE("a metric on every paired case has exactly PairedBootstrapMeanDelta's interval") {
-  // 40 cases, 7 lost, 2 gained, token F1 moved on most of them: one shared resample stream must
-  // give each metric the interval the single-statistic bootstrap gives it (same draws: the
-  // documented contract of runner/compare/drift.h).
+TEST_CASE("a metric on every paired case has exactly the grouped bootstrap's interval") {
+  // 40 cases, 7 lost, 2 gained, token F1 moved on most of them. The first statistic drawn over
+  // every paired case (correct) has exactly metrics::GroupedBootstrapMean's interval of its
+  // differences, and the p50 latency ratio, whose window of ranks covers all 40 cases here,
+  // exactly PairedBootstrapQuantileRatio's (the documented contract of runner/compare/drift.h).
+  // token_f1 continues the same stream after correct's draws: the same distribution, so the
+  // interval is close, not equal (tests/reference/drift_reference.py transcribes it exactly).
   std::vector<Item> b, c;
-  std::vector<double> bc, cc, bf, cf, bl, cl;
+  std::vector<double> dc, df, bl, cl;
   for (int i = 0; i < 40; ++i) {
     const double was = i % 5 == 0 ? 0 : 1;
     const double is = i < 18 && i % 2 == 1 ? 0 : (i == 0 || i == 5 ? 1 : was);
@@ -176,31 +180,31 @@ TEST_CASE("a metric on every paired case has exactly PairedBootstrapMeanDelta's 
     c.push_back(Scored("case" + std::to_string(100 + i), is, f1c));
     b.back().latency_ms = 50 + 7 * (i % 11);
     c.back().latency_ms = b.back().latency_ms * (1 + 0.01 * (i % 4));
-    bc.push_back(was), cc.push_back(is), bf.push_back(f1b), cf.push_back(f1c);
+    dc.push_back(is - was), df.push_back(f1c - f1b);
     bl.push_back(b.back().latency_ms), cl.push_back(c.back().latency_ms);
   }
   DriftOptions options;
   options.resamples = 3000;
   options.seed = 99;
   const DriftReport r = Drift(MakeRun(b), MakeRun(c), options);
-  const auto want_correct = plumb::metrics::PairedBootstrapMeanDelta(bc, cc, 3000, 99);
+  const plumb::metrics::Interval want_correct = plumb::metrics::GroupedBootstrapMean(dc, 3000, 99);
   const plumb::MetricDrift& correct = Metric(r, "correct");
-  // 0/1 differences: every partial sum is an integer, so the two agree to the bit.
-  CHECK(correct.interval.low == want_correct.interval.low);
-  CHECK(correct.interval.high == want_correct.interval.high);
-  CHECK(correct.delta == want_correct.delta);
-  const auto want_f1 = plumb::metrics::PairedBootstrapMeanDelta(bf, cf, 3000, 99);
+  CHECK(correct.interval.low == want_correct.low);
+  CHECK(correct.interval.high == want_correct.high);
+  const plumb::metrics::Interval want_f1 = plumb::metrics::GroupedBootstrapMean(df, 3000, 99);
   const plumb::MetricDrift& f1 = Metric(r, "token_f1");
-  CHECK(f1.interval.low == Approx(want_f1.interval.low).epsilon(1e-12).margin(1e-15));
-  CHECK(f1.interval.high == Approx(want_f1.interval.high).epsilon(1e-12).margin(1e-15));
+  CHECK(f1.interval.low == Approx(want_f1.low).margin(0.002));
+  CHECK(f1.interval.high == Approx(want_f1.high).margin(0.002));
   const auto want_p50 = plumb::metrics::PairedBootstrapQuantileRatio(bl, cl, 50, 3000, 99);
-  const auto want_p95 = plumb::metrics::PairedBootstrapQuantileRatio(bl, cl, 95, 3000, 99);
   REQUIRE(r.latency_p50.available);
   CHECK(r.latency_p50.ratio == want_p50.ratio);
   CHECK(r.latency_p50.interval.low == want_p50.interval.low);
   CHECK(r.latency_p50.interval.high == want_p50.interval.high);
-  CHECK(r.latency_p95.interval.low == want_p95.interval.low);
-  CHECK(r.latency_p95.interval.high == want_p95.interval.high);
+  // The p95 window leaves ranks out, so its draws differ: the same distribution, checked
+  // within Monte Carlo error by tests/reference/drift_reference.py; here only that it is close.
+  const auto want_p95 = plumb::metrics::PairedBootstrapQuantileRatio(bl, cl, 95, 3000, 99);
+  CHECK(r.latency_p95.interval.low == Approx(want_p95.interval.low).margin(0.01));
+  CHECK(r.latency_p95.interval.high == Approx(want_p95.interval.high).margin(0.01));
 }
 
 TEST_CASE("per-tag p-values are Holm-adjusted, and a tag verdict must survive the adjustment") {
