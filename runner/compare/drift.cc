@@ -368,6 +368,10 @@ std::vector<PendingMetric> RegisterScope(const PairedCases& paired,
   for (size_t m = 0; m < paired.names.size(); ++m) {
     PendingMetric p;
     p.metric = m;
+    const size_t most = members == nullptr ? paired.size() : members->size();
+    p.subset.reserve(most);
+    p.base.reserve(most);
+    p.cand.reserve(most);
     auto consider = [&](uint32_t i) {
       const double b = paired.Base(i, m), c = paired.Cand(i, m);
       if (std::isnan(b) || std::isnan(c)) return;

@@ -1,6 +1,7 @@
 #include "runner/run/run_values.h"
 
 #include <fcntl.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include <algorithm>
@@ -358,17 +359,23 @@ bool ReadCases(QuickScanner* s, RunValues* values) {
 bool ReadFile(const std::string& path, std::string* out) {
   const int fd = ::open(path.c_str(), O_RDONLY | O_CLOEXEC);
   if (fd < 0) return false;
-  out->clear();
-  char buffer[1 << 16];
+  // Sized once from fstat and read in place: growing the string block by block touched about
+  // three times the file's size in fresh pages (run.json of 100,000 cases is ~46 MB).
+  struct stat info;
+  size_t size = ::fstat(fd, &info) == 0 && info.st_size > 0 ? static_cast<size_t>(info.st_size) : 0;
+  out->resize(size + 1);  // one byte more: a file that grew since fstat shows it
+  size_t have = 0;
   while (true) {
-    const ssize_t got = ::read(fd, buffer, sizeof buffer);
+    if (have == out->size()) out->resize(2 * out->size() + (size_t{1} << 16));
+    const ssize_t got = ::read(fd, out->data() + have, out->size() - have);
     if (got < 0) {
       ::close(fd);
       return false;
     }
     if (got == 0) break;
-    out->append(buffer, static_cast<size_t>(got));
+    have += static_cast<size_t>(got);
   }
+  out->resize(have);
   ::close(fd);
   return true;
 }
