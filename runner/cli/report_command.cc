@@ -125,6 +125,7 @@ RunAggregates AggregatesFromRecord(const nlohmann::json& record) {
     run.cost_per_case.interval = {i[0].get<double>(), i[1].get<double>()};
   }
   run.warmups = WarmupsFromJson(At(a, "warmup"));
+  run.sessions = SessionsFromJson(At(record, "sessions"));
   const nlohmann::json& unstable = At(a, "unstable_cases");
   if (unstable.is_array()) {
     for (const nlohmann::json& id : unstable) {

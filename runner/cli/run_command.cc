@@ -8,6 +8,7 @@
 #include <chrono>
 #include <cstdio>
 #include <cstring>
+#include <map>
 #include <memory>
 #include <set>
 
@@ -50,21 +51,61 @@ struct ResumeState {
   long long keep_bytes = -1;
 };
 
+/// The number of turns of the session whose turn is suite.cases[index].
+size_t SessionLength(const Suite& suite, size_t index) {
+  size_t first = index - static_cast<size_t>(suite.cases[index].turn - 1);
+  size_t end = first + 1;
+  while (end < suite.cases.size() && suite.cases[end].turn > 1 &&
+         suite.cases[end].session == suite.cases[first].session) {
+    ++end;
+  }
+  return end - first;
+}
+
 bool LoadResumeState(const std::string& journal_path, const Suite& suite,
                      const std::vector<size_t>& selected, ResumeState* state, std::string* error) {
   JournalContents contents;
-  if (!ReadJournal(journal_path, &contents, error)) return false;
+  if (!ReadJournal(journal_path, &contents, error, /*keep_lines=*/true)) return false;
   for (const std::string& w : contents.warnings) std::fprintf(stderr, "warning: %s\n", w.c_str());
   std::vector<bool> is_selected(suite.cases.size(), false);
   for (size_t i : selected) is_selected[i] = true;
-  for (const nlohmann::json& json : contents.records) {
-    CaseRecord record;
+  // A session is one unit (issue 22): kept only when the journal has every one of its turns
+  // for that repeat. The turns of one that is not are cut off the journal with everything
+  // after the first of them (a session is written in one piece, so such a piece is the torn
+  // end of the file) and run again from turn 1.
+  std::map<std::pair<std::string, int>, size_t> turns_seen;  // (session, repeat) -> turns
+  std::vector<size_t> indices(contents.records.size(), CaseIdIndex::kAbsent);
+  std::vector<CaseRecord> records(contents.records.size());
+  for (size_t r = 0; r < contents.records.size(); ++r) {
     std::string record_error;
-    if (!CaseRecordFromJson(json, &record, &record_error)) {
+    if (!CaseRecordFromJson(contents.records[r], &records[r], &record_error)) {
       *error = journal_path + ": " + record_error;
       return false;
     }
-    const size_t index = suite.case_ids.Find(suite.cases, record.id);
+    indices[r] = suite.case_ids.Find(suite.cases, records[r].id);
+    if (indices[r] != CaseIdIndex::kAbsent && suite.cases[indices[r]].turn > 0) {
+      ++turns_seen[{suite.cases[indices[r]].session, records[r].repeat}];
+    }
+  }
+  size_t keep_records = records.size();
+  long long keep_bytes = 0;
+  for (size_t r = 0; r < records.size(); ++r) {
+    const size_t index = indices[r];
+    if (index != CaseIdIndex::kAbsent && suite.cases[index].turn > 0 &&
+        turns_seen[{suite.cases[index].session, records[r].repeat}] !=
+            SessionLength(suite, index)) {
+      keep_records = r;
+      std::fprintf(stderr,
+                   "warning: %s: session '%s' (repeat %d) is not whole in the journal; it runs "
+                   "again from turn 1\n",
+                   journal_path.c_str(), suite.cases[index].session.c_str(), records[r].repeat);
+      break;
+    }
+    keep_bytes += static_cast<long long>(contents.lines[r].size()) + 1;
+  }
+  for (size_t r = 0; r < keep_records; ++r) {
+    const size_t index = indices[r];
+    const CaseRecord& record = records[r];
     // Not in the suite, or not selected this time: kept in the journal as is.
     if (index == CaseIdIndex::kAbsent || !is_selected[index]) continue;
     if (!state->finished.insert({record.id, record.repeat}).second) continue;
@@ -72,7 +113,7 @@ bool LoadResumeState(const std::string& journal_path, const Suite& suite,
     outcome.scores.abstention_case = suite.cases[index].answers.empty();
     state->outcomes.push_back(std::move(outcome));
   }
-  state->keep_bytes = contents.valid_bytes;
+  state->keep_bytes = keep_records == records.size() ? contents.valid_bytes : keep_bytes;
   return true;
 }
 
@@ -149,11 +190,22 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
     return kExitUsage;
   }
   std::vector<WorkItem> items;
-  for (size_t index : selected) {
-    for (int repeat = 0; repeat < options.repeat; ++repeat) {
-      if (resume.finished.count({suite.cases[index].id, repeat})) continue;
-      items.push_back({index, repeat});
+  for (size_t k = 0; k < selected.size();) {
+    // A session's turns go in turn order within each repeat, so the scheduler sees each
+    // (session, repeat) as one run of consecutive items (its unit of work).
+    size_t end = k + 1;
+    const Case& first = suite.cases[selected[k]];
+    while (first.turn > 0 && end < selected.size() && suite.cases[selected[end]].turn > 1 &&
+           suite.cases[selected[end]].session == first.session) {
+      ++end;
     }
+    for (int repeat = 0; repeat < options.repeat; ++repeat) {
+      for (size_t t = k; t < end; ++t) {
+        if (resume.finished.count({suite.cases[selected[t]].id, repeat})) continue;
+        items.push_back({selected[t], repeat});
+      }
+    }
+    k = end;
   }
 
   std::unique_ptr<ReplyMapping> reply = ReplyMapping::Create(pipeline.reply, &error);

@@ -18,32 +18,54 @@ namespace plumb {
 
 class JsonWriter;
 
-/// The request of §5: {"id", "question", "input", "repeat"}.
+/// Where a request stands in a multi-turn session (issue 22): the request of a session's turn
+/// also carries "session", "turn" and "history".
+struct SessionTurn {
+  std::string session;  // the session's id (its turns' ids are "SESSION#N")
+  int turn = 0;         // 1-based
+  /// The earlier turns in order, [{"question": ..., "answer": ...}], each answer the pipeline's
+  /// own (null where it errored or abstained). Null when not known (`plumb score` records a
+  /// turn without one): the request then carries no "history".
+  nlohmann::json history = nlohmann::json::array();
+};
+
+/// The request of §5: {"id", "question", "input", "repeat"}, and for a session's turn also
+/// {"session", "turn", "history"}.
 struct PipelineRequest {
   std::string id;
   std::string question;
   nlohmann::json input = nlohmann::json::object();
   int repeat = 0;
   /// A request of another shape (a grader's), as one line of compact JSON. When set, it is what
-  /// ToLine and ToJson give instead of the four fields above.
+  /// ToLine and ToJson give instead of the fields above.
   std::string line;
+  /// Set for a turn of a session; null for a plain case.
+  const SessionTurn* turn = nullptr;
 
   nlohmann::json ToJson() const {
     if (!line.empty()) return nlohmann::json::parse(line, nullptr, false);
-    return {{"id", id}, {"question", question}, {"input", input}, {"repeat", repeat}};
+    nlohmann::json out = {{"id", id}, {"question", question}, {"input", input}, {"repeat", repeat}};
+    if (turn != nullptr) {
+      out["session"] = turn->session;
+      out["turn"] = turn->turn;
+      if (!turn->history.is_null()) out["history"] = turn->history;
+    }
+    return out;
   }
   /// The same object as one line of compact JSON, without the newline: what a subprocess
   /// pipeline reads and what the journal records. Invalid UTF-8 becomes U+FFFD.
   std::string ToLine() const {
-    return line.empty() ? RequestLine(id, question, input, repeat) : line;
+    return line.empty() ? RequestLine(id, question, input, repeat, turn) : line;
   }
 
   /// `input` null (a case without input) is written as {}.
   static std::string RequestLine(const std::string& id, const std::string& question,
-                                 const nlohmann::json& input, int repeat);
+                                 const nlohmann::json& input, int repeat,
+                                 const SessionTurn* turn = nullptr);
   /// The same object, written as the next value of `out`.
   static void WriteRequest(const std::string& id, const std::string& question,
-                           const nlohmann::json& input, int repeat, JsonWriter* out);
+                           const nlohmann::json& input, int repeat, JsonWriter* out,
+                           const SessionTurn* turn = nullptr);
 };
 
 /// What one call produced. `error` empty means `body` holds a complete reply to parse;
@@ -67,6 +89,10 @@ struct CallResult {
   bool first_call = false;
   int attempts = 1;     // 2 when a crashed persistent worker was restarted and retried
   int http_status = 0;  // HTTP adapter only
+  /// Which start of the slot's persistent worker gave the reply (1 for the slot's first
+  /// process, 2 after one restart, ...); 0 for adapters without persistent workers. A
+  /// session whose turns saw two values lost the worker's state mid-way (issue 22).
+  int worker_start = 0;
 };
 
 /// How long one worker took to become ready (issue 21): a persistent process from its start to

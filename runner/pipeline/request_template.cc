@@ -37,6 +37,13 @@ bool Lookup(const std::string& field, const Fields& fields, nlohmann::json* valu
     *value = request.question;
   } else if (field == "repeat") {
     *value = request.repeat;
+  } else if (field == "session") {  // a session's turn (issue 22); null for a plain case
+    *value = request.turn != nullptr ? nlohmann::json(request.turn->session) : nlohmann::json();
+  } else if (field == "turn") {
+    *value = request.turn != nullptr ? nlohmann::json(request.turn->turn) : nlohmann::json();
+  } else if (field == "history") {  // [] for a plain case and a session's first turn
+    *value = request.turn != nullptr && !request.turn->history.is_null() ? request.turn->history
+                                                                         : nlohmann::json::array();
   } else if (field == "input") {
     *value = request.input.is_null() ? nlohmann::json::object() : request.input;
   } else {

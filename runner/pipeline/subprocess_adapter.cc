@@ -351,6 +351,7 @@ CallResult SubprocessAdapter::Call(const PipelineRequest& request, int index) {
   }
   FillExcerpts(slot, outcome != Outcome::kReply, &result);
   if (slot.out.capacity() > kKeptBufferBytes) slot.out.Release();
+  if (mode_ == SubprocessMode::kPersistent) result.worker_start = slot.starts;
   return result;
 }
 

@@ -2,6 +2,8 @@
 
 #include <fmt/format.h>
 
+#include <cmath>
+
 #include "runner/base/terminal_palette.h"
 
 namespace plumb {
@@ -68,6 +70,34 @@ std::string FormatCauseRows(const CauseBreakdown& causes, const Palette& p) {
     out += fmt::format("  {:<26} {:>6} {:>7.3f}   [{:.3f}, {:.3f}]\n", FailureCauseLabel(c.cause),
                        c.count, c.share, c.interval.low, c.interval.high);
   }
+  return out;
+}
+
+std::string FormatSessionRows(const SessionAggregates& s) {
+  auto number = [](double v) {
+    return std::isfinite(v) ? fmt::format("{:.2f}", v) : std::string("n/a");
+  };
+  auto estimate = [&](const char* name, const metrics::PercentileEstimate& e) {
+    return fmt::format("{} {} [{}, {}]", name, number(e.value), number(e.interval.low),
+                       number(e.interval.high));
+  };
+  auto ratio = [&](const char* name, const metrics::RatioResult& r) {
+    return fmt::format("{} x{} [{}, {}]", name, number(r.ratio), number(r.interval.low),
+                       number(r.interval.high));
+  };
+  std::string out =
+      fmt::format("\n  {:<20} {} session{}, {} turns; session_pass {:.3f} [{:.3f}, {:.3f}]",
+                  "sessions", s.count, s.count == 1 ? "" : "s", s.turns, s.SessionPass(),
+                  s.session_pass_interval.low, s.session_pass_interval.high);
+  if (s.restarts > 0) out += fmt::format("; {} run again from turn 1", s.restarts);
+  out += "\n";
+  out +=
+      fmt::format("  {:<20} {}  {}  (n {})\n", "first turn ms", estimate("p50", s.first_turn.p50),
+                  estimate("p95", s.first_turn.p95), s.first_turn.n);
+  out += fmt::format("  {:<20} {}  {}  (n {})\n", "follow-up ms", estimate("p50", s.follow_up.p50),
+                     estimate("p95", s.follow_up.p95), s.follow_up.n);
+  out += fmt::format("  {:<20} {}  {}\n", "follow-up / first", ratio("p50", s.p50_ratio),
+                     ratio("p95", s.p95_ratio));
   return out;
 }
 
@@ -144,6 +174,7 @@ std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
   if (run.price) {
     out += FormatCostLine(*run.price, run.cost_items, run.cost_total, run.cost_per_case);
   }
+  if (run.sessions) out += FormatSessionRows(*run.sessions);
 
   if (!run.tags.empty()) {
     out += fmt::format("\n  {}{:<20} {:>6} {:>9} {:>9} {:>9} {:>9}{}\n", p.dim, "tag", "cases",

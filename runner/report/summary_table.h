@@ -31,6 +31,10 @@ struct SummaryHeader {
 
 /// Without `exit_line` the table ends before the verdict line (the caller prints it, last).
 /// `error_reasons` (FormatErrorReasons) is printed under the cause rows.
+/// The summary's lines about multi-turn sessions (issue 22): count, session_pass, and the
+/// first-turn and follow-up latency with their ratio.
+std::string FormatSessionRows(const SessionAggregates& sessions);
+
 std::string FormatSummary(const SummaryHeader& header, const RunAggregates& aggregates,
                           const std::vector<ThresholdOutcome>& thresholds,
                           const RunVerdict& verdict, bool colour, bool exit_line = true,

@@ -51,6 +51,7 @@ void EndCaseRecord(const CaseRecord& r, JsonWriter* out) {
   if (r.first_call) w.PlainKey("first_call").Bool(true);
   if (r.ttft_ms) w.PlainKey("ttft_ms").Double(*r.ttft_ms);
   w.PlainKey("attempts").Int(r.attempts);
+  if (r.session_restarts > 0) w.PlainKey("session_restarts").Int(r.session_restarts);
   // The service's own timing, when the pipeline's `reply:` block maps it.
   if (r.error.empty() && r.parsed.service_latency_ms) {
     w.PlainKey("service_latency_ms").Double(*r.parsed.service_latency_ms);
@@ -124,6 +125,7 @@ bool CaseRecordFromJson(const nlohmann::json& json, CaseRecord* r, std::string* 
       r->cost = cost->get<double>();
     }
     r->attempts = json.value("attempts", 1);
+    r->session_restarts = json.value("session_restarts", 0);
     const nlohmann::json& err = json.at("error");
     if (!err.is_null()) {
       r->error = err.value("reason", std::string("error"));

@@ -37,6 +37,9 @@ struct CaseRecord {
   /// What the reply cost at the pipeline's `price:` (runner/run/token_cost.h); "cost".
   std::optional<double> cost;
   int attempts = 1;
+  /// A session's turn (issue 22): how often the session was run again from turn 1 because its
+  /// persistent worker was replaced mid-session (its state gone). 0 for a plain case.
+  int session_restarts = 0;
   std::string error;  // empty when the reply was valid
   std::string stdout_excerpt;
   std::string stderr_excerpt;

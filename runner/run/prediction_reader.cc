@@ -14,6 +14,16 @@
 namespace plumb {
 namespace {
 
+// A recorded reply to a session's turn: the request names the session and turn; the history
+// the pipeline saw is not known, so the request carries none.
+SessionTurn RecordedTurn(const Case& c) {
+  SessionTurn turn;
+  turn.session = c.session;
+  turn.turn = c.turn;
+  turn.history = nlohmann::json();
+  return turn;
+}
+
 // Repeats are numbered from 0; a bound keeps the (case, repeat) key unambiguous.
 constexpr int64_t kMaxRepeat = (1 << 20) - 1;
 // The file is read this many bytes at a time (a longer line is read whole).
@@ -179,7 +189,9 @@ PredictionReader::LineRead PredictionReader::ReadFlat(const Line& line, Chunk* c
   const size_t begin = w.size();
   BeginCaseRecord(c.id, record.repeat, &w);
   w.PlainKey("request");
-  PipelineRequest::WriteRequest(c.id, c.question, c.input, record.repeat, &w);
+  const SessionTurn turn = RecordedTurn(c);
+  PipelineRequest::WriteRequest(c.id, c.question, c.input, record.repeat, &w,
+                                c.turn > 0 ? &turn : nullptr);
   w.PlainKey("response");
   chunk->flat.Write(&w);
   EndCaseRecord(record, &w);
@@ -227,9 +239,11 @@ PredictionReader::LineRead PredictionReader::ReadGeneral(const Line& line, Chunk
     call.latency_ms = it->get<double>();
   }
   call.body = std::string(line.text);
+  const Case& c = prepared_.suite.cases[result->case_index];
+  const SessionTurn turn = RecordedTurn(c);
   CaseRecord record =
-      MakeCaseRecord(prepared_.suite.cases[result->case_index], result->repeat, call, recorded_,
-                     ProtocolReplyMapping(), *prepared_.scorer, result->case_index, &json);
+      MakeCaseRecord(c, result->repeat, call, recorded_, ProtocolReplyMapping(), *prepared_.scorer,
+                     result->case_index, &json, c.turn > 0 ? &turn : nullptr);
   const size_t begin = chunk->journal.size();
   WriteCaseRecord(record, &chunk->journal);
   KeepRecord(begin, std::move(record), chunk, result);
@@ -296,9 +310,11 @@ bool PredictionReader::RecordMissing(size_t case_index, std::vector<CaseOutcome>
                                      std::string* error) {
   CallResult call;
   call.error = "no prediction for this case in " + path_;
+  const Case& c = prepared_.suite.cases[case_index];
+  const SessionTurn turn = RecordedTurn(c);
   const CaseRecord record =
-      MakeCaseRecord(prepared_.suite.cases[case_index], 0, call, recorded_, ProtocolReplyMapping(),
-                     *prepared_.scorer, case_index, nullptr);
+      MakeCaseRecord(c, 0, call, recorded_, ProtocolReplyMapping(), *prepared_.scorer, case_index,
+                     nullptr, c.turn > 0 ? &turn : nullptr);
   if (!journal_->AppendLine(CaseRecordLine(record), error)) return false;
   outcomes->push_back(OutcomeOf(record, case_index));
   return true;

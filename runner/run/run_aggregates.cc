@@ -280,6 +280,7 @@ RunAggregates AggregateRun(const Suite& suite, const std::vector<CaseOutcome>& o
     t.causes = BreakDownCauses(groups[index].causes);
     run.tags.push_back(std::move(t));
   }
+  run.sessions = AggregateSessions(suite, outcomes);
   return run;
 }
 

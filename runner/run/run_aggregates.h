@@ -17,6 +17,7 @@
 #include "metrics/percentile.h"
 #include "runner/run/cause_breakdown.h"
 #include "runner/run/scheduler.h"
+#include "runner/run/session_aggregates.h"
 #include "runner/suite/suite.h"
 
 namespace plumb {
@@ -59,6 +60,8 @@ struct RunAggregates {
   /// Failed cases (not every repeat passed) by cause; a case's cause is its first failed
   /// repeat's.
   CauseBreakdown causes;
+  /// Multi-turn sessions (issue 22); null when the run has none.
+  std::optional<SessionAggregates> sessions;
   /// This invocation's worker start-ups (not AggregateRun's: FinishRun adds the adapter's).
   std::vector<WorkerWarmup> warmups;
 

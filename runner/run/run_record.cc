@@ -143,6 +143,7 @@ std::string RunRecordTail(const RunContext& ctx, const RunAggregates& aggregates
   // Why cases failed comes first: it is what a reader of a failed run asks first.
   w.Key("failures").Value(FailuresToJson(aggregates));
   w.Key("aggregates").Value(AggregatesToJson(aggregates));
+  if (aggregates.sessions) w.Key("sessions").Value(SessionsToJson(*aggregates.sessions));
   w.Key("thresholds").Value(ThresholdsToJson(thresholds));
   w.Key("verdict")
       .BeginObject()

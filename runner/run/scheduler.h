@@ -6,6 +6,15 @@
 /// append the record to the journal as soon as it finishes. Only small CaseOutcomes stay in
 /// memory (scores, latency), never reply bodies, so memory grows with cases, not responses.
 /// A call that fails costs its case (recorded as a case error), never the run.
+///
+/// Multi-turn sessions (issue 22): consecutive items that are turns 1, 2, ... of one session in
+/// one repeat are one unit, run in order by one worker on its slot (one persistent process),
+/// each turn's request carrying the earlier turns' questions and the pipeline's own answers.
+/// Different sessions run at once on different slots. The unit's records are journaled
+/// together once its last turn is done (one write), so an interrupted session leaves nothing
+/// and --resume runs it from turn 1. When a turn is answered by another start of the slot's
+/// worker than turn 1 was (it crashed and was replaced: the session's state is gone), the
+/// session runs again from turn 1, once, and its records say so (`session_restarts`).
 
 #include <atomic>
 #include <cstdint>
@@ -39,6 +48,7 @@ struct CaseOutcome {
   bool latency_lower_bound = false;  // timed out: latency_ms is the timeout
   bool first_call = false;           // a fresh worker's first reply: its first_call_ms
   int attempts = 1;
+  int session_restarts = 0;  // a session's turn: see CaseRecord::session_restarts
   int64_t input_tokens = 0;
   int64_t output_tokens = 0;
   bool has_usage = false;         // the reply carried a token count
@@ -80,10 +90,11 @@ ScheduleResult RunSchedule(const ScheduleInputs& inputs);
 /// `parsed_body`, when not null, is call.body already parsed as JSON by the caller (valid, and from
 /// a pipeline without secrets): it is used, and moved from, instead of parsing the body a second
 /// time.
+/// `turn`, for a session's turn, is what its request carried (session, turn, history).
 CaseRecord MakeCaseRecord(const Case& c, int repeat, const CallResult& call,
                           const PipelineConfig& pipeline, const ReplyMapping& reply,
                           const CaseScorer& scorer, size_t case_index,
-                          nlohmann::json* parsed_body = nullptr);
+                          nlohmann::json* parsed_body = nullptr, const SessionTurn* turn = nullptr);
 
 CaseOutcome OutcomeOf(const CaseRecord& record, size_t case_index);
 /// The same, taking the scores out of a record that is no longer needed.

@@ -39,28 +39,50 @@ uint64_t StableIdHash(const std::string& id) {
 
 std::vector<size_t> SelectCases(const Suite& suite, const CaseSelection& selection) {
   std::vector<size_t> out;
-  for (size_t i = 0; i < suite.cases.size(); ++i) {
+  int64_t units = 0;
+  auto has_tag = [&](const Case& c) {
+    return std::any_of(selection.tags.begin(), selection.tags.end(), [&](const std::string& tag) {
+      return std::find(c.tags.begin(), c.tags.end(), tag) != c.tags.end();
+    });
+  };
+  auto id_matches = [&](const std::string& id) {
+    return std::any_of(
+        selection.id_globs.begin(), selection.id_globs.end(),
+        [&](const std::string& glob) { return fnmatch(glob.c_str(), id.c_str(), 0) == 0; });
+  };
+  for (size_t i = 0; i < suite.cases.size();) {
     const Case& c = suite.cases[i];
+    // The unit: a plain case, or every turn of a session (consecutive in the suite).
+    size_t end = i + 1;
+    if (c.turn > 0) {
+      while (end < suite.cases.size() && suite.cases[end].turn > 0 &&
+             suite.cases[end].session == c.session && suite.cases[end].turn > 1) {
+        ++end;
+      }
+    }
+    const size_t begin = i;
+    i = end;
+    const std::string& unit_id = c.turn > 0 ? c.session : c.id;
     if (!selection.tags.empty()) {
-      const bool tagged =
-          std::any_of(selection.tags.begin(), selection.tags.end(), [&](const std::string& tag) {
-            return std::find(c.tags.begin(), c.tags.end(), tag) != c.tags.end();
-          });
+      bool tagged = false;
+      for (size_t t = begin; t < end && !tagged; ++t) tagged = has_tag(suite.cases[t]);
       if (!tagged) continue;
     }
     if (!selection.id_globs.empty()) {
-      const bool matched = std::any_of(
-          selection.id_globs.begin(), selection.id_globs.end(),
-          [&](const std::string& glob) { return fnmatch(glob.c_str(), c.id.c_str(), 0) == 0; });
+      bool matched = id_matches(unit_id);
+      for (size_t t = begin; t < end && !matched && c.turn > 0; ++t) {
+        matched = id_matches(suite.cases[t].id);
+      }
       if (!matched) continue;
     }
     if (selection.shard.count > 1 &&
-        StableIdHash(c.id) % static_cast<uint64_t>(selection.shard.count) !=
+        StableIdHash(unit_id) % static_cast<uint64_t>(selection.shard.count) !=
             static_cast<uint64_t>(selection.shard.index - 1)) {
       continue;
     }
-    if (selection.limit >= 0 && static_cast<int64_t>(out.size()) >= selection.limit) break;
-    out.push_back(i);
+    if (selection.limit >= 0 && units >= selection.limit) break;
+    ++units;
+    for (size_t t = begin; t < end; ++t) out.push_back(t);
   }
   return out;
 }

@@ -4,6 +4,9 @@
 /// Which cases a run takes (SPEC §8): `--tag T` (any of the tags), `--case GLOB` (any glob,
 /// fnmatch syntax, on the id), `--shard I/N` (the cases whose stable id hash falls in shard I of
 /// N), then `--limit N` (the first N of what is left, in suite order). Filters combine with AND.
+/// A multi-turn session (issue 22) is one unit: it is selected whole or not at all. `--tag` and
+/// `--case` select it when any of its turns matches (a glob is tried on the session's id and on
+/// each turn id), `--shard` hashes the session's id, and `--limit` counts it as one.
 
 #include <cstdint>
 #include <string>

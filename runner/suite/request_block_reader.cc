@@ -10,12 +10,13 @@
 namespace plumb {
 namespace {
 
-const std::vector<std::string> kCaseFields = {"id",           "question", "repeat", "input",
-                                              "grade",        "rubric",   "gold",   "answer",
-                                              "gold_sources", "cited"};
+const std::vector<std::string> kCaseFields = {
+    "id",    "question", "repeat", "input",  "session",      "turn", "history",
+    "grade", "rubric",   "gold",   "answer", "gold_sources", "cited"};
 const std::vector<std::string> kTags = {"!case", "!text", "!env"};
 constexpr char kFieldHint[] =
-    "case fields are id, question, repeat, input and input.KEY; a grader's pipeline also has "
+    "case fields are id, question, repeat, input, input.KEY, session, turn and history; a "
+    "grader's pipeline also has "
     "grade, rubric, gold, answer, gold_sources and cited";
 
 bool IsCaseField(const std::string& field) {

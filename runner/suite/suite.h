@@ -50,7 +50,12 @@ struct Case {
   /// Passed to the pipeline untouched. Null when the case gives none (most do): the request
   /// then carries {} (CaseInput), and loading a large suite allocates nothing for it.
   nlohmann::json input;
-  SourcePos pos;  // where the case starts
+  SourcePos pos;  // where the case starts (a turn's: where the turn starts)
+  /// A turn of a multi-turn session (a suite case with `turns:`, issue 22): the session's id
+  /// and the turn's 1-based number; `id` is then "SESSION#TURN". Empty and 0 for a plain case.
+  /// A session's turns are consecutive in Suite::cases, in turn order.
+  std::string session;
+  int turn = 0;
   /// Hash of everything that defines the case's gold (question, answers, patterns, number,
   /// sources with their text, tags). Drift pairs cases whose gold_hash is equal.
   std::string gold_hash;
@@ -58,6 +63,15 @@ struct Case {
 
 /// The case's `input` as the request carries it: the case's object, or {} when it gave none.
 const nlohmann::json& CaseInput(const Case& c);
+
+/// The id of a session's turn: "SESSION#TURN" (turn 1-based). '#' is not allowed in a case id,
+/// so a turn id never collides with a case id and names its session unambiguously.
+std::string TurnId(const std::string& session, int turn);
+
+/// Splits a turn id "SESSION#TURN" into its session and turn; false (outputs untouched) for an
+/// id that is not a turn's. Reports and drift read sessions from ids with it, so a run
+/// directory needs no other record of them.
+bool SplitTurnId(const std::string& id, std::string* session, int* turn);
 
 /// A string from the pipeline config after `${VAR}` expansion, with its redacted form: the
 /// template with every expansion replaced by "***". Output files only ever see `redacted`.

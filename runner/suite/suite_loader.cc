@@ -42,8 +42,12 @@ const std::vector<std::string> kRetiredSuiteKeys = {"thresholds"};
 const std::vector<std::string> kGraderKeys = {"pipeline", "rubric",           "scale",
                                               "repeat",   "same_as_pipeline", "verdict_pattern",
                                               "labels",   "min_labels",       "min_kappa"};
-const std::vector<std::string> kCaseKeys = {"id",     "question", "answers", "patterns",
-                                            "number", "sources",  "tags",    "input"};
+const std::vector<std::string> kCaseKeys = {"id",      "question", "answers", "patterns", "number",
+                                            "sources", "tags",     "input",   "turns"};
+// A turn of a session (issue 22) holds a case's gold fields; a session holds id, turns, and
+// tags and input that every turn takes (a turn's own input replaces the session's).
+const std::vector<std::string> kTurnKeys = {"question", "answers", "patterns", "number",
+                                            "sources",  "tags",    "input"};
 const std::vector<std::string> kSourceKeys = {"doc", "quote", "start", "end"};
 const std::vector<std::string> kNumberKeys = {"value", "tolerance", "unit"};
 // Metrics scored on each case (recall@K comes on top, one per K in retrieval_k).
@@ -61,6 +65,8 @@ const std::vector<std::string> kRunMetrics = {"abstain_precision", "abstain_reca
 constexpr size_t kCasesPerChunk = 2000;
 // A JSONL file at least this large is hashed on a thread of its own while its lines are read.
 constexpr size_t kHashApartBytes = 1 << 20;
+// added[] of a JSONL line that held a session (its turns are kept apart until ids register).
+constexpr char kSessionLine = 2;
 constexpr char kNoCorpusMessage[] = "this suite has gold sources but no corpus";
 
 bool Contains(const std::vector<std::string>& names, const std::string& name) {
@@ -434,6 +440,7 @@ class SuiteLoader {
       Diagnostics errors;
       Diagnostics warnings;
       bool reported_missing_corpus = false;
+      std::vector<std::pair<size_t, std::vector<Turn>>> sessions;  // (line, its turns)
     };
     std::vector<Chunk> chunks(static_cast<size_t>(WorkerCount()));
     const size_t used =
@@ -456,13 +463,24 @@ class SuiteLoader {
               chunk.errors.push_back(std::move(error));
               continue;
             }
-            added[i] =
-                ReadCaseFields(root, &chunk_check, &chunk.reported_missing_corpus, &gold, &ids[i]);
-            if (added[i]) gold.gold_hash = GoldHash(gold);
+            std::vector<Turn> turns;
+            added[i] = ReadCaseFields(root, &chunk_check, &chunk.reported_missing_corpus, &gold,
+                                      &ids[i], &turns);
+            if (!turns.empty()) {
+              added[i] = kSessionLine;
+              chunk.sessions.emplace_back(i, std::move(turns));
+            } else if (added[i]) {
+              gold.gold_hash = GoldHash(gold);
+            }
           }
         });
+    std::vector<std::vector<Turn>> session_turns;  // by line, only when a line is a session
     for (size_t index = 0; index < used; ++index) {
       Chunk& chunk = chunks[index];
+      for (auto& [line, turns] : chunk.sessions) {
+        if (session_turns.empty()) session_turns.resize(lines.size());
+        session_turns[line] = std::move(turns);
+      }
       for (Diagnostic& error : chunk.errors) {
         if (error.message == kNoCorpusMessage) {
           if (reported_missing_corpus_) continue;
@@ -471,6 +489,24 @@ class SuiteLoader {
         errors_->push_back(std::move(error));
       }
       for (Diagnostic& warning : chunk.warnings) warnings_->push_back(std::move(warning));
+    }
+    if (!session_turns.empty()) {
+      // A session line gives several cases: the list is rebuilt rather than closed up.
+      std::vector<Case> read(std::make_move_iterator(suite_->cases.begin() + long(base)),
+                             std::make_move_iterator(suite_->cases.end()));
+      suite_->cases.resize(base);
+      for (size_t i = 0; i < lines.size(); ++i) {
+        if (added[i] == kSessionLine) {
+          for (Turn& turn : session_turns[i]) {
+            suite_->cases.push_back(std::move(turn.gold));
+            RegisterId(suite_->cases.size() - 1, turn.id, check);
+          }
+        } else if (added[i]) {
+          suite_->cases.push_back(std::move(read[i]));
+          RegisterId(suite_->cases.size() - 1, ids[i], check);
+        }
+      }
+      return;
     }
     size_t kept = base;
     for (size_t i = 0; i < lines.size(); ++i) {
@@ -840,7 +876,15 @@ class SuiteLoader {
   void ReadCase(const SourceNode& node, NodeChecker* check) {
     Case gold;
     CaseId id;
-    if (!ReadCaseFields(node, check, &reported_missing_corpus_, &gold, &id)) return;
+    std::vector<Turn> turns;
+    if (!ReadCaseFields(node, check, &reported_missing_corpus_, &gold, &id, &turns)) return;
+    if (!turns.empty()) {
+      for (Turn& turn : turns) {
+        suite_->cases.push_back(std::move(turn.gold));
+        RegisterId(suite_->cases.size() - 1, turn.id, check);
+      }
+      return;
+    }
     suite_->cases.push_back(std::move(gold));
     RegisterId(suite_->cases.size() - 1, id, check);
   }
@@ -850,6 +894,12 @@ class SuiteLoader {
     bool register_id = false;
     int line = 0;
     int column = 0;
+  };
+
+  /// One turn of a session as read, with where its id counts as written (the session's id).
+  struct Turn {
+    Case gold;
+    CaseId id;
   };
 
   /// Registers the id of suite_->cases[index], in file order: a repeated id is reported here,
@@ -898,9 +948,10 @@ class SuiteLoader {
   /// Reads and checks one case's fields into *gold, reporting through `check`. Touches no loader
   /// state but `*reported_missing_corpus` (so chunks of a JSONL file can be read on several
   /// threads, each with its own flag and checker). False when the node is not a mapping
-  /// (nothing to add).
+  /// (nothing to add). A case with `turns:` (a session) leaves *out alone and puts its turns,
+  /// in order, in *turns (ids "ID#N"); a session with no usable turn gives none.
   bool ReadCaseFields(const SourceNode& node, NodeChecker* check, bool* reported_missing_corpus,
-                      Case* out, CaseId* case_id) const {
+                      Case* out, CaseId* case_id, std::vector<Turn>* turns) const {
     Case& gold = *out;
     gold.pos = check->Pos(node);
     auto keys = check->Keys(node, kCaseKeys, "in a case", "a case");
@@ -921,14 +972,101 @@ class SuiteLoader {
         *case_id = CaseId{true, id->line, id->column};
       }
     }
+    if (const SourceNode* list = field("turns")) {
+      ReadTurns(node, *list, keys, check, reported_missing_corpus, gold, *case_id, turns);
+      return true;
+    }
     std::string label = gold.id.empty() ? "the case" : "case '" + gold.id + "'";
+    ReadGoldFields(node, keys, check, reported_missing_corpus, label, /*need_question=*/true,
+                   &gold);
+    return true;
+  }
 
+  /// A session's `turns:` list (issue 22): each turn is read like a case's gold fields and
+  /// becomes a case "SESSION#N" that takes the session's tags (before its own) and, when it gives
+  /// no input, the session's input. Gold keys written beside `turns` are refused where written.
+  void ReadTurns(const SourceNode& node, const SourceNode& list, const KeyIndex& keys,
+                 NodeChecker* check, bool* reported_missing_corpus, const Case& session,
+                 const CaseId& session_id, std::vector<Turn>* turns) const {
+    const std::string label = session.id.empty() ? "the session" : "session '" + session.id + "'";
+    for (const char* key : {"question", "answers", "patterns", "number", "sources"}) {
+      if (auto it = keys.find(key); it != keys.end()) {
+        check->Error(
+            it->second->key,
+            "'" + std::string(key) + "' goes in each turn of " + label + ", not beside 'turns'",
+            "move it into the turn it belongs to");
+      }
+    }
+    std::vector<std::string> session_tags;
+    if (auto it = keys.find("tags"); it != keys.end()) {
+      ReadTags(it->second->value, check, &session_tags);
+    }
+    nlohmann::json session_input;
+    if (auto it = keys.find("input"); it != keys.end()) {
+      if (check->Mapping(it->second->value, "input")) {
+        session_input = SourceNodeToJson(it->second->value);
+      }
+    }
+    if (!check->Sequence(list, "turns", "turns (each a mapping with question and answers)")) {
+      return;
+    }
+    if (list.items.empty()) {
+      check->Error(list, label + " has no turns",
+                   "list at least one turn: turns: [{question: ..., answers: [...]}]");
+      return;
+    }
+    std::vector<std::string> questions;  // the earlier turns', for each turn's gold hash
+    for (size_t i = 0; i < list.items.size(); ++i) {
+      const SourceNode& item = list.items[i];
+      const int number = static_cast<int>(i) + 1;
+      Turn turn;
+      turn.gold.pos = check->Pos(item);
+      turn.gold.session = session.id;
+      turn.gold.turn = number;
+      turn.gold.id = TurnId(session.id, number);
+      const std::string turn_label = "turn " + std::to_string(number) + " of " + label;
+      auto turn_keys = check->Keys(item, kTurnKeys, "in a turn", "a turn");
+      if (!item.IsMapping()) continue;
+      ReadGoldFields(item, turn_keys, check, reported_missing_corpus, turn_label,
+                     /*need_question=*/true, &turn.gold);
+      turn.gold.tags.insert(turn.gold.tags.begin(), session_tags.begin(), session_tags.end());
+      if (turn.gold.input.is_null()) turn.gold.input = session_input;
+      // The turn's id counts as written where the session's id is (a duplicate session id
+      // is then reported there, once per turn it repeats).
+      turn.id = session_id;
+      turn.gold.gold_hash = GoldHash(turn.gold, questions);
+      questions.push_back(turn.gold.question);
+      turns->push_back(std::move(turn));
+    }
+    (void)node;
+  }
+
+  void ReadTags(const SourceNode& node, NodeChecker* check, std::vector<std::string>* out) const {
+    std::vector<const SourceNode*> nodes;
+    check->StringList(node, "tags", out, &nodes);
+    for (size_t i = 0; i < out->size(); ++i) {
+      if (!IsTag((*out)[i])) {
+        check->Error(*nodes[i], "invalid tag '" + (*out)[i] + "'",
+                     "tags use letters, digits, '.', '_' and '-'");
+      }
+    }
+  }
+
+  /// The gold fields of a case or a turn (question, answers, patterns, number, sources, tags,
+  /// input), from the entries `keys` found in `node`.
+  void ReadGoldFields(const SourceNode& node, const KeyIndex& keys, NodeChecker* check,
+                      bool* reported_missing_corpus, const std::string& label, bool need_question,
+                      Case* out) const {
+    Case& gold = *out;
+    auto field = [&](const char* key) -> const SourceNode* {
+      auto it = keys.find(key);
+      return it == keys.end() ? nullptr : &it->second->value;
+    };
     if (const SourceNode* question = field("question"); question == nullptr) {
-      check->Error(node, label + " has no 'question'", "add 'question: ...'");
+      if (need_question) check->Error(node, label + " has no 'question'", "add 'question: ...'");
     } else {
       check->NonEmptyString(*question, "question", &gold.question);
     }
-
     if (const SourceNode* answers = field("answers"); answers == nullptr) {
       check->Error(node, label + " has no 'answers'",
                    "list the gold answers, or write 'answers: []' when the pipeline must abstain");
@@ -962,21 +1100,11 @@ class SuiteLoader {
       ReadSources(*sources, check, reported_missing_corpus, &gold);
     }
 
-    if (const SourceNode* tags = field("tags")) {
-      std::vector<const SourceNode*> nodes;
-      check->StringList(*tags, "tags", &gold.tags, &nodes);
-      for (size_t i = 0; i < gold.tags.size(); ++i) {
-        if (!IsTag(gold.tags[i])) {
-          check->Error(*nodes[i], "invalid tag '" + gold.tags[i] + "'",
-                       "tags use letters, digits, '.', '_' and '-'");
-        }
-      }
-    }
+    if (const SourceNode* tags = field("tags")) ReadTags(*tags, check, &gold.tags);
 
     if (const SourceNode* input = field("input")) {
       if (check->Mapping(*input, "input")) gold.input = SourceNodeToJson(*input);
     }
-    return true;
   }
 
   static void ReadNumber(const SourceNode& node, NodeChecker* check, Case* gold) {
@@ -1153,10 +1281,14 @@ class SuiteLoader {
 
   /// SHA-256 of "plumb-gold-v1\n" + the case's gold as compact JSON with keys in sorted order
   /// (the layout nlohmann's dump() gives; doubles in its spelling, so hashes stay stable).
-  static std::string GoldHash(const Case& gold) {
+  /// A session's turn also hashes its session id, its number and the questions of the turns
+  /// before it (`earlier`): a follow-up means something else once an earlier question changed.
+  static std::string GoldHash(const Case& gold, const std::vector<std::string>& earlier = {}) {
     thread_local JsonWriter w;  // one buffer per loading thread, reused case after case
     w.Clear();
-    w.BeginObject().PlainKey("answers").StringArray(gold.answers).PlainKey("number");
+    w.BeginObject().PlainKey("answers").StringArray(gold.answers);
+    if (gold.turn > 0) w.PlainKey("history").StringArray(earlier);
+    w.PlainKey("number");
     if (gold.number) {
       w.BeginObject()
           .PlainKey("tolerance")
@@ -1169,11 +1301,9 @@ class SuiteLoader {
     } else {
       w.Null();
     }
-    w.PlainKey("patterns")
-        .StringArray(gold.patterns)
-        .PlainKey("question")
-        .String(gold.question)
-        .PlainKey("sources");
+    w.PlainKey("patterns").StringArray(gold.patterns).PlainKey("question").String(gold.question);
+    if (gold.turn > 0) w.PlainKey("session").String(gold.session);
+    w.PlainKey("sources");
     w.BeginArray();
     for (const GoldSpan& span : gold.sources) {
       w.BeginObject()
@@ -1187,7 +1317,9 @@ class SuiteLoader {
           .String(span.text)
           .EndObject();
     }
-    w.EndArray().PlainKey("tags").StringArray(gold.tags).EndObject();
+    w.EndArray().PlainKey("tags").StringArray(gold.tags);
+    if (gold.turn > 0) w.PlainKey("turn").Int(gold.turn);
+    w.EndObject();
     return Sha256Hex("plumb-gold-v1\n", w.text());
   }
 
@@ -1199,6 +1331,15 @@ class SuiteLoader {
       }
     });
     suite_->suite_hash = suite_hash_.HexDigest();
+    // `--case ID` selects a session by its id, so a session may not share one with a case.
+    for (const Case& turn : cases) {
+      if (turn.turn != 1) continue;
+      const size_t other = suite_->case_ids.Find(cases, turn.session);
+      if (other == CaseIdIndex::kAbsent) continue;
+      errors_->push_back(
+          {turn.pos, "session '" + turn.session + "' has the id of a case",
+           "the case is at " + FormatPos(cases[other].pos) + "; give one of them another id"});
+    }
     for (const GraderConfig& grader : suite_->graders) {
       auto pos = grader_pipeline_pos_.find(grader.name);
       if (pos == grader_pipeline_pos_.end()) continue;
