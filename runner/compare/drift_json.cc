@@ -2,8 +2,19 @@
 
 #include <cmath>
 
+#include "runner/compare/session_drift.h"
+
 namespace plumb {
 namespace {
+
+// [{"session", "turns": [N, ...]}] for the sessions with a lost turn (issue 22).
+nlohmann::json SessionLossesJson(const std::vector<CaseChange>& lost) {
+  nlohmann::json out = nlohmann::json::array();
+  for (const SessionLoss& s : SessionsThatLostATurn(lost)) {
+    out.push_back({{"session", s.session}, {"turns", s.turns}});
+  }
+  return out;
+}
 
 nlohmann::json Number(double x) { return std::isfinite(x) ? nlohmann::json(x) : nlohmann::json(); }
 
@@ -151,6 +162,7 @@ nlohmann::json DriftReportToJson(const DriftReport& r) {
       {"lost", ChangesJson(r.lost)},
       // The lost cases by the candidate's cause; shares and intervals are of the lost count.
       {"lost_by_cause", CauseBreakdownToJson(r.lost_causes)},
+      {"sessions_lost_a_turn", SessionLossesJson(r.lost)},
       {"gained", ChangesJson(r.gained)},
       {"unstable", r.unstable},
       {"repeat", {{"base", r.base_repeat}, {"cand", r.cand_repeat}}},

@@ -8,6 +8,7 @@
 #include "metrics/paired_tests.h"
 #include "metrics/utf8.h"
 #include "runner/base/terminal_palette.h"
+#include "runner/compare/session_drift.h"
 
 namespace plumb {
 namespace {
@@ -110,6 +111,12 @@ std::string FormatDriftTable(const DriftReport& r, bool colour, bool exit_line) 
   if (!r.lost.empty()) {
     out += fmt::format("  {}lost {}{}: {}\n", p.bad, r.lost.size(), p.reset,
                        CauseCountsText(r.lost_causes));
+  }
+  if (const std::vector<SessionLoss> sessions = SessionsThatLostATurn(r.lost); !sessions.empty()) {
+    std::string list;
+    for (const SessionLoss& s : sessions) list += (list.empty() ? "" : ", ") + SessionLossText(s);
+    // Session ids are suite ids ([A-Za-z0-9._:-]), safe to print as they are.
+    out += fmt::format("  sessions that lost a turn: {}: {}\n", sessions.size(), list);
   }
   std::string changed;
   if (r.suite_changed) changed += "suite, ";

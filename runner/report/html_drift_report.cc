@@ -787,6 +787,34 @@ void AppendDriftCard(std::string* out, const PairedCase& c, const nlohmann::json
   out->append("</div></div></details>\n");
 }
 
+// " sessions that lost a turn: S (turns 2, 3), ...", each turn a link to its card (issue 22);
+// empty when no session lost one.
+std::string SessionsLost(const nlohmann::json& drift) {
+  auto it = drift.find("sessions_lost_a_turn");
+  if (it == drift.end() || !it->is_array() || it->empty()) return "";
+  std::string out = " <span class=\"n\">sessions that lost a turn:";
+  bool first = true;
+  for (const nlohmann::json& s : *it) {
+    if (!s.is_object() || !s.value("session", nlohmann::json()).is_string()) continue;
+    const std::string session = s["session"].get<std::string>();
+    out += first ? " " : "; ";
+    first = false;
+    AppendHtmlText(&out, session);
+    out += " (turn";
+    bool first_turn = true;
+    for (const nlohmann::json& t : s.value("turns", nlohmann::json::array())) {
+      if (!t.is_number_integer()) continue;
+      out += first_turn ? " " : ", ";
+      first_turn = false;
+      out += "<a href=\"#case-";
+      AppendHtmlAttribute(&out, TurnId(session, t.get<int>()));
+      out += "\">" + std::to_string(t.get<int>()) + "</a>";
+    }
+    out += ")";
+  }
+  return out + "</span>";
+}
+
 // "by cause in the candidate: 3 retrieval miss, 1 reading miss", each cause a link that shows
 // those lost cases; empty when the drift JSON has no breakdown.
 std::string LostByCause(const nlohmann::json& drift) {
@@ -879,7 +907,8 @@ std::string RenderDriftPage(const nlohmann::json& drift, const LoadedRun& base,
       {DriftStatus::kPassing, "Still passing", "No case passes in both runs."},
   };
   for (const Group& g : groups) {
-    const std::string aside = g.status == DriftStatus::kLost ? LostByCause(drift) : "";
+    const std::string aside =
+        g.status == DriftStatus::kLost ? LostByCause(drift) + SessionsLost(drift) : "";
     AppendCaseGroup(&html, DriftStatusName(g.status), g.title, counts[g.status], aside, g.empty,
                     [&] {
                       for (const PairedCase& c : cases) {

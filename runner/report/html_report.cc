@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <cmath>
 #include <cstdio>
 #include <map>
 #include <optional>
@@ -207,6 +208,66 @@ std::optional<double> RunFloor(const nlohmann::json& record, const std::string& 
   return std::nullopt;
 }
 
+/// run.json's "sessions" (issue 22): session_pass, the first-turn and follow-up latency and
+/// their ratio, and the sessions that failed, each linked to its first turn's card.
+void AppendSessions(std::string* out, const nlohmann::json& s) {
+  if (!s.is_object()) return;
+  auto num = [](const nlohmann::json& j, const char* key) {
+    const nlohmann::json v = j.is_object() ? j.value(key, nlohmann::json()) : nlohmann::json();
+    return v.is_number() ? v.get<double>() : std::nan("");
+  };
+  auto fixed = [](double v, int digits) {
+    if (!std::isfinite(v)) return std::string("n/a");
+    char text[64];
+    std::snprintf(text, sizeof text, "%.*f", digits, v);
+    return std::string(text);
+  };
+  const nlohmann::json pass = s.value("session_pass", nlohmann::json::object());
+  out->append("<p class=\"note\">Sessions: " + std::to_string(s.value("count", int64_t{0})) + " (" +
+              std::to_string(s.value("turns", int64_t{0})) + " turns); session_pass " +
+              fixed(num(pass, "mean"), 3) + " [" + fixed(num(pass, "low"), 3) + ", " +
+              fixed(num(pass, "high"), 3) + "] (every turn passed)");
+  if (s.value("restarts", int64_t{0}) > 0) {
+    out->append("; " + std::to_string(s.value("restarts", int64_t{0})) +
+                " run again from turn 1 after their worker was replaced");
+  }
+  out->append(".");
+  const char* names[] = {"first turn", "follow-ups"};
+  const char* keys[] = {"latency_first_turn", "latency_follow_up"};
+  for (int k = 0; k < 2; ++k) {
+    const nlohmann::json l = s.value(keys[k], nlohmann::json::object());
+    out->append(std::string(" Latency, ") + names[k] + " (n " +
+                std::to_string(l.value("n", int64_t{0})) + "):");
+    for (const char* p : {"p50", "p95"}) {
+      const nlohmann::json e = l.value(p, nlohmann::json::object());
+      out->append(std::string(" ") + p + " " + fixed(num(e, "value"), 2) + " ms [" +
+                  fixed(num(e, "low"), 2) + ", " + fixed(num(e, "high"), 2) + "]");
+    }
+    out->append(".");
+  }
+  const nlohmann::json ratio = s.value("follow_up_to_first_turn", nlohmann::json::object());
+  out->append(" Follow-up / first turn:");
+  for (const char* p : {"p50", "p95"}) {
+    const nlohmann::json r = ratio.value(p, nlohmann::json::object());
+    out->append(std::string(" ") + p + " \xC3\x97" + fixed(num(r, "ratio"), 2) + " [" +
+                fixed(num(r, "low"), 2) + ", " + fixed(num(r, "high"), 2) + "]");
+  }
+  out->append(".</p>");
+  const nlohmann::json failed = s.value("failed", nlohmann::json::array());
+  if (failed.is_array() && !failed.empty()) {
+    out->append("<p class=\"note\">Sessions with a failed turn:");
+    for (const nlohmann::json& id : failed) {
+      if (!id.is_string()) continue;
+      out->append(" <a href=\"#case-");
+      AppendHtmlAttribute(out, TurnId(id.get<std::string>(), 1));
+      out->append("\">");
+      AppendHtmlText(out, id.get<std::string>());
+      out->append("</a>");
+    }
+    out->append("</p>");
+  }
+}
+
 void AppendScoresTable(std::string* out, const nlohmann::json& record) {
   const nlohmann::json aggregates = record.value("aggregates", nlohmann::json::object());
   const nlohmann::json metrics = aggregates.value("metrics", nlohmann::json::object());
@@ -331,12 +392,48 @@ void AppendScoresTable(std::string* out, const nlohmann::json& record) {
     AppendHtmlText(out, words);
     out->append("</p>");
   }
+  AppendSessions(out, record.value("sessions", nlohmann::json()));
   const nlohmann::json unstable = aggregates.value("unstable_cases", nlohmann::json::array());
   if (!unstable.empty()) {
     out->append("<p class=\"note\">" + std::to_string(unstable.size()) +
                 " cases passed on some repeats and failed on others (unstable).</p>");
   }
   out->append("</section>");
+}
+
+/// A session's turn (issue 22): the conversation that led to it, from the history its request
+/// carried (the earlier questions and the pipeline's own answers), each earlier turn linked to
+/// its own card. Nothing for a plain case.
+void AppendConversation(std::string* out, const CaseEntry& c) {
+  std::string session;
+  int turn = 0;
+  if (c.shown == nullptr || !SplitTurnId(c.id, &session, &turn) || turn < 2) return;
+  const nlohmann::json request = nlohmann::json::parse(c.shown->request, nullptr, false);
+  const nlohmann::json history =
+      request.is_object() ? request.value("history", nlohmann::json()) : nlohmann::json();
+  if (!history.is_array()) return;
+  out->append("<div class=\"conversation\"><p class=\"note\">Turn " + std::to_string(turn) +
+              " of session <code>");
+  AppendHtmlText(out, session);
+  out->append("</code>; the conversation so far, as the pipeline was sent it:</p><ol>");
+  for (size_t i = 0; i < history.size(); ++i) {
+    const nlohmann::json& entry = history[i];
+    if (!entry.is_object()) continue;
+    out->append("<li><a href=\"#case-");
+    AppendHtmlAttribute(out, TurnId(session, static_cast<int>(i) + 1));
+    out->append("\">Q</a> ");
+    const nlohmann::json q = entry.value("question", nlohmann::json());
+    AppendClippedText(out, q.is_string() ? q.get<std::string>() : "", kShownQuestionCodePoints);
+    out->append("<br>A: ");
+    const nlohmann::json a = entry.value("answer", nlohmann::json());
+    if (a.is_string()) {
+      AppendBoundedText(out, a.get<std::string>());
+    } else {
+      out->append("<em>(no answer: errored or abstained)</em>");
+    }
+    out->append("</li>");
+  }
+  out->append("</ol></div>");
 }
 
 void AppendCaseCard(std::string* out, const CaseEntry& c, CaseCardWriter* cards, bool open) {
@@ -382,6 +479,7 @@ void AppendCaseCard(std::string* out, const CaseEntry& c, CaseCardWriter* cards,
   out->append("</span><span class=\"key\">");
   if (c.shown != nullptr) AppendHtmlText(out, cards->KeyScores(*c.shown));
   out->append("</span></summary><div class=\"cbody\">");
+  AppendConversation(out, c);
   cards->AppendGold(out, gold);
   if (c.shown != nullptr) {
     cards->AppendReply(out, *c.shown, gold, /*two_columns=*/true, /*draw_clean=*/false);
