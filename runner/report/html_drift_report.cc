@@ -787,8 +787,8 @@ void AppendDriftCard(std::string* out, const PairedCase& c, const nlohmann::json
   out->append("</div></div></details>\n");
 }
 
-// " sessions that lost a turn: S (turns 2, 3), ...", each turn a link to its card (issue 22);
-// empty when no session lost one.
+// " sessions that lost a turn: S (turns 2, 3), ..." (issue 22); plain text, so that the
+// heading's links stay the causes'. Empty when no session lost one.
 std::string SessionsLost(const nlohmann::json& drift) {
   auto it = drift.find("sessions_lost_a_turn");
   if (it == drift.end() || !it->is_array() || it->empty()) return "";
@@ -800,15 +800,13 @@ std::string SessionsLost(const nlohmann::json& drift) {
     out += first ? " " : "; ";
     first = false;
     AppendHtmlText(&out, session);
-    out += " (turn";
+    out += s.value("turns", nlohmann::json::array()).size() == 1 ? " (turn" : " (turns";
     bool first_turn = true;
     for (const nlohmann::json& t : s.value("turns", nlohmann::json::array())) {
       if (!t.is_number_integer()) continue;
       out += first_turn ? " " : ", ";
       first_turn = false;
-      out += "<a href=\"#case-";
-      AppendHtmlAttribute(&out, TurnId(session, t.get<int>()));
-      out += "\">" + std::to_string(t.get<int>()) + "</a>";
+      out += std::to_string(t.get<int>());
     }
     out += ")";
   }

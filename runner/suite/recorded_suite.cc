@@ -144,6 +144,8 @@ bool ReadRecordedCase(const std::string& id, const nlohmann::json& entry, Case* 
   RecordFields fields(entry, "case '" + id + "' in run.json");
   *gold = Case();
   gold->id = id;
+  // A session's turn (issue 22) is known by its id: run.json needs no other record of it.
+  SplitTurnId(id, &gold->session, &gold->turn);
   int64_t line = 0;
   int64_t place = -1;
   fields.Text("gold_hash", &gold->gold_hash);

@@ -203,6 +203,10 @@ TEST_CASE("Shard and case selection take whole sessions") {
       {"merge", dir + "/shard1", dir + "/shard2", dir + "/shard3", "--out", dir + "/merged"}, dir);
   INFO(merged.err);
   CHECK(merged.code == 0);
+  // The merged run knows its sessions from the turn ids alone.
+  const json merged_record = json::parse(plumb_test::ReadFile(dir + "/merged/run.json"));
+  CHECK(merged_record.at("sessions").at("count") == 30);
+  CHECK(merged_record.at("sessions").at("turns") == 90);
 
   // A glob on a session id, or on one of its turn ids, takes the whole session.
   for (const std::string glob : {"s12", "s12#2"}) {
