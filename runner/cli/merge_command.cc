@@ -137,7 +137,8 @@ bool RebuildSuite(const std::vector<ShardRun>& shards, Suite* suite, std::vector
     for (auto it = cases.begin(); it != cases.end(); ++it) {
       Case gold;
       size_t index = 0;
-      if (!ReadRecordedCase(it.key(), *it, &gold, &index, &error)) {
+      if (!ReadRecordedCase(it.key(), *it, &gold, &index, &error) ||
+          !ResolveRecordedAfter(*it, *suite, &gold, &error)) {
         return Fail(shards[s].dir + ": " + error);
       }
       if (index >= suite->cases.size()) {
@@ -272,6 +273,19 @@ int MergeCommand(const MergeOptions& options) {
     if (!aggregates.is_object()) continue;
     for (WorkerWarmup& w : WarmupsFromJson(aggregates.value("warmup", nlohmann::json()))) {
       context.warmups.push_back(std::move(w));
+    }
+    // Each shard refreshed for the updates it had cases after: the merged run keeps every
+    // refresh, labelled with its shard.
+    const nlohmann::json shard_of = shard.record.value("shard", nlohmann::json::object());
+    const std::string label = shard_of.is_object()
+                                  ? std::to_string(shard_of.value("index", 0)) + "/" +
+                                        std::to_string(shard_of.value("count", 0))
+                                  : std::string();
+    for (UpdateFreshness& u : FreshnessFromJson(aggregates.value("freshness", nlohmann::json()))) {
+      for (RefreshRecord& r : u.refreshes) {
+        if (r.shard.empty() && label != "0/0" && label != "1/1") r.shard = label;
+        context.refreshes.push_back(std::move(r));
+      }
     }
   }
   // The shards' grading, summed: their journal lines (with their grades) are copied as they are.

@@ -126,6 +126,7 @@ RunAggregates AggregatesFromRecord(const nlohmann::json& record) {
   }
   run.warmups = WarmupsFromJson(At(a, "warmup"));
   run.sessions = SessionsFromJson(At(record, "sessions"));
+  run.freshness = FreshnessFromJson(At(a, "freshness"));
   const nlohmann::json& unstable = At(a, "unstable_cases");
   if (unstable.is_array()) {
     for (const nlohmann::json& id : unstable) {

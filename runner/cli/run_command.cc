@@ -27,6 +27,7 @@
 #include "runner/run/run_origin.h"
 #include "runner/run/run_reader.h"
 #include "runner/run/scheduler.h"
+#include "runner/run/update_phases.h"
 
 namespace plumb {
 namespace {
@@ -288,7 +289,24 @@ int RunOnePipeline(const RunOptions& options, PreparedSuite& prepared,
         grading->Add(record, case_index);
       };
     }
-    scheduled = RunSchedule(inputs);
+    if (suite.updates.empty()) {
+      scheduled = RunSchedule(inputs);
+    } else {
+      // Corpus updates (issue 23): the cases in phases, each update's after its refresh.
+      UpdatePhaseInputs phased;
+      phased.schedule = inputs;
+      phased.items = &items;
+      phased.run_dir = dir;
+      phased.refresh_log = dir + "/refresh.jsonl";
+      if (options.resume) {
+        phased.recorded = ReadRefreshLog(phased.refresh_log);
+      } else {
+        std::remove(phased.refresh_log.c_str());
+      }
+      UpdatePhaseResult result = RunUpdatePhases(phased);
+      scheduled = std::move(result.schedule);
+      context.refreshes = std::move(result.refreshes);
+    }
     adapter->Shutdown();
     // Each worker's adopted descendants died with it; what is left is a descendant that shed
     // its PLUMB_WORKER mark. plumb starts no children but pipelines, so every adopted process

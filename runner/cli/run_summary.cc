@@ -40,6 +40,7 @@ bool FinishRun(RunContext context, const std::vector<CaseOutcome>& outcomes, boo
   RunAggregates aggregates = AggregateRun(suite, outcomes);
   aggregates.warmups = context.warmups;
   aggregates.price = PriceFromConfig(context.pipeline_config);
+  aggregates.freshness = SummarizeFreshness(suite, outcomes, context.refreshes);
   const std::vector<ThresholdOutcome> thresholds = EvaluateThresholds(suite.thresholds, aggregates);
   finished->verdict = DecideRunVerdict(aggregates, thresholds, suite.max_error_rate, interrupted);
   case_writer.join();

@@ -39,7 +39,8 @@ constexpr uint32_t kMissingRow = std::numeric_limits<uint32_t>::max();
 
 bool IsBinaryKind(const std::string& metric) {
   static const std::set<std::string> kBinary = {"exact_match",  "correct",     "pattern_match",
-                                                "number_match", "covers_gold", "pass_rate"};
+                                                "number_match", "covers_gold", "pass_rate",
+                                                "fresh",        "stale"};
   return kBinary.count(metric) > 0;
 }
 
@@ -537,6 +538,31 @@ void CompareStreamAndUsage(const PairedCases& paired, const RunCases& base, cons
   }
 }
 
+/// Refresh times per update in both runs (see RefreshDrift).
+std::vector<RefreshDrift> CompareRefreshes(const RunValues& base, const RunValues& cand) {
+  std::vector<RefreshDrift> out;
+  const std::vector<UpdateFreshness> b =
+      FreshnessFromJson(ObjectAt(ObjectAt(base.record, "aggregates"), "freshness"));
+  const std::vector<UpdateFreshness> c =
+      FreshnessFromJson(ObjectAt(ObjectAt(cand.record, "aggregates"), "freshness"));
+  for (const UpdateFreshness& bu : b) {
+    for (const UpdateFreshness& cu : c) {
+      if (cu.update != bu.update) continue;
+      const std::optional<double> bms = bu.MeanRefreshMs(), cms = cu.MeanRefreshMs();
+      if (!bms || !cms || *bms <= 0) continue;
+      RefreshDrift d;
+      d.update = bu.update;
+      d.base_ms = *bms;
+      d.cand_ms = *cms;
+      for (const RefreshRecord& r : bu.refreshes) d.base_n += r.called ? 1 : 0;
+      for (const RefreshRecord& r : cu.refreshes) d.cand_n += r.called ? 1 : 0;
+      d.ratio = *cms / *bms;
+      out.push_back(d);
+    }
+  }
+  return out;
+}
+
 /// A metric's drift once the bootstrap has run: means, delta, interval, test, verdict.
 MetricDrift FinishMetric(const PendingMetric& p, const PairedCases& paired,
                          const std::vector<bool>& binary, const SharedBootstrap& bootstrap,
@@ -855,9 +881,10 @@ const MetricDrift* DriftReport::Find(const std::string& metric) const {
 
 bool IsKnownCaseMetric(const std::string& metric) {
   static const std::set<std::string> kKnown = {
-      "correct",         "exact_match",   "token_f1",      "token_recall", "covers_gold",
-      "knowledge_f1",    "cited_support", "pattern_match", "number_match", "citation_precision",
-      "citation_recall", "citation_f1",   "mrr",           "pass_rate"};
+      "correct",      "exact_match",        "token_f1",        "token_recall",
+      "covers_gold",  "knowledge_f1",       "cited_support",   "pattern_match",
+      "number_match", "citation_precision", "citation_recall", "citation_f1",
+      "mrr",          "pass_rate",          "fresh",           "stale"};
   if (kKnown.count(metric)) return true;
   if (metric.rfind("grade.", 0) == 0 && metric.size() > 6) return true;
   const std::string prefix = "recall@";
@@ -958,6 +985,7 @@ bool ComputeDrift(const RunValues& base, const RunValues& cand, const DriftOptio
   lg.regressed = lg.gated && lg.measured && report->latency_p95.interval.low > lg.limit;
   report->warmup = CompareWarmups(base, cand, options);
   CompareStreamAndUsage(paired, base_cases, cand_cases, options, report);
+  report->refreshes = CompareRefreshes(base, cand);
 
   std::vector<double> differences;
   std::vector<std::vector<double>> run_differences;

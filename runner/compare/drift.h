@@ -77,6 +77,7 @@
 #include "metrics/interval.h"
 #include "runner/run/cause_breakdown.h"
 #include "runner/run/failure_cause.h"
+#include "runner/run/freshness.h"
 #include "runner/run/run_reader.h"
 #include "runner/run/run_values.h"
 
@@ -181,6 +182,16 @@ struct LatencyGateVerdict {
   double limit = 1.10;  // 1 + max_slowdown
 };
 
+/// A corpus update's refresh time (issue 23) in both runs and the candidate's ratio to the
+/// base: the mean refresh_ms of each run's refreshes (one per run, one per shard when merged).
+/// Only updates both runs refreshed for are listed. No interval: a run refreshes once.
+struct RefreshDrift {
+  std::string update;
+  double base_ms = 0, cand_ms = 0;
+  int64_t base_n = 0, cand_n = 0;  // refreshes averaged (shards)
+  double ratio = 0;
+};
+
 /// One paired case whose pass/fail outcome changed.
 struct CaseChange {
   std::string id;
@@ -249,6 +260,7 @@ struct DriftReport {
   std::string cost_currency;
   std::string cost_note;
   WarmupDrift warmup;
+  std::vector<RefreshDrift> refreshes;  // per update both runs refreshed for, in base order
   std::map<std::string, double> min_detectable_effect;  // NaN: n/a, see above
   /// The family correction, one sentence for the reports, e.g. "Holm over the 3 gated metrics
   /// correct, token_f1, citation_recall".

@@ -78,6 +78,19 @@ nlohmann::json AmountJson(const AmountDrift& a) {
           {"interval", IntervalJson(a.interval)}};
 }
 
+nlohmann::json RefreshJson(const std::vector<RefreshDrift>& refreshes) {
+  nlohmann::json out = nlohmann::json::array();
+  for (const RefreshDrift& d : refreshes) {
+    out.push_back({{"update", d.update},
+                   {"base_ms", Number(d.base_ms)},
+                   {"cand_ms", Number(d.cand_ms)},
+                   {"base_n", d.base_n},
+                   {"cand_n", d.cand_n},
+                   {"ratio", Number(d.ratio)}});
+  }
+  return out;
+}
+
 nlohmann::json OptionalText(const std::optional<std::string>& text) {
   return text ? nlohmann::json(*text) : nlohmann::json();
 }
@@ -158,6 +171,7 @@ nlohmann::json DriftReportToJson(const DriftReport& r) {
              }()
            : nlohmann::json(r.cost_note.empty() ? nlohmann::json()
                                                 : nlohmann::json{{"note", r.cost_note}})},
+      {"refresh", RefreshJson(r.refreshes)},
       {"min_detectable_effect", mde},
       {"lost", ChangesJson(r.lost)},
       // The lost cases by the candidate's cause; shares and intervals are of the lost count.

@@ -195,6 +195,11 @@ std::string FormatDriftTable(const DriftReport& r, bool colour, bool exit_line) 
             : fmt::format("steady: the p95 ratio's interval reaches x{:.3f} or below", g.limit),
         g.regressed ? p.reset : "");
   }
+  for (const RefreshDrift& d : r.refreshes) {
+    out += fmt::format("  {:<22} {} ms -> {} ms  x{}  (update {})\n", "refresh",
+                       Num(d.base_ms, "{:.4g}"), Num(d.cand_ms, "{:.4g}"), Num(d.ratio, "{:.3f}"),
+                       d.update);
+  }
   std::string mde;
   for (const MetricDrift& m : r.metrics) {
     auto it = r.min_detectable_effect.find(m.metric);

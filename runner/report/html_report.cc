@@ -10,6 +10,7 @@
 #include <set>
 
 #include "runner/report/error_reason_groups.h"
+#include "runner/report/freshness_report.h"
 #include "runner/report/html_bounded_text.h"
 #include "runner/report/html_case_card.h"
 #include "runner/report/html_escape.h"
@@ -655,6 +656,9 @@ std::string RenderRunPage(const LoadedRun& run) {
                   });
   html.append("</section>");
   AppendScoresTable(&html, run.record);
+  html.append(
+      FreshnessHtml(FreshnessFromJson(run.record.value("aggregates", nlohmann::json::object())
+                                          .value("freshness", nlohmann::json()))));
   AppendLatency(&html, run);
   AppendTagGrid(&html, run.record, RunFailures(run));
   html.append("</main>");

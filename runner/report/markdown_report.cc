@@ -9,6 +9,7 @@
 
 #include "metrics/utf8.h"
 #include "runner/run/calibration.h"
+#include "runner/report/freshness_report.h"
 #include "runner/run/failure_reason.h"
 #include "runner/run/run_failures.h"
 #include "runner/run/run_record.h"
@@ -296,6 +297,7 @@ std::string FormatRunMarkdown(const LoadedRun& run) {
                        JsonNumber(cost, "total"), unit, Count(cost, "items"),
                        JsonNumber(cost, "mean"), unit, interval);
   }
+  out += FreshnessMarkdown(FreshnessFromJson(JsonAt(aggregates, "freshness")));
   const nlohmann::json& warmup = JsonAt(aggregates, "warmup");
   if (JsonNumber(warmup, "n") > 0) {
     const bool first_call = JsonString(warmup, "signal") == "first_call";
@@ -480,6 +482,10 @@ std::string FormatDriftMarkdown(const DriftReport& r) {
     out += fmt::format("\n{} (n {}): {} → {}{}, ×{} {}\n", label, a->n,
                        fmt::format("{:.6g}", a->base_mean), fmt::format("{:.6g}", a->cand_mean),
                        unit, Fixed(a->ratio, 3), IntervalText(a->interval, false));
+  }
+  for (const RefreshDrift& d : r.refreshes) {
+    out += fmt::format("\nRefresh after update `{}`: {} ms -> {} ms (x{})\n", d.update,
+                       Fixed(d.base_ms, 1), Fixed(d.cand_ms, 1), Fixed(d.ratio, 3));
   }
   if (r.warmup.available) {
     out += fmt::format("\nWarm-up: mean {} → {} ms, ×{} {} (workers {} / {})\n",

@@ -5,6 +5,7 @@
 #include <cmath>
 
 #include "runner/base/terminal_palette.h"
+#include "runner/report/freshness_report.h"
 
 namespace plumb {
 namespace {
@@ -150,6 +151,7 @@ std::string FormatSummary(const SummaryHeader& h, const RunAggregates& run,
                          w.mean_ms, w.max_ms, restarts);
     }
   }
+  out += FreshnessTerminalLines(run.freshness);
   for (const ThresholdOutcome& t : thresholds) {
     if (!t.tag.empty() || (t.metric != "latency_p50_ms" && t.metric != "latency_p95_ms")) continue;
     out += fmt::format("  {:<20} {}\n", t.metric, ThresholdCell(thresholds, "", t.metric, p));

@@ -25,6 +25,10 @@ std::vector<metrics::GoldSpanRef> GoldRefs(const Case& c) {
 
 void ScoreErroredCase(const Case& c, bool has_knowledge, CaseScores* scores) {
   scores->errored = true;
+  if (c.after >= 0) {
+    scores->values["fresh"] = 0;
+    if (!c.stale_answers.empty()) scores->values["stale"] = 0;
+  }
   scores->values["exact_match"] = 0;
   scores->values["token_f1"] = 0;
   scores->values["token_recall"] = 0;
@@ -60,6 +64,11 @@ std::unique_ptr<CaseScorer> CaseScorer::Create(const Suite& suite, Corpus* corpu
         for (const GoldSpan& span : c.sources) texts.push_back(span.text);
         prepared.knowledge = metrics::JoinedTokens(texts, suite.normalize, suite.lang);
       }
+      for (const std::string& stale : c.stale_answers) {
+        std::vector<std::string> tokens =
+            metrics::NormalizeTokens(stale, suite.normalize, suite.lang);
+        if (!tokens.empty()) prepared.stale.push_back(std::move(tokens));
+      }
       if (c.patterns.empty()) continue;
       std::string pattern_error;
       if (!metrics::PatternSet::Compile(c.patterns, &prepared.patterns, &pattern_error)) {
@@ -77,23 +86,33 @@ std::unique_ptr<CaseScorer> CaseScorer::Create(const Suite& suite, Corpus* corpu
   return scorer;
 }
 
-const std::string* CaseScorer::DocumentText(const std::string& doc) const {
-  if (corpus_ == nullptr) return nullptr;
+Corpus* CaseScorer::CorpusOf(const Case& c) const {
+  if (c.after >= 0 && size_t(c.after) < update_corpora_.size() &&
+      update_corpora_[size_t(c.after)] != nullptr) {
+    return update_corpora_[size_t(c.after)];
+  }
+  return corpus_;
+}
+
+const std::string* CaseScorer::DocumentText(Corpus* corpus, const std::string& doc) const {
+  if (corpus == nullptr) return nullptr;
   std::string error;  // an unknown or unreadable doc: the citation metrics warn and miss
-  const Document* document = corpus_->Get(doc, &error);
+  const Document* document = corpus->Get(doc, &error);
   return document == nullptr ? nullptr : &document->text;
 }
 
-const metrics::CodePointIndex* CaseScorer::DocumentIndex(const std::string& doc) const {
-  const std::string* text = DocumentText(doc);
+const metrics::CodePointIndex* CaseScorer::DocumentIndex(Corpus* corpus,
+                                                         const std::string& doc) const {
+  const std::string* text = DocumentText(corpus, doc);
   if (text == nullptr) return nullptr;
   std::lock_guard<std::mutex> lock(index_mutex_);
-  std::unique_ptr<metrics::CodePointIndex>& index = indexes_[doc];
+  std::unique_ptr<metrics::CodePointIndex>& index = indexes_[{corpus, doc}];
   if (index == nullptr) index = std::make_unique<metrics::CodePointIndex>(*text);
   return index.get();
 }
 
-std::vector<metrics::CitedRef> CaseScorer::ToCodePoints(const std::vector<SourceRef>& refs,
+std::vector<metrics::CitedRef> CaseScorer::ToCodePoints(Corpus* corpus,
+                                                        const std::vector<SourceRef>& refs,
                                                         metrics::OffsetUnit unit, const char* what,
                                                         std::vector<std::string>* warnings) const {
   std::vector<metrics::CitedRef> out;
@@ -102,7 +121,7 @@ std::vector<metrics::CitedRef> CaseScorer::ToCodePoints(const std::vector<Source
     const SourceRef& ref = refs[i];
     metrics::CitedRef cited{ref.doc, ref.start, ref.end, ref.quote};
     if (unit != metrics::OffsetUnit::kCodePoints && ref.start && ref.end) {
-      const metrics::CodePointIndex* index = DocumentIndex(ref.doc);
+      const metrics::CodePointIndex* index = DocumentIndex(corpus, ref.doc);
       int64_t start = 0, end = 0;
       std::string error;
       if (index != nullptr &&
@@ -122,14 +141,15 @@ std::vector<metrics::CitedRef> CaseScorer::ToCodePoints(const std::vector<Source
   return out;
 }
 
-std::vector<std::string> CaseScorer::CitedTexts(const std::vector<metrics::CitedRef>& resolved,
+std::vector<std::string> CaseScorer::CitedTexts(Corpus* corpus,
+                                                const std::vector<metrics::CitedRef>& resolved,
                                                 const std::vector<bool>& placed) const {
   std::vector<std::string> texts;
   for (size_t i = 0; i < resolved.size(); ++i) {
     const metrics::CitedRef& ref = resolved[i];
     if (i >= placed.size() || !placed[i] || !ref.start || !ref.end) continue;
-    const std::string* text = DocumentText(ref.doc);
-    const metrics::CodePointIndex* index = DocumentIndex(ref.doc);
+    const std::string* text = DocumentText(corpus, ref.doc);
+    const metrics::CodePointIndex* index = DocumentIndex(corpus, ref.doc);
     if (text == nullptr || index == nullptr) continue;
     const int64_t begin = index->ByteOfCodePoint(*ref.start);
     const int64_t end = index->ByteOfCodePoint(*ref.end);
@@ -151,6 +171,7 @@ void CaseScorer::Conclude(CaseScores* scores) const {
     if (it != scores->values.end()) correct = std::max(correct, it->second);
   }
   scores->values["correct"] = correct;
+  if (scores->values.count("fresh") > 0) scores->values["fresh"] = correct;
   scores->pass = Passes(*scores);
   scores->cause = ClassifyFailure(*scores, suite_.case_pass);
 }
@@ -197,6 +218,19 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
   if (const auto knowledge = metrics::KnowledgeF1(answer_tokens, prepared.knowledge)) {
     scores.values["knowledge_f1"] = *knowledge;
   }
+  if (c.after >= 0) {
+    scores.values["fresh"] = 0;  // Conclude sets it to `correct`
+    // Stale: the answer still says what the corpus said before the update, by covers_gold's
+    // rule (a stale answer's tokens as a contiguous run of the answer's), which also takes an
+    // answer that is exactly a stale answer under the suite's normalization.
+    if (!c.stale_answers.empty()) {
+      double stale = 0;
+      for (const std::vector<std::string>& tokens : prepared.stale) {
+        if (metrics::ContainsRun(answer_tokens, tokens)) stale = 1;
+      }
+      scores.values["stale"] = stale;
+    }
+  }
 
   const std::string_view raw_answer =
       response->answer ? std::string_view(*response->answer) : std::string_view();
@@ -213,15 +247,16 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
     scores.values["number_match"] = number;
   }
 
-  const metrics::DocumentLookup lookup = [this](const std::string& doc) {
-    return DocumentText(doc);
+  Corpus* corpus = CorpusOf(c);
+  const metrics::DocumentLookup lookup = [this, corpus](const std::string& doc) {
+    return DocumentText(corpus, doc);
   };
-  const metrics::CodePointIndexLookup indexes = [this](const std::string& doc) {
-    return DocumentIndex(doc);
+  const metrics::CodePointIndexLookup indexes = [this, corpus](const std::string& doc) {
+    return DocumentIndex(corpus, doc);
   };
   const std::vector<metrics::GoldSpanRef> gold = GoldRefs(c);
   const metrics::CitationScores citations = metrics::ScoreCitations(
-      ToCodePoints(response->citations, offsets, "citation", &scores.warnings), gold,
+      ToCodePoints(corpus, response->citations, offsets, "citation", &scores.warnings), gold,
       suite_.min_overlap, lookup, indexes);
   if (citations.precision) scores.values["citation_precision"] = *citations.precision;
   if (citations.recall) scores.values["citation_recall"] = *citations.recall;
@@ -229,8 +264,9 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
   scores.warnings.insert(scores.warnings.end(), citations.warnings.begin(),
                          citations.warnings.end());
   if (!answer_tokens.empty() && !citations.resolved.empty()) {
-    const std::vector<std::string> cited = metrics::JoinedTokens(
-        CitedTexts(citations.resolved, citations.placed_span), suite_.normalize, suite_.lang);
+    const std::vector<std::string> cited =
+        metrics::JoinedTokens(CitedTexts(corpus, citations.resolved, citations.placed_span),
+                              suite_.normalize, suite_.lang);
     if (const auto support = metrics::CitedSupport(answer_tokens, cited)) {
       scores.values["cited_support"] = *support;
     }
@@ -238,8 +274,8 @@ CaseScores CaseScorer::Score(size_t case_index, const Response* response,
 
   if (response->has_retrieved && !gold.empty()) {
     const metrics::RetrievalScores retrieval = metrics::ScoreRetrieval(
-        ToCodePoints(response->retrieved, offsets, "retrieved item", &scores.warnings), gold,
-        suite_.retrieval_k, suite_.min_overlap, lookup, indexes);
+        ToCodePoints(corpus, response->retrieved, offsets, "retrieved item", &scores.warnings),
+        gold, suite_.retrieval_k, suite_.min_overlap, lookup, indexes);
     scores.warnings.insert(scores.warnings.end(), retrieval.warnings.begin(),
                            retrieval.warnings.end());
     for (const auto& [k, recall] : retrieval.recall_at) {

@@ -38,10 +38,15 @@ class CaseScorer {
   CaseScores Score(size_t case_index, const Response* response,
                    metrics::OffsetUnit offsets = metrics::OffsetUnit::kCodePoints) const;
 
+  /// The corpus as it stands after each of the suite's updates (issue 23), by update index, for
+  /// the citations of cases with `after`; each must outlive the scorer. Call before Score.
+  /// Without it, such citations are looked up in the corpus given to Create.
+  void UseUpdateCorpora(std::vector<Corpus*> corpora) { update_corpora_ = std::move(corpora); }
+
   /// Sets `correct` (the max of the suite's `correct_from` metrics the case defines; 0 when it
   /// defines none of them, and 0 for an errored case), `pass` and `cause` (ClassifyFailure)
-  /// from the values in *scores.
-  /// Score() calls it; a grading pass that adds grade.NAME values calls it again.
+  /// from the values in *scores. A case with `after` (Score gave it a `fresh` value) gets `fresh` =
+  /// `correct`. Score() calls it; a grading pass that adds grade.NAME values calls it again.
   void Conclude(CaseScores* scores) const;
 
   CaseScorer(const CaseScorer&) = delete;
@@ -49,16 +54,20 @@ class CaseScorer {
 
  private:
   CaseScorer(const Suite& suite, Corpus* corpus) : suite_(suite), corpus_(corpus) {}
-  const std::string* DocumentText(const std::string& doc) const;
+  /// `corpus` is the case's corpus (CorpusOf); indexes are kept per corpus and document.
+  const std::string* DocumentText(Corpus* corpus, const std::string& doc) const;
   /// A code-point index per document, built on first use, so a non-ASCII document is decoded
   /// once per run rather than once per citation.
-  const metrics::CodePointIndex* DocumentIndex(const std::string& doc) const;
-  std::vector<metrics::CitedRef> ToCodePoints(const std::vector<SourceRef>& refs,
+  const metrics::CodePointIndex* DocumentIndex(Corpus* corpus, const std::string& doc) const;
+  std::vector<metrics::CitedRef> ToCodePoints(Corpus* corpus, const std::vector<SourceRef>& refs,
                                               metrics::OffsetUnit unit, const char* what,
                                               std::vector<std::string>* warnings) const;
+  /// The corpus a case's citations are read from: the one after its update, if it has one.
+  Corpus* CorpusOf(const Case& c) const;
   bool Passes(const CaseScores& scores) const;
   /// The document text of each citation placed as a span (`placed`), for cited_support.
-  std::vector<std::string> CitedTexts(const std::vector<metrics::CitedRef>& resolved,
+  std::vector<std::string> CitedTexts(Corpus* corpus,
+                                      const std::vector<metrics::CitedRef>& resolved,
                                       const std::vector<bool>& placed) const;
 
   struct PreparedCase {
@@ -66,13 +75,16 @@ class CaseScorer {
     std::vector<std::string> knowledge;  // the gold spans' text, normalized (knowledge_f1)
     metrics::PatternSet patterns;
     bool has_patterns = false;
+    std::vector<std::vector<std::string>> stale;  // the stale answers, normalized (stale)
   };
 
   const Suite& suite_;
   Corpus* corpus_;
+  std::vector<Corpus*> update_corpora_;
   std::vector<PreparedCase> prepared_;
   mutable std::mutex index_mutex_;
-  mutable std::map<std::string, std::unique_ptr<metrics::CodePointIndex>> indexes_;
+  mutable std::map<std::pair<const Corpus*, std::string>, std::unique_ptr<metrics::CodePointIndex>>
+      indexes_;
 };
 
 }  // namespace plumb

@@ -18,7 +18,12 @@ namespace plumb {
 struct PreparedSuite {
   Suite suite;
   std::unique_ptr<Corpus> corpus;  // null when the suite names no corpus
+  /// With `updates:`, SHA-256 of the corpus's fingerprint and each update's (its id, removed
+  /// docs and the fingerprint of its docs), so a changed update counts as a changed corpus.
   std::string corpus_fingerprint;
+  /// The corpus after each update (corpus with the updates up to it laid over), by update
+  /// index; the scorer reads the citations of `after` cases from them.
+  std::vector<std::unique_ptr<Corpus>> update_corpora;
   std::unique_ptr<CaseScorer> scorer;
 };
 

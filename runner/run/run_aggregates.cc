@@ -17,7 +17,7 @@ namespace {
 bool IsBinaryMetric(const std::string& metric) {
   static const std::set<std::string> kBinary = {"exact_match",  "correct",     "pattern_match",
                                                 "number_match", "covers_gold", "pass_rate",
-                                                "error_rate"};
+                                                "error_rate",   "fresh",       "stale"};
   return kBinary.count(metric) > 0;
 }
 
@@ -28,8 +28,8 @@ std::vector<std::string> DisplayOrder(const Suite& suite) {
                                     "grade.*",       "citation_precision", "citation_recall",
                                     "citation_f1"};
   for (int k : suite.retrieval_k) order.push_back("recall@" + std::to_string(k));
-  order.insert(order.end(),
-               {"mrr", "pass_rate", "abstain_precision", "abstain_recall", "error_rate"});
+  order.insert(order.end(), {"mrr", "fresh", "stale", "pass_rate", "abstain_precision",
+                             "abstain_recall", "error_rate"});
   return order;
 }
 

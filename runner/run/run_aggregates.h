@@ -16,6 +16,7 @@
 #include "metrics/metric_summary.h"
 #include "metrics/percentile.h"
 #include "runner/run/cause_breakdown.h"
+#include "runner/run/freshness.h"
 #include "runner/run/scheduler.h"
 #include "runner/run/session_aggregates.h"
 #include "runner/suite/suite.h"
@@ -64,6 +65,8 @@ struct RunAggregates {
   std::optional<SessionAggregates> sessions;
   /// This invocation's worker start-ups (not AggregateRun's: FinishRun adds the adapter's).
   std::vector<WorkerWarmup> warmups;
+  /// Per corpus update (issue 23): fresh and stale rates and refresh times; FinishRun adds it.
+  std::vector<UpdateFreshness> freshness;
 
   /// The aggregate for `metric` at run level (`tag` empty) or for a tag; null when absent.
   const metrics::MetricSummary* Find(const std::string& metric, const std::string& tag = "") const;

@@ -76,6 +76,10 @@ bool WriteRunRecordCases(const RunContext& ctx, const std::function<bool(std::st
           .String(c.number->unit)
           .EndObject();
     }
+    if (c.after >= 0) {
+      w.PlainKey("after").String(suite.updates[size_t(c.after)].id);
+      w.PlainKey("stale_answers").StringArray(c.stale_answers);
+    }
     w.EndObject();
     if (w.size() >= kPieceBytes) {
       if (!sink(w.text())) return false;
@@ -114,6 +118,14 @@ std::string RunRecordHead(const RunContext& ctx) {
   } else {
     w.Null();
   }
+  if (!suite.updates.empty()) {
+    w.Key("updates").BeginArray();
+    for (const CorpusUpdate& u : suite.updates) {
+      w.BeginObject().Member("id", u.id).Key("docs").StringArray(u.docs);
+      w.Key("remove").StringArray(u.remove).EndObject();
+    }
+    w.EndArray();
+  }
   w.Key("pipeline").BeginObject().Member("name", ctx.pipeline_name);
   w.Key("config").Value(ctx.pipeline_config).EndObject();
   w.Key("labels").BeginObject();
@@ -142,7 +154,12 @@ std::string RunRecordTail(const RunContext& ctx, const RunAggregates& aggregates
   w.EndObject().MarkFilled();
   // Why cases failed comes first: it is what a reader of a failed run asks first.
   w.Key("failures").Value(FailuresToJson(aggregates));
-  w.Key("aggregates").Value(AggregatesToJson(aggregates));
+  nlohmann::json aggregates_json = AggregatesToJson(aggregates);
+  // Corpus updates (issue 23): present only in a run of a suite with `updates:`.
+  if (!aggregates.freshness.empty()) {
+    aggregates_json["freshness"] = FreshnessToJson(aggregates.freshness);
+  }
+  w.Key("aggregates").Value(aggregates_json);
   if (aggregates.sessions) w.Key("sessions").Value(SessionsToJson(*aggregates.sessions));
   w.Key("thresholds").Value(ThresholdsToJson(thresholds));
   w.Key("verdict")

@@ -33,7 +33,8 @@ struct RunContext {
   int repeat = 1;
   int jobs = 1;
   bool resumed = false;
-  std::vector<WorkerWarmup> warmups;  // this invocation's worker start-ups (issue 21)
+  std::vector<WorkerWarmup> warmups;     // this invocation's worker start-ups (issue 21)
+  std::vector<RefreshRecord> refreshes;  // the refreshes for corpus updates (issue 23)
   /// run.json's "grading" (GradingRecord): cache, counts, graders; null without graders.
   nlohmann::json grading;
 };

@@ -23,7 +23,17 @@ namespace {
 
 namespace fs = std::filesystem;
 
-// The reason a doc id is refused before touching the file system, or "" when it is well-formed.
+std::string RealPath(const std::string& path, int* error_number) {
+  char resolved[PATH_MAX];
+  if (realpath(path.c_str(), resolved) == nullptr) {
+    *error_number = errno;
+    return "";
+  }
+  return resolved;
+}
+
+}  // namespace
+
 std::string DocIdProblem(const std::string& id) {
   if (id.empty()) return "is empty";
   if (id.find('\0') != std::string::npos) return "contains a NUL byte";
@@ -44,14 +54,7 @@ std::string DocIdProblem(const std::string& id) {
   return "";
 }
 
-std::string RealPath(const std::string& path, int* error_number) {
-  char resolved[PATH_MAX];
-  if (realpath(path.c_str(), resolved) == nullptr) {
-    *error_number = errno;
-    return "";
-  }
-  return resolved;
-}
+namespace {
 
 size_t ByteOfCodePoint(const Document& doc, int64_t cp) {
   std::string_view text(doc.text);
@@ -94,7 +97,44 @@ bool Corpus::Open(const std::string& dir, std::string* error) {
   return true;
 }
 
+bool Corpus::AddUpdate(const std::string& docs_dir, const std::vector<std::string>& removed,
+                       std::string* error) {
+  UpdateLayer layer;
+  if (!docs_dir.empty()) {
+    layer.docs = std::make_unique<Corpus>();
+    if (!layer.docs->Open(docs_dir, error)) return false;
+  }
+  layer.removed.insert(removed.begin(), removed.end());
+  updates_.push_back(std::move(layer));
+  return true;
+}
+
+bool Corpus::HasOwn(const std::string& doc_id) const {
+  if (!DocIdProblem(doc_id).empty()) return false;
+  struct stat info;
+  return stat((resolved_dir_ + "/" + doc_id).c_str(), &info) == 0 && S_ISREG(info.st_mode);
+}
+
+bool Corpus::Has(const std::string& doc_id) {
+  for (auto layer = updates_.rbegin(); layer != updates_.rend(); ++layer) {
+    if (layer->docs && layer->docs->HasOwn(doc_id)) return true;
+    if (layer->removed.count(doc_id)) return false;
+  }
+  return HasOwn(doc_id);
+}
+
 const Document* Corpus::Get(const std::string& doc_id, std::string* error) {
+  for (auto layer = updates_.rbegin(); layer != updates_.rend(); ++layer) {
+    if (layer->docs && layer->docs->HasOwn(doc_id)) return layer->docs->GetOwn(doc_id, error);
+    if (layer->removed.count(doc_id)) {
+      *error = "doc '" + doc_id + "' was removed by a corpus update";
+      return nullptr;
+    }
+  }
+  return GetOwn(doc_id, error);
+}
+
+const Document* Corpus::GetOwn(const std::string& doc_id, std::string* error) {
   std::string problem = DocIdProblem(doc_id);
   if (!problem.empty()) {
     *error = "doc '" + doc_id + "' " + problem +

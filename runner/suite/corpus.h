@@ -9,6 +9,7 @@
 #include <map>
 #include <memory>
 #include <mutex>
+#include <set>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -77,12 +78,38 @@ class Corpus {
 
   const std::string& dir() const { return dir_; }
 
+  /// Lays a corpus update (issue 23) over the corpus as it stands: Get then takes a doc id from
+  /// the newest update whose `docs_dir` holds it, refuses one the newest update to mention it
+  /// removed, and otherwise falls back to what was there before. `docs_dir` may be empty (the
+  /// update only removes). False with a sentence in *error when `docs_dir` cannot be opened.
+  /// Not thread-safe against Get: lay every update before the first Get.
+  bool AddUpdate(const std::string& docs_dir, const std::vector<std::string>& removed,
+                 std::string* error);
+
+  /// Whether `doc_id` is well-formed and names an existing file under this corpus, updates
+  /// included (the file is not read).
+  bool Has(const std::string& doc_id);
+
  private:
+  /// Whether `doc_id` exists under this corpus's own directory, ignoring updates.
+  bool HasOwn(const std::string& doc_id) const;
+  const Document* GetOwn(const std::string& doc_id, std::string* error);
+
+  struct UpdateLayer {
+    std::unique_ptr<Corpus> docs;  // null when the update only removes
+    std::set<std::string> removed;
+  };
+  std::vector<UpdateLayer> updates_;
+
   std::string dir_;           // as given to Open
   std::string resolved_dir_;  // realpath of dir_, no trailing '/'
   std::mutex mutex_;
   std::map<std::string, std::unique_ptr<Document>> documents_;
 };
+
+/// Why `doc_id` is not a well-formed doc id (a relative path with "/" separators and no ".",
+/// ".." or empty components, no backslash), or "" when it is.
+std::string DocIdProblem(const std::string& doc_id);
 
 /// Locates `quote` in `doc`: the first exact occurrence, or failing that the first occurrence
 /// when runs of Unicode whitespace (White_Space) in both the document and the quote count as a

@@ -19,8 +19,10 @@ const std::vector<std::string> kHttpKeys = {"url",  "method",   "headers",   "re
                                             "rate", "insecure", "ready_url", "stream"};
 // Keys an earlier format used; each is refused with its entry in the new form.
 const std::vector<std::string> kRetiredKeys = {"body", "map"};
-const std::vector<std::string> kCommonKeys = {
-    "timeout", "jobs", "max_response_bytes", "reply", "offsets", "startup_timeout", "price"};
+const std::vector<std::string> kCommonKeys = {"timeout", "jobs",    "max_response_bytes",
+                                              "reply",   "offsets", "startup_timeout",
+                                              "price",   "refresh", "refresh_timeout"};
+const std::vector<std::string> kRefreshHttpKeys = {"url", "method", "headers", "request"};
 
 // The answer of a streamed reply is the text delta of the common chat-completion streaming
 // shape unless `reply: {answer: ...}` names another (issue 21).
@@ -220,6 +222,15 @@ class PipelineReader {
         }
       } else if (key == "insecure") {
         check_.Bool(value, key, &config->insecure);
+      } else if (key == "refresh") {
+        ReadRefresh(value, config);
+      } else if (key == "refresh_timeout") {
+        std::string text;
+        if (!ScalarAsString(value, &text) || !ParseDuration(text, &config->refresh_timeout_ms) ||
+            config->refresh_timeout_ms <= 0) {
+          check_.Error(value, "invalid refresh_timeout " + DescribeValue(value),
+                       "write a duration such as 30m, 90s or 500ms");
+        }
       } else if (key == "timeout") {
         std::string text;
         if (!ScalarAsString(value, &text) || !ParseDuration(text, &config->timeout_ms)) {
@@ -376,6 +387,78 @@ class PipelineReader {
       check_.Error(node, "the program in 'command' is empty");
     }
     config->redacted_config["command"] = redacted;
+  }
+
+  /// `refresh:` as an argv list, or as {url, method, headers, request}.
+  void ReadRefresh(const SourceNode& node, PipelineConfig* config) {
+    RefreshConfig refresh;
+    nlohmann::json& redacted = config->redacted_config["refresh"];
+    const std::string hint =
+        "write an argv list such as [my-indexer, --docs, \"{corpus}\"] or a request such as "
+        "{url: http://127.0.0.1:8088/refresh, request: {corpus: \"{corpus}\"}}";
+    if (node.IsSequence()) {
+      redacted = nlohmann::json::array();
+      if (node.items.empty()) check_.Error(node, "'refresh' is empty", hint);
+      for (const SourceNode& item_node : node.items) {
+        ExpandedString item;
+        if (item_node.IsMapping()) {
+          // `[tool, {corpus}]`: YAML reads an unquoted {corpus} as a mapping.
+          check_.Error(item_node, "an argument of 'refresh' is a mapping",
+                       "quote placeholders: \"{corpus}\"");
+          continue;
+        }
+        if (!ReadExpanded(item_node, "refresh", config, &item)) continue;
+        redacted.push_back(item.redacted);
+        refresh.command.push_back(item);
+      }
+      if (!refresh.command.empty() && refresh.command[0].value.empty()) {
+        check_.Error(node, "the program in 'refresh' is empty");
+      }
+    } else if (node.IsMapping()) {
+      auto keys = check_.Keys(node, kRefreshHttpKeys, "in 'refresh'", "a refresh request");
+      redacted = nlohmann::json::object();
+      if (keys.count("url") == 0) check_.Error(node, "'refresh' has no 'url'", hint);
+      for (const auto& [key, key_entry] : keys) {
+        const SourceNode& value = key_entry->value;
+        if (key == "url") {
+          ExpandedString url;
+          if (!ReadExpanded(value, "url", config, &url)) continue;
+          const bool scheme_known = expand_env_ || url.value.rfind("${", 0) != 0;
+          if (scheme_known && url.value.rfind("http://", 0) != 0 &&
+              url.value.rfind("https://", 0) != 0) {
+            check_.Error(value, "'refresh.url' must start with http:// or https://, got '" +
+                                    url.redacted + "'");
+            continue;
+          }
+          redacted["url"] = url.redacted;
+          refresh.url = url;
+        } else if (key == "method") {
+          std::string method;
+          if (!check_.String(value, key, &method)) continue;
+          std::transform(method.begin(), method.end(), method.begin(),
+                         [](unsigned char c) { return char(std::toupper(c)); });
+          if (!Contains({"GET", "POST", "PUT", "PATCH"}, method)) {
+            check_.Error(value, "unsupported HTTP method '" + value.scalar + "'",
+                         "use GET, POST, PUT or PATCH");
+            continue;
+          }
+          redacted["method"] = method;
+          refresh.method = method;
+        } else if (key == "headers") {
+          ReadExpandedMap(value, "refresh.headers", config, &refresh.headers, &redacted["headers"]);
+        } else if (key == "request") {
+          RequestPart request;
+          if (ReadRequestBlock(value, expand_env_, &check_, &request, &redacted["request"],
+                               &config->secrets)) {
+            refresh.request = std::move(request);
+          }
+        }
+      }
+    } else {
+      check_.Error(node, "'refresh' must be an argv list or a request mapping", hint);
+      return;
+    }
+    config->refresh = std::move(refresh);
   }
 
   void ReadExpandedMap(const SourceNode& node, const std::string& field, PipelineConfig* config,

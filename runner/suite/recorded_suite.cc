@@ -117,6 +117,19 @@ bool ReadRecordedSuiteSettings(const nlohmann::json& record, Suite* suite, std::
   auto corpus = record.find("corpus_dir");
   suite->corpus_dir.reset();
   if (corpus != record.end() && corpus->is_string()) suite->corpus_dir = corpus->get<std::string>();
+  // Corpus updates (issue 23): their ids, so cases can name theirs by index again.
+  suite->updates.clear();
+  if (auto updates = record.find("updates"); updates != record.end() && updates->is_array()) {
+    for (const nlohmann::json& entry : *updates) {
+      RecordFields u(entry, "a run.json update");
+      CorpusUpdate update;
+      u.Text("id", &update.id);
+      u.Texts("docs", &update.docs);
+      u.Texts("remove", &update.remove);
+      if (!u.Done(error)) return false;
+      suite->updates.push_back(std::move(update));
+    }
+  }
 
   // Thresholds are recorded with their outcomes; the limits are what the suite set.
   suite->thresholds = Thresholds();
@@ -189,6 +202,30 @@ bool ReadRecordedCase(const std::string& id, const nlohmann::json& entry, Case* 
   gold->pos.line = static_cast<int>(line);
   *index = static_cast<size_t>(place);
   return true;
+}
+
+}  // namespace plumb
+
+namespace plumb {
+
+bool ResolveRecordedAfter(const nlohmann::json& entry, const Suite& suite, Case* gold,
+                          std::string* error) {
+  auto after = entry.find("after");
+  if (after == entry.end()) return true;
+  for (size_t k = 0; k < suite.updates.size(); ++k) {
+    if (after->is_string() && suite.updates[k].id == after->get<std::string>()) {
+      gold->after = int(k);
+      gold->stale_answers.clear();
+      const nlohmann::json stale = entry.value("stale_answers", nlohmann::json::array());
+      for (const nlohmann::json& s : stale.is_array() ? stale : nlohmann::json::array()) {
+        if (s.is_string()) gold->stale_answers.push_back(s.get<std::string>());
+      }
+      return true;
+    }
+  }
+  *error = "case '" + gold->id + "' in run.json names update " + after->dump() +
+           ", which the run's \"updates\" do not list";
+  return false;
 }
 
 }  // namespace plumb

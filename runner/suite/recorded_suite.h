@@ -30,6 +30,12 @@ inline constexpr size_t kMaxRecordedCases = size_t{1} << 24;
 bool ReadRecordedCase(const std::string& id, const nlohmann::json& entry, Case* gold, size_t* index,
                       std::string* error);
 
+/// A run.json case entry's "after" and "stale_answers" (issue 23) into *gold, by the update
+/// ids `suite` read back (ReadRecordedSuiteSettings). False with a sentence when "after" names
+/// an update the run does not list.
+bool ResolveRecordedAfter(const nlohmann::json& entry, const Suite& suite, Case* gold,
+                          std::string* error);
+
 }  // namespace plumb
 
 #endif  // PLUMB_RUNNER_SUITE_RECORDED_SUITE_H_

@@ -56,6 +56,13 @@ struct Case {
   /// A session's turns are consecutive in Suite::cases, in turn order.
   std::string session;
   int turn = 0;
+  /// `after:` (issue 23): the index in Suite::updates of the corpus update this case's gold
+  /// holds after, or -1 for a case asked of the corpus as the suite names it. Its sources are
+  /// located in the corpus as it stands after that update.
+  int after = -1;
+  /// `stale_answers:`: what the corpus said before the update; an answer that still says it is
+  /// stale. Only on a case with `after`.
+  std::vector<std::string> stale_answers;
   /// Hash of everything that defines the case's gold (question, answers, patterns, number,
   /// sources with their text, tags). Drift pairs cases whose gold_hash is equal.
   std::string gold_hash;
@@ -120,6 +127,19 @@ struct ReplyFields {
   bool given = false;  // the pipeline has a `reply:` block
 };
 
+/// A pipeline's `refresh:` (issue 23): how plumb tells it that the corpus changed, once per
+/// corpus update, before the cases asked after it. Either an argv command (run without a
+/// shell, in the pipeline's cwd and env; it must exit 0) or an HTTP request (it must answer
+/// 2xx). `{corpus}` in an argument, the url or a string of the request becomes the updated
+/// corpus's directory, `{update}` the update's id.
+struct RefreshConfig {
+  std::vector<ExpandedString> command;
+  std::optional<ExpandedString> url;
+  std::string method = "POST";
+  std::map<std::string, ExpandedString> headers;
+  std::optional<RequestPart> request;  // absent: {"corpus": DIR, "update": ID}
+};
+
 enum class PipelineKind { kSubprocess, kHttp };
 /// `stream:` of an HTTP pipeline (issue 21): the reply arrives as server-sent events (`sse`) or as
 /// one JSON object per line (`lines`), read as they arrive; kNone: one body.
@@ -167,6 +187,8 @@ struct PipelineConfig {
   StreamFormat stream = StreamFormat::kNone;
 
   // Both adapters.
+  std::optional<RefreshConfig> refresh;         // `refresh:`
+  int64_t refresh_timeout_ms = 30 * 60 * 1000;  // `refresh_timeout:`
   ReplyFields reply;  // `reply:`; where the values plumb scores are in the reply
   int64_t timeout_ms = 30000;
   /// How long a worker (ready line) or the service (ready_url) may take to become ready.
@@ -218,6 +240,19 @@ struct GraderConfig {
   SourcePos pos;
 };
 
+/// One entry of `updates:` (issue 23): files that replace or add corpus documents (same
+/// relative paths under `docs_dir`) and documents the update removes. Updates apply in file
+/// order, each on top of the ones before it.
+struct CorpusUpdate {
+  std::string id;
+  /// The update's documents directory, resolved against the suite file's directory and inside
+  /// it; empty when the update only removes documents.
+  std::string docs_dir;
+  std::vector<std::string> docs;    // doc ids of the files under docs_dir, sorted
+  std::vector<std::string> remove;  // doc ids removed, as written
+  SourcePos pos;
+};
+
 struct Thresholds {
   std::map<std::string, double> metrics;                      // metric id -> limit
   std::map<std::string, std::map<std::string, double>> tags;  // tag -> metric id -> limit
@@ -239,6 +274,7 @@ struct Suite {
   Thresholds thresholds;
   std::vector<GraderConfig> graders;      // in file order
   std::vector<PipelineConfig> pipelines;  // in file order; the first is the default
+  std::vector<CorpusUpdate> updates;      // `updates:`, in file order (the order they apply)
   std::vector<Case> cases;                // in file order, includes concatenated in place
   /// Every case's id to its index in `cases`; the loader builds it (a suite with a repeated id
   /// does not load).

@@ -36,18 +36,23 @@ namespace fs = std::filesystem;
 const std::vector<std::string> kSuiteKeys = {
     "plumb",       "name",      "corpus",       "normalize",   "lang",           "include",
     "retrieval_k", "case_pass", "correct_from", "min_overlap", "max_error_rate", "floors",
-    "ceilings",    "graders",   "pipelines",    "cases"};
+    "ceilings",    "graders",   "pipelines",    "updates",     "cases"};
 // Top-level keys an earlier format used; each is refused with its entry in the new form.
 const std::vector<std::string> kRetiredSuiteKeys = {"thresholds"};
 const std::vector<std::string> kGraderKeys = {"pipeline", "rubric",           "scale",
                                               "repeat",   "same_as_pipeline", "verdict_pattern",
                                               "labels",   "min_labels",       "min_kappa"};
-const std::vector<std::string> kCaseKeys = {"id",      "question", "answers", "patterns", "number",
-                                            "sources", "tags",     "input",   "turns"};
+const std::vector<std::string> kCaseKeys = {"id",     "question", "answers", "patterns",
+                                            "number", "sources",  "tags",    "input",
+                                            "turns",  "after",    "stale_answers"};
 // A turn of a session (issue 22) holds a case's gold fields; a session holds id, turns, and
 // tags and input that every turn takes (a turn's own input replaces the session's).
 const std::vector<std::string> kTurnKeys = {"question", "answers", "patterns", "number",
                                             "sources",  "tags",    "input"};
+const std::vector<std::string> kUpdateKeys = {"id", "docs", "remove"};
+// More files than this under one update's docs directory is refused (a mistyped `docs:` that
+// names a large tree would otherwise be walked and copied into every run).
+constexpr size_t kMaxUpdateFiles = 100000;
 const std::vector<std::string> kSourceKeys = {"doc", "quote", "start", "end"};
 const std::vector<std::string> kNumberKeys = {"value", "tolerance", "unit"};
 // Metrics scored on each case (recall@K comes on top, one per K in retrieval_k).
@@ -261,6 +266,8 @@ class SuiteLoader {
         corpus_state_ = CorpusState::kBroken;
       }
     }
+    if (auto it = keys.find("updates"); it != keys.end())
+      ReadUpdates(it->second->value, dir, check);
     if (auto it = keys.find("normalize"); it != keys.end()) {
       std::string value;
       if (check->String(it->second->value, "normalize", &value) &&
@@ -1096,6 +1103,23 @@ class SuiteLoader {
     }
 
     if (const SourceNode* number = field("number")) ReadNumber(*number, check, &gold);
+    const SourceNode* stale = field("stale_answers");
+    if (const SourceNode* after = field("after")) {
+      ReadAfter(*after, check, &gold);
+    } else if (stale != nullptr) {
+      check->Error(*stale, "'stale_answers' belongs to a case with 'after'",
+                   "add 'after: UPDATE' (an id from 'updates:') or remove 'stale_answers'");
+    }
+    if (stale != nullptr && gold.after >= 0) {
+      std::vector<const SourceNode*> nodes;
+      check->StringList(*stale, "stale_answers", &gold.stale_answers, &nodes);
+      for (size_t i = 0; i < gold.stale_answers.size(); ++i) {
+        if (IsBlank(gold.stale_answers[i])) {
+          check->Error(*nodes[i], "a stale answer is empty",
+                       "write what the corpus said before the update");
+        }
+      }
+    }
     if (const SourceNode* sources = field("sources")) {
       ReadSources(*sources, check, reported_missing_corpus, &gold);
     }
@@ -1105,6 +1129,192 @@ class SuiteLoader {
     if (const SourceNode* input = field("input")) {
       if (check->Mapping(*input, "input")) gold.input = SourceNodeToJson(*input);
     }
+  }
+
+  void ReadAfter(const SourceNode& node, NodeChecker* check, Case* gold) const {
+    std::string id;
+    if (!check->NonEmptyString(node, "after", &id)) return;
+    std::vector<std::string> ids;
+    for (size_t i = 0; i < suite_->updates.size(); ++i) {
+      if (suite_->updates[i].id == id) {
+        gold->after = int(i);
+        return;
+      }
+      ids.push_back(suite_->updates[i].id);
+    }
+    check->Error(node, "'after' names update '" + id + "', which 'updates:' does not define",
+                 ids.empty() ? "define it under 'updates:' at the top of the suite file"
+                             : DidYouMeanHint(id, ids, "updates"));
+  }
+
+  /// `updates:` (issue 23): each entry's id, its docs directory (inside the suite file's
+  /// directory) and the doc ids it removes; builds update_corpora_ as it goes.
+  void ReadUpdates(const SourceNode& list, const std::string& dir, NodeChecker* check) {
+    if (!check->Sequence(list, "updates", "updates ({id, docs, remove})")) return;
+    std::error_code ec;
+    const fs::path suite_dir = fs::weakly_canonical(dir.empty() ? "." : dir, ec);
+    bool chain_ok = corpus_state_ == CorpusState::kOpen;
+    for (const SourceNode& item : list.items) {
+      auto keys = check->Keys(item, kUpdateKeys, "in an update", "an update");
+      if (!item.IsMapping()) {
+        chain_ok = false;
+        continue;
+      }
+      auto field = [&](const char* key) -> const SourceNode* {
+        auto it = keys.find(key);
+        return it == keys.end() ? nullptr : &it->second->value;
+      };
+      CorpusUpdate update;
+      update.pos = check->Pos(item);
+      bool ok = keys.size() == item.entries.size();
+      if (const SourceNode* id = field("id"); id == nullptr) {
+        check->Error(item, "update has no 'id'", "add 'id: NAME' (letters, digits, '.', '_', '-')");
+        ok = false;
+      } else if (check->NonEmptyString(*id, "id", &update.id)) {
+        if (!IsCaseId(update.id)) {
+          check->Error(*id, "invalid update id '" + update.id + "'",
+                       "use letters, digits, '.', '_', ':' and '-'");
+          ok = false;
+        }
+        for (const CorpusUpdate& earlier : suite_->updates) {
+          if (earlier.id != update.id) continue;
+          check->Error(*id, "update id '" + update.id + "' is used twice",
+                       "the first is at " + FormatPos(earlier.pos));
+          ok = false;
+        }
+      } else {
+        ok = false;
+      }
+      const SourceNode* docs = field("docs");
+      const SourceNode* remove = field("remove");
+      if (docs == nullptr && remove == nullptr) {
+        check->Error(item, "update '" + update.id + "' has neither 'docs' nor 'remove'",
+                     "give 'docs: DIR' (files that replace or add documents) or 'remove: [DOC]'");
+        ok = false;
+      }
+      if (docs != nullptr) ok = ReadUpdateDocs(*docs, dir, suite_dir, check, &update) && ok;
+      std::vector<const SourceNode*> remove_nodes;
+      if (remove != nullptr) {
+        ok = check->StringList(*remove, "remove", &update.remove, &remove_nodes) && ok;
+      }
+      if (corpus_state_ == CorpusState::kNone) {
+        check->Error(item, "this suite has updates but no corpus",
+                     "add 'corpus: DIR' (relative to the suite file) to the suite file");
+        chain_ok = false;
+      }
+      // Each removed doc must be in the corpus as it stands before this update.
+      Corpus* before = suite_->updates.empty()   ? corpus_.get()
+                       : update_corpora_.empty() ? nullptr
+                                                 : update_corpora_.back().get();
+      for (size_t i = 0; i < update.remove.size(); ++i) {
+        const std::string& doc = update.remove[i];
+        if (std::string problem = DocIdProblem(doc); !problem.empty()) {
+          check->Error(*remove_nodes[i], "removed doc '" + doc + "' " + problem,
+                       "name the document by its path relative to the corpus dir");
+          ok = false;
+        } else if (chain_ok && before != nullptr && !before->Has(doc)) {
+          check->Error(*remove_nodes[i],
+                       "update '" + update.id + "' removes '" + doc +
+                           "', which the corpus does not have before it",
+                       "name a document of the corpus (paths relative to the corpus dir)");
+          ok = false;
+        }
+      }
+      chain_ok = chain_ok && ok;
+      std::unique_ptr<Corpus> updated;
+      if (chain_ok) {
+        updated = std::make_unique<Corpus>();
+        std::string error;
+        bool laid = updated->Open(corpus_->dir(), &error);
+        for (size_t i = 0; laid && i <= suite_->updates.size(); ++i) {
+          const CorpusUpdate& u = i < suite_->updates.size() ? suite_->updates[i] : update;
+          laid = updated->AddUpdate(u.docs_dir, u.remove, &error);
+        }
+        if (!laid) {
+          check->Error(item, error);
+          updated.reset();
+          chain_ok = false;
+        }
+      }
+      update_corpora_.push_back(std::move(updated));
+      suite_->updates.push_back(std::move(update));
+    }
+  }
+
+  /// Checks an update's `docs:` directory: inside the suite file's directory (symlinks
+  /// resolved), a directory, and every file under it a regular file inside it whose relative
+  /// path is a valid doc id. Fills update->docs_dir and update->docs.
+  bool ReadUpdateDocs(const SourceNode& node, const std::string& dir, const fs::path& suite_dir,
+                      NodeChecker* check, CorpusUpdate* update) const {
+    std::string value;
+    if (!check->NonEmptyString(node, "docs", &value)) return false;
+    const std::string hint =
+        "an update's files live in a directory under the suite file's directory ('" +
+        (dir.empty() ? std::string(".") : dir) + "'), named relative to it";
+    const fs::path lexical = fs::path(ResolveAgainst(dir, value)).lexically_normal();
+    std::error_code ec;
+    const fs::path real = fs::weakly_canonical(lexical, ec);
+    auto inside = [&](const fs::path& p) {
+      const fs::path rel = p.lexically_relative(suite_dir);
+      return !rel.empty() && *rel.begin() != ".." && !rel.is_absolute();
+    };
+    if (fs::path(value).is_absolute() || ec || !inside(real)) {
+      check->Error(node, "update docs '" + value + "' lie outside the suite file's directory",
+                   hint);
+      return false;
+    }
+    if (!fs::is_directory(real, ec)) {
+      check->Error(node,
+                   "update docs '" + value + "' " +
+                       (fs::exists(real, ec) ? "is not a directory" : "does not exist"),
+                   hint);
+      return false;
+    }
+    update->docs_dir = lexical.string();
+    bool ok = true;
+    fs::recursive_directory_iterator walk(real, ec), end;
+    for (; !ec && walk != end; walk.increment(ec)) {
+      const fs::directory_entry& entry = *walk;
+      const std::string id = entry.path().lexically_relative(real).generic_string();
+      std::error_code entry_ec;
+      if (entry.is_symlink(entry_ec)) {
+        const fs::path target = fs::weakly_canonical(entry.path(), entry_ec);
+        const fs::path rel = target.lexically_relative(real);
+        if (entry_ec || rel.empty() || *rel.begin() == "..") {
+          check->Error(node,
+                       "update docs '" + value + "': '" + id +
+                           "' is a symlink that leads outside the update's directory",
+                       "copy the file into the update's directory instead");
+          ok = false;
+          continue;
+        }
+      }
+      if (entry.is_directory(entry_ec)) continue;
+      if (!entry.is_regular_file(entry_ec)) {
+        check->Error(node, "update docs '" + value + "': '" + id + "' is not a regular file");
+        ok = false;
+        continue;
+      }
+      if (std::string problem = DocIdProblem(id); !problem.empty()) {
+        check->Error(node, "update docs '" + value + "': file '" + id + "' " + problem);
+        ok = false;
+        continue;
+      }
+      update->docs.push_back(id);
+      if (update->docs.size() > kMaxUpdateFiles) {
+        check->Error(node,
+                     "update docs '" + value + "' hold more than " +
+                         std::to_string(kMaxUpdateFiles) + " files",
+                     "name the directory of the update's files only");
+        return false;
+      }
+    }
+    if (ec) {
+      check->Error(node, "cannot read update docs '" + value + "': " + ec.message());
+      return false;
+    }
+    std::sort(update->docs.begin(), update->docs.end());
+    return ok;
   }
 
   static void ReadNumber(const SourceNode& node, NodeChecker* check, Case* gold) {
@@ -1190,10 +1400,21 @@ class SuiteLoader {
         continue;
       }
       if (corpus_state_ == CorpusState::kBroken) continue;
+      // A case asked after an update is located in the corpus as it stands after it.
+      Corpus* corpus = corpus_.get();
+      if (gold->after >= 0) {
+        if (size_t(gold->after) >= update_corpora_.size() || !update_corpora_[size_t(gold->after)])
+          continue;  // the update itself is broken, and was reported
+        corpus = update_corpora_[size_t(gold->after)].get();
+      }
       std::string error;
-      const Document* document = corpus_->Get(span.doc, &error);
+      const Document* document = corpus->Get(span.doc, &error);
       if (document == nullptr) {
-        check->Error(*doc, error);
+        check->Error(*doc, error,
+                     gold->after >= 0 ? "this case's sources are located in the corpus after "
+                                        "update '" +
+                                            suite_->updates[size_t(gold->after)].id + "'"
+                                      : "");
         continue;
       }
       if (quote != nullptr) {
@@ -1204,11 +1425,14 @@ class SuiteLoader {
             gold->sources.push_back(std::move(span));
             continue;
           }
-          check->Error(
-              *quote,
-              "quote not found in '" + span.doc + "': \"" + FirstCodePoints(quote_text, 60) + "\"",
-              "the quote must appear in the document as written (runs of whitespace "
-              "may differ)");
+          check->Error(*quote,
+                       "quote not found in '" + span.doc + "'" +
+                           (gold->after >= 0
+                                ? " after update '" + suite_->updates[size_t(gold->after)].id + "'"
+                                : "") +
+                           ": \"" + FirstCodePoints(quote_text, 60) + "\"",
+                       "the quote must appear in the document as written (runs of whitespace "
+                       "may differ)");
           continue;
         }
         if (occurrences > 1) {
@@ -1283,10 +1507,16 @@ class SuiteLoader {
   /// (the layout nlohmann's dump() gives; doubles in its spelling, so hashes stay stable).
   /// A session's turn also hashes its session id, its number and the questions of the turns
   /// before it (`earlier`): a follow-up means something else once an earlier question changed.
-  static std::string GoldHash(const Case& gold, const std::vector<std::string>& earlier = {}) {
+  /// A case with `after` adds "after" (the update's id) and "stale_answers" in their sorted
+  /// places; a case without keeps the hash it had before updates existed.
+  std::string GoldHash(const Case& gold, const std::vector<std::string>& earlier = {}) const {
     thread_local JsonWriter w;  // one buffer per loading thread, reused case after case
     w.Clear();
-    w.BeginObject().PlainKey("answers").StringArray(gold.answers);
+    w.BeginObject();
+    if (gold.after >= 0 && size_t(gold.after) < suite_->updates.size()) {
+      w.PlainKey("after").String(suite_->updates[size_t(gold.after)].id);
+    }
+    w.PlainKey("answers").StringArray(gold.answers);
     if (gold.turn > 0) w.PlainKey("history").StringArray(earlier);
     w.PlainKey("number");
     if (gold.number) {
@@ -1317,7 +1547,9 @@ class SuiteLoader {
           .String(span.text)
           .EndObject();
     }
-    w.EndArray().PlainKey("tags").StringArray(gold.tags);
+    w.EndArray();
+    if (gold.after >= 0) w.PlainKey("stale_answers").StringArray(gold.stale_answers);
+    w.PlainKey("tags").StringArray(gold.tags);
     if (gold.turn > 0) w.PlainKey("turn").Int(gold.turn);
     w.EndObject();
     return Sha256Hex("plumb-gold-v1\n", w.text());
@@ -1325,7 +1557,7 @@ class SuiteLoader {
 
   void Finish() {
     std::vector<Case>& cases = suite_->cases;
-    ForEachChunk(cases.size(), kCasesPerChunk, [&cases](size_t, size_t begin, size_t end) {
+    ForEachChunk(cases.size(), kCasesPerChunk, [this, &cases](size_t, size_t begin, size_t end) {
       for (size_t i = begin; i < end; ++i) {
         if (cases[i].gold_hash.empty()) cases[i].gold_hash = GoldHash(cases[i]);
       }
@@ -1389,6 +1621,9 @@ class SuiteLoader {
   size_t first_warning_;
   std::unique_ptr<Corpus> corpus_;
   CorpusState corpus_state_ = CorpusState::kNone;
+  /// Per entry of suite_->updates: the corpus with it and every update before it laid over
+  /// corpus_ (null when that update or one before it is broken).
+  std::vector<std::unique_ptr<Corpus>> update_corpora_;
   bool reported_missing_corpus_ = false;
   std::vector<std::pair<std::string, std::string>> include_chain_;  // (canonical, as named)
   /// Where each case's id is written (line, column), by case index: its file is the case's.

@@ -102,7 +102,8 @@ TEST_CASE("unknown key with nothing close: the hint lists the valid keys") {
   // order.
   CHECK(d.hint ==
         "valid keys are: plumb, name, corpus, normalize, lang, include, retrieval_k, case_pass, "
-        "correct_from, min_overlap, max_error_rate, floors, ceilings, graders, pipelines, cases");
+        "correct_from, min_overlap, max_error_rate, floors, ceilings, graders, pipelines, "
+        "updates, cases");
 }
 
 TEST_CASE("wrong type: expected a list of strings, got a mapping") {
