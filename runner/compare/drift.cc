@@ -538,6 +538,15 @@ void CompareStreamAndUsage(const PairedCases& paired, const RunCases& base, cons
   }
 }
 
+/// `stale` (issue 23) is the one per-case metric where a rise is worse: its verdict is turned
+/// round, so more stale answers read "regressed".
+Verdict Oriented(const std::string& metric, Verdict verdict) {
+  if (metric != "stale") return verdict;
+  if (verdict == Verdict::kImproved) return Verdict::kRegressed;
+  if (verdict == Verdict::kRegressed) return Verdict::kImproved;
+  return verdict;
+}
+
 /// Refresh times per update in both runs (see RefreshDrift).
 std::vector<RefreshDrift> CompareRefreshes(const RunValues& base, const RunValues& cand) {
   std::vector<RefreshDrift> out;
@@ -590,6 +599,7 @@ MetricDrift FinishMetric(const PendingMetric& p, const PairedCases& paired,
   d.needed_more = std::max<int64_t>(0, metrics::FewestPairsForSignificance(kDriftAlpha) - d.n);
   d.verdict = d.needed_more > 0 ? Verdict::kTooFewCases
                                 : DecideVerdict(d.delta, d.interval, options.min_effect, d.p_value);
+  d.verdict = Oriented(d.metric, d.verdict);
   d.gated = std::find(options.gate.begin(), options.gate.end(), d.metric) != options.gate.end();
   return d;
 }
@@ -610,7 +620,8 @@ void JudgeGatedFamily(const DriftOptions& options, DriftReport* report) {
   }
   for (MetricDrift& d : report->metrics) {
     if (d.verdict == Verdict::kTooFewCases) continue;
-    d.verdict = DecideVerdict(d.delta, d.interval, options.min_effect, d.p_holm);
+    d.verdict =
+        Oriented(d.metric, DecideVerdict(d.delta, d.interval, options.min_effect, d.p_holm));
   }
   std::string names;
   for (const std::string& m : report->family) names += (names.empty() ? "" : ", ") + m;
@@ -664,7 +675,7 @@ void AdjustTags(const std::vector<std::string>& names, double min_effect,
     for (size_t k = 0; k < family.size(); ++k) {
       MetricDrift& d = *family[k];
       d.p_holm = adjusted[k];
-      d.verdict = DecideVerdict(d.delta, d.interval, min_effect, d.p_holm);
+      d.verdict = Oriented(d.metric, DecideVerdict(d.delta, d.interval, min_effect, d.p_holm));
     }
   }
 }

@@ -2,8 +2,10 @@
 // stands after their update, refusals at file:line:column, and `plumb run` with and without a
 // pipeline's `refresh:` (the demo pipeline, a real BM25 program, in per-case mode here, so it
 // reads its --docs afresh for every case and never hears of the update).
+#include <signal.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <catch2/catch.hpp>
 #include <filesystem>
 #include <map>
@@ -251,4 +253,81 @@ TEST_CASE("the winter demo reports refresh time and fresh and stale rates for bo
       CHECK(update["stale"]["mean"] == 0.0);
     }
   }
+}
+
+TEST_CASE("shards refresh once each for the updates they have cases after, and merge keeps both") {
+  const std::string dir = MakeTempDir();
+  WriteCorpusAndUpdate(dir);
+  const std::string pipeline = kFixtures + "demo-pipeline";
+  REQUIRE(symlink((dir + "/docs").c_str(), (dir + "/live").c_str()) == 0);
+  WriteFile(dir + "/s.yaml", std::string(kSuiteHead) + "pipelines:\n  refreshed:\n    command: [" +
+                                 pipeline + ", --docs, " + dir +
+                                 "/live, --top-k, '3']\n    mode: per-case\n"
+                                 "    refresh: [/bin/sh, -c, 'echo \"$1\" >> " +
+                                 dir + "/refreshes.txt', sh, '{corpus}']\n" + kCases);
+  int with_after = 0;
+  for (const char* shard : {"1/2", "2/2"}) {
+    const std::string out = dir + "/shard" + std::string(1, shard[0]);
+    Result r = Plumb({"run", dir + "/s.yaml", "--shard", shard, "--out", out}, dir);
+    INFO(r.out + r.err);
+    REQUIRE((r.code == 0 || r.code == 1));
+    const nlohmann::json run = nlohmann::json::parse(ReadFile(out + "/run.json"));
+    bool after = false;
+    for (const auto& [id, entry] : run["cases"].items()) after = after || entry.contains("after");
+    with_after += after ? 1 : 0;
+    // A shard refreshes exactly when it has a case after the update.
+    CHECK(run["aggregates"].contains("freshness") == after);
+  }
+  // One refresh line per shard that had after cases.
+  const std::string log = ReadFile(dir + "/refreshes.txt");
+  CHECK(std::count(log.begin(), log.end(), '\n') == with_after);
+  Result r = Plumb({"merge", dir + "/shard1", dir + "/shard2", "--out", dir + "/merged"}, dir);
+  INFO(r.out + r.err);
+  REQUIRE((r.code == 0 || r.code == 1));
+  const nlohmann::json merged = nlohmann::json::parse(ReadFile(dir + "/merged/run.json"));
+  const nlohmann::json& update = merged["aggregates"]["freshness"]["updates"][0];
+  CHECK(update["cases"] == 2);
+  CHECK(update["refreshes"].size() == size_t(with_after));
+  for (const nlohmann::json& refresh : update["refreshes"]) {
+    CHECK(refresh["shard"].get<std::string>().substr(1) == "/2");
+  }
+}
+
+TEST_CASE("resume after an interrupted refresh runs the refresh again before the after cases") {
+  const std::string dir = MakeTempDir();
+  WriteCorpusAndUpdate(dir);
+  const std::string pipeline = kFixtures + "demo-pipeline";
+  REQUIRE(symlink((dir + "/docs").c_str(), (dir + "/live").c_str()) == 0);
+  // The first refresh hangs (while the file `slow` exists) and is interrupted; the second
+  // moves the pipeline to the updated corpus.
+  WriteFile(dir + "/slow", "");
+  WriteFile(dir + "/s.yaml",
+            std::string(kSuiteHead) + "pipelines:\n  refreshed:\n    command: [" + pipeline +
+                ", --docs, " + dir + "/live, --top-k, '3']\n    mode: per-case\n" +
+                "    refresh: [/bin/sh, -c, 'if [ -f " + dir + "/slow ]; then rm " + dir +
+                "/slow; sleep 60; fi; echo \"$1\" >> " + dir + "/refreshes.txt; ln -sfn \"$1\" " +
+                dir + "/live', sh, '{corpus}']\n" + kCases);
+  Process p = Start({"run", dir + "/s.yaml", "--out", dir + "/run"}, dir);
+  for (int i = 0; i < 600 && ReadFile(p.err_path).find("refreshing") == std::string::npos; ++i) {
+    usleep(50 * 1000);
+  }
+  usleep(200 * 1000);  // the refresh command is under way
+  REQUIRE(kill(p.pid, SIGINT) == 0);
+  CHECK(Wait(p) == 130);
+  // The case before the update is journaled; no after case ran, no refresh completed.
+  const std::vector<nlohmann::json> first = ReadJournal(dir + "/run/cases.jsonl");
+  REQUIRE(first.size() == 1);
+  CHECK(first[0]["id"] == "boarding");
+  CHECK(!std::filesystem::exists(dir + "/refreshes.txt"));
+
+  Result r = Plumb({"run", dir + "/s.yaml", "--out", dir + "/run", "--resume"}, dir);
+  INFO(r.out + r.err);
+  REQUIRE((r.code == 0 || r.code == 1));
+  CHECK(ReadFile(dir + "/refreshes.txt") == dir + "/run/corpus/winter\n");
+  const nlohmann::json run = nlohmann::json::parse(ReadFile(dir + "/run/run.json"));
+  const nlohmann::json& update = run["aggregates"]["freshness"]["updates"][0];
+  CHECK(update["refreshes"].size() == 1);
+  CHECK(update["refreshes"][0]["ok"] == true);
+  CHECK(update["fresh"]["mean"] == 1.0);
+  CHECK(update["stale"]["mean"] == 0.0);
 }
